@@ -1,0 +1,1 @@
+"""Stage physics, resistor networks and the design solver. Knows nothing of files or screens."""

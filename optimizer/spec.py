@@ -1,0 +1,69 @@
+"""The specification a design must meet, and the checks that reject nonsense."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from .stage import TOPOLOGIES
+
+
+@dataclass(frozen=True)
+class Spec:
+    """What the user asks for.  SI units: V, Ω, Hz, A, °C; swing in V peak-to-peak at the load.
+
+    gain is a magnitude (a common-emitter design reports a negative gain);
+    gain_tol a fraction of it (0.05 = ±5 %).
+    """
+
+    topology: str = "common-emitter"
+    gain: float = 10.0
+    gain_tol: float = 0.05
+    supply_v: float = 12.0
+    load_ohms: float = 22e3
+    source_ohms: float = 1e3
+    swing_pp: float = 1.0
+    low_cut_hz: float = 100.0
+    min_rin_ohms: float = 0.0
+    max_supply_a: float | None = None
+    temp_range_c: tuple[float, float] = (0.0, 50.0)
+    max_parts_per_position: int = 3
+    prefer_tight: bool = False
+
+    def problems(self) -> list[str]:
+        """Every reason the spec cannot be meant, as messages naming the option."""
+        out = []
+        if self.topology not in TOPOLOGIES:
+            out.append(f"--topology: {self.topology!r} is not one of {', '.join(TOPOLOGIES)}")
+        if not self.supply_v > 0:
+            out.append(f"--supply: {self.supply_v:g} V; the supply must be positive")
+        elif self.supply_v > 60:
+            out.append(f"--supply: {self.supply_v:g} V is beyond what small-signal stages are designed for here (≤ 60 V)")
+        if not self.gain > 0:
+            out.append(f"--gain: {self.gain:g}; the gain is a magnitude and must be above 0")
+        if self.topology == "emitter-follower" and self.gain > 1:
+            out.append(f"--gain: {self.gain:g}; an emitter follower's gain is below 1")
+        if not 0 < self.gain_tol < 1:
+            out.append(f"--gain-tol: {self.gain_tol:g}; expected a fraction between 0 and 1 (0.05 = ±5 %)")
+        if not self.load_ohms > 0:
+            out.append(f"--load: {self.load_ohms:g} Ω; the load must be positive")
+        if not self.source_ohms >= 0:
+            out.append(f"--source: {self.source_ohms:g} Ω; the source resistance cannot be negative")
+        if not self.swing_pp >= 0:
+            out.append(f"--swing: {self.swing_pp:g} V; the swing cannot be negative")
+        elif self.supply_v > 0 and self.swing_pp >= self.supply_v:
+            out.append(
+                f"--swing: {self.swing_pp:g} V p-p cannot fit on a {self.supply_v:g} V supply "
+                "(a single-supply stage swings less than its supply)"
+            )
+        if not self.low_cut_hz > 0:
+            out.append(f"--low-cut: {self.low_cut_hz:g} Hz; expected a frequency above 0")
+        if not self.min_rin_ohms >= 0:
+            out.append(f"--min-rin: {self.min_rin_ohms:g} Ω cannot be negative")
+        if self.max_supply_a is not None and not self.max_supply_a > 0:
+            out.append(f"--max-current: {self.max_supply_a:g} A must be positive")
+        lo, hi = self.temp_range_c
+        if not lo <= hi:
+            out.append(f"--temp-range: {lo:g}..{hi:g} °C is empty")
+        if not 1 <= self.max_parts_per_position <= 3:
+            out.append(f"--depth: {self.max_parts_per_position}; expected 1, 2 or 3 parts per position")
+        return out

@@ -1,0 +1,1 @@
+"""Screens of the terminal app, one per module."""
