@@ -1,0 +1,29 @@
+"""What is wrong with a drawer file, placed by file, line and column."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+
+@dataclass(frozen=True)
+class Problem:
+    """One finding.  `line` is the physical line (header = 1), `column` the 1-based cell number.
+
+    `text` is the offending cell text ("" when the finding is about a whole line or file),
+    `severity` "error" (the line is left out of the inventory) or "warning" (it is used).
+    """
+
+    path: str
+    line: int
+    column: int
+    text: str
+    message: str
+    severity: str = "error"
+
+    def __str__(self) -> str:
+        tag = "warning: " if self.severity == "warning" else ""
+        return f"{self.path}:{self.line}:{self.column}: {tag}{self.message}"
+
+    @property
+    def is_error(self) -> bool:
+        return self.severity == "error"

@@ -1,0 +1,140 @@
+"""One drawer line checked and read into a `Part`, with every problem it has.
+
+The columns are a fixed contract (see DEVELOPERS.md).  Defaults follow common
+stock: 5 % for resistors, 20 % for capacitors, 0.25 W resistor rating (common
+practice, no source).  Cells that do not apply to a line's kind are ignored.
+"""
+
+from __future__ import annotations
+
+import re
+from collections.abc import Callable
+
+from . import values
+from .parts import DIELECTRICS, KINDS, Part
+from .problems import Problem
+
+COLUMNS = (
+    "kind", "value", "qty", "tolerance", "power", "voltage", "dielectric", "part", "polarity",
+    "hfe_min", "hfe_max", "vceo", "ic_max", "pd_max", "location", "notes",
+)
+REQUIRED = ("kind", "value", "qty")
+DEFAULT_TOLERANCE = {"resistor": 0.05, "capacitor": 0.20}
+DEFAULT_POWER_W = 0.25
+_QTY = re.compile(r"[0-9]{1,9}")
+_DECIMAL_COMMA = re.compile(r"(?<=[0-9]),(?=[0-9])")
+
+
+class RowReader:
+    """Reads the cells of one record; collects problems instead of raising."""
+
+    def __init__(self, path: str, line: int, cells: list[str], columns: dict[str, int],
+                 decimal_comma: bool) -> None:
+        self.path, self.line, self.cells, self.columns = path, line, cells, columns
+        self.decimal_comma = decimal_comma
+        self.problems: list[Problem] = []
+
+    def text(self, name: str) -> str:
+        i = self.columns.get(name)
+        return self.cells[i].strip() if i is not None and i < len(self.cells) else ""
+
+    def column(self, name: str) -> int:
+        i = self.columns.get(name)
+        return i + 1 if i is not None else len(self.columns) + 1
+
+    def report(self, name: str, message: str, severity: str = "error") -> None:
+        self.problems.append(
+            Problem(self.path, self.line, self.column(name), self.text(name), message, severity)
+        )
+
+    def value(self, name: str, parse: Callable[[str], float], default: float | None = None,
+              *, positive: bool = True) -> float | None:
+        """A parsed cell, `default` when empty, None (and a problem) when wrong."""
+        raw = self.text(name)
+        if not raw:
+            return default
+        if self.decimal_comma:
+            raw = _DECIMAL_COMMA.sub(".", raw)
+        try:
+            number = parse(raw)
+        except ValueError as exc:  # ValueFormatError and anything else a parser refuses with
+            self.report(name, f"{name} {exc}")
+            return None
+        if positive and not number > 0:
+            self.report(name, f'{name} "{self.text(name)}" must be more than 0')
+            return None
+        return number
+
+
+def read_row(reader: RowReader) -> Part | None:
+    """The Part on this line, or None when the line has an error (then reader.problems says why)."""
+    kind = reader.text("kind").lower()
+    if kind not in KINDS:
+        what = f'kind "{reader.text("kind")}" is unknown' if kind else "kind is empty"
+        reader.report("kind", f"{what} (expected resistor, capacitor or transistor)")
+    qty_text = reader.text("qty")
+    qty = int(qty_text) if _QTY.fullmatch(qty_text) else None
+    if qty is None:
+        what = f'qty "{qty_text}" is not a count' if qty_text else "qty is empty"
+        reader.report("qty", f"{what} (expected a whole number, 0 or more)")
+    if kind not in KINDS:
+        return None
+    common = dict(
+        line=reader.line, kind=kind, qty=qty or 0, location=reader.text("location"),
+        notes=reader.text("notes"), part=reader.text("part") or None,
+    )
+    fields = _TRANSISTOR(reader) if kind == "transistor" else _PASSIVE(reader, kind)
+    if any(p.is_error for p in reader.problems) or fields is None:
+        return None
+    return Part(**common, **fields)
+
+
+def _PASSIVE(r: RowReader, kind: str) -> dict | None:
+    if kind == "resistor":
+        parse, example, unit = values.parse_resistance, "4k7", "resistance"
+    else:
+        parse, example, unit = values.parse_capacitance, "100n", "capacitance"
+    value = r.value("value", parse, positive=False)
+    if not r.text("value"):
+        r.report("value", f"value is empty (a {kind} needs its {unit}, e.g. {example})")
+    elif value is not None and value < 0:
+        r.report("value", f'value "{r.text("value")}" cannot be negative')
+    tolerance = r.value("tolerance", values.parse_tolerance, DEFAULT_TOLERANCE[kind])
+    if kind == "resistor":
+        power = r.value("power", values.parse_power, DEFAULT_POWER_W)
+        return dict(value=value, tolerance=tolerance, power_w=power)
+    voltage = r.value("voltage", values.parse_voltage)
+    dielectric = r.text("dielectric").lower() or None
+    if dielectric is not None and dielectric not in DIELECTRICS:
+        r.report("dielectric", f'dielectric "{r.text("dielectric")}" is unknown '
+                 f"(expected one of {', '.join(DIELECTRICS)})")
+    elif dielectric in ("electrolytic", "tantalum") and not r.text("voltage"):
+        r.report("voltage", f"a {dielectric} capacitor without a voltage rating will not be used "
+                 "where a rating is needed", "warning")
+    return dict(value=value, tolerance=tolerance, voltage_v=voltage, dielectric=dielectric)
+
+
+def _TRANSISTOR(r: RowReader) -> dict | None:
+    polarity = r.text("polarity").upper() or None
+    if polarity not in ("NPN", "PNP"):
+        what = f'polarity "{r.text("polarity")}" is unknown' if polarity else "polarity is empty"
+        r.report("polarity", f"{what} (a transistor needs NPN or PNP)")
+    if r.text("value"):
+        r.report("value", "value is ignored for transistors (the type goes in part)", "warning")
+    hfe_min = r.value("hfe_min", values.parse_number)
+    hfe_max = r.value("hfe_max", values.parse_number)
+    if hfe_min is not None and hfe_max is not None and hfe_min > hfe_max:
+        r.report("hfe_max", f"hfe_min {r.text('hfe_min')} is more than hfe_max {r.text('hfe_max')}")
+    elif not r.text("hfe_min") or not r.text("hfe_max"):
+        r.report("hfe_min", "no hfe_min/hfe_max: designs need the hFE spread to use this transistor",
+                 "warning")
+    return dict(
+        value=None, polarity=polarity, hfe_min=hfe_min, hfe_max=hfe_max,
+        vceo_v=r.value("vceo", values.parse_voltage), ic_max_a=r.value("ic_max", values.parse_current),
+        pd_max_w=r.value("pd_max", values.parse_power),
+    )
+
+
+def identity_key(identity: tuple) -> tuple:
+    """Part.identity with floats rounded to 12 digits, so 4k7 and 4700 match whatever the rounding."""
+    return tuple(float(f"{x:.12g}") if isinstance(x, float) else x for x in identity)

@@ -1,0 +1,244 @@
+"""Component values as people write them: RKM code (IEC 60062) and SI notation, both ways.
+
+Accepted spellings, and the decisions behind the doubtful ones:
+
+* RKM code: the letter stands where the decimal point goes, ``4k7`` = 4.7 kΩ, ``2R2`` = 2.2 Ω,
+  ``6V3`` = 6.3 V.  A leading letter is the standard's sub-unit form: ``R47`` = 0.47 Ω, ``p68`` =
+  0.68 pF, and by the same rule ``k47`` = 470 Ω.
+* SI: ``4.7k``, ``4.7 kΩ``, ``4.7kohm``, ``100 nF``, ``0.1 uF``, ``250mW``.  ``µ`` (U+00B5),
+  ``μ`` (U+03BC) and ``u`` all mean micro; ``K`` is tolerated for kilo.
+* Resistors: ``m`` is milli (``100m`` = 0.1 Ω), ``M`` mega.  ``0``/``0R`` (a zero-ohm link) is allowed.
+* Capacitors: a bare number (``220``) is refused: is it pF or µF?  Add p, n, u or µ.  ``M`` is
+  refused too (old "MF" meant microfarad).  ``1m`` = 1 mF, ``1F`` = 1 F.
+* Voltage, current, power: a bare number is in V, A or W.  Power also takes ``1/4W``, ``1/8 W``.
+* Tolerance: ``5%``, ``±1%``, ``+/-1 %``; a bare number is in percent (``1`` = 1 %, ``0.05`` = 0.05 %),
+  because that is how the column is written; returned as a fraction (0.05 for 5 %).
+* No exponent notation except in `parse_number`: some shops write ``4E7`` for 4.7 Ω, which an
+  exponent reading would turn into 47 MΩ.
+
+Bad text raises `ValueFormatError` and nothing else (non-strings raise `TypeError`).
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from dataclasses import dataclass, field
+from decimal import Decimal
+
+__all__ = [
+    "ValueFormatError", "parse_resistance", "parse_capacitance", "parse_voltage", "parse_current",
+    "parse_power", "parse_tolerance", "parse_number", "format_resistance", "format_capacitance",
+    "format_si",
+]
+
+
+class ValueFormatError(ValueError):
+    """Text that is not a value of the asked kind.  `.text` is the input, `.expected` the hint."""
+
+    def __init__(self, text: str, noun: str, expected: str) -> None:
+        self.text = text
+        self.expected = expected
+        super().__init__(f'"{_show(text)}" is not {noun} ({expected})')
+
+
+def _show(text: str) -> str:
+    """The offending text for a one-line message: control characters escaped, long text cut."""
+    shown = "".join(c if c.isprintable() else repr(c)[1:-1] for c in text)
+    return shown if len(shown) <= 40 else shown[:37] + "..."
+
+
+# Both micro signs become "u" before matching; the ohm sign U+2126 becomes the letter Ω.
+_FOLD = str.maketrans({"\u00b5": "u", "\u03bc": "u", "\u2126": "\u03a9"})
+# ASCII digits only: `\d` and float() would also take other scripts' digits.
+_NUM = r"[0-9]+(?:\.[0-9]*)?|\.[0-9]+"
+
+
+@dataclass(frozen=True)
+class _Kind:
+    noun: str
+    expected: str
+    letters: dict[str, int]        # letter -> power of ten: SI prefix after a number, decimal point in RKM
+    markers: str                   # letters that are the unit itself (R, V, A, W, F): no unit after them
+    unit: str                      # regex for the unit spelling
+    bare_hint: str | None = None   # set when a number without letter or unit is refused
+    needs_letter: str = ""         # unit spellings accepted only after a multiplier letter
+    zero_ok: bool = False
+    si: re.Pattern = field(init=False, repr=False, compare=False)
+    rkm: re.Pattern = field(init=False, repr=False, compare=False)
+
+    def __post_init__(self) -> None:
+        letters = "|".join(re.escape(k) for k in self.letters)
+        unit = rf"(?:\s*(?P<unit>{self.unit}))?"
+        object.__setattr__(self, "si", re.compile(rf"(?P<num>{_NUM})(?:\s*(?P<pre>{letters}))?{unit}"))
+        object.__setattr__(
+            self, "rkm", re.compile(rf"(?P<int>[0-9]*)(?P<pre>{letters})(?P<frac>[0-9]+){unit}")
+        )
+
+    def parse(self, text: str) -> float:
+        if not isinstance(text, str):
+            raise TypeError(f"expected text, got {type(text).__name__}")
+        s = text.strip().translate(_FOLD)
+        m = self.si.fullmatch(s)
+        if m:
+            number = m["num"]
+        else:
+            m = self.rkm.fullmatch(s)
+            if not m:
+                raise ValueFormatError(text, self.noun, self.expected)
+            number = f"{m['int'] or '0'}.{m['frac']}"
+        pre, unit = m["pre"], m["unit"]
+        if pre in self.markers.split() and unit:      # "4R7Ω", "6V3V", "1FF"
+            raise ValueFormatError(text, self.noun, self.expected)
+        if unit and unit in self.needs_letter.split() and not pre:   # "10f": femto or farad?
+            raise ValueFormatError(text, self.noun, self.expected)
+        if not pre and not unit and self.bare_hint:
+            raise ValueFormatError(text, self.noun, self.bare_hint)
+        # Decimal keeps "100n" at the float nearest 1e-7, not 100 * 1e-9 = 1.0000000000000001e-07.
+        value = float(Decimal(number).scaleb(self.letters.get(pre or "", 0)))
+        if not math.isfinite(value) or (value == 0.0 and not self.zero_ok):
+            raise ValueFormatError(text, self.noun, self.expected)
+        return value
+
+
+_RESISTANCE = _Kind(
+    "a resistance", "expected e.g. 4k7, 4.7k, 4700",
+    {"R": 0, "r": 0, "m": -3, "k": 3, "K": 3, "M": 6, "G": 9},
+    "R r", r"\u03a9|(?i:ohms?)", zero_ok=True,
+)
+_CAPACITANCE = _Kind(
+    "a capacitance", "expected e.g. 100n, 4u7, 47p, 10uF",
+    {"p": -12, "P": -12, "n": -9, "N": -9, "u": -6, "U": -6, "m": -3, "F": 0},
+    "F", r"F|f", bare_hint="add a unit letter p, n, u or µ, e.g. 220p or 220u", needs_letter="f",
+)
+_VOLTAGE = _Kind(
+    "a voltage", "expected e.g. 25V, 6V3, 6.3V, 50",
+    {"m": -3, "k": 3, "K": 3, "V": 0, "v": 0}, "V v", r"V|v",
+)
+_CURRENT = _Kind(
+    "a current", "expected e.g. 200mA, 0.2A, 200m, 100uA",
+    {"n": -9, "u": -6, "U": -6, "m": -3, "A": 0}, "A", r"A",
+)
+_POWER = _Kind(
+    "a power", "expected e.g. 0.25W, 1/4W, 250mW, 0.25",
+    {"m": -3, "W": 0, "w": 0}, "W w", r"W|w",
+)
+_FRACTION = re.compile(r"([0-9]{1,6})\s*/\s*([0-9]{1,6})(?:\s*[Ww])?")
+_TOLERANCE = re.compile(rf"(?:±|\+\s*/\s*-|\+-)?\s*({_NUM})\s*%?")
+_PLAIN = re.compile(rf"(?:{_NUM})(?:[eE][+-]?[0-9]+)?")
+
+
+def parse_resistance(text: str) -> float:
+    """Resistance in Ω from ``4k7``, ``4.7k``, ``4700``, ``2R2``, ``R47``, ``1M5``, ``4.7 kΩ``, ``100m``."""
+    return _RESISTANCE.parse(text)
+
+
+def parse_capacitance(text: str) -> float:
+    """Capacitance in F from ``100n``, ``0.1u``, ``4u7``, ``10µ``, ``47p``, ``10uF``, ``1m``, ``1F``."""
+    return _CAPACITANCE.parse(text)
+
+
+def parse_voltage(text: str) -> float:
+    """Voltage in V from ``25V``, ``6V3``, ``6.3V``, ``50``, ``1kV``."""
+    return _VOLTAGE.parse(text)
+
+
+def parse_current(text: str) -> float:
+    """Current in A from ``200mA``, ``0.2A``, ``200m``, ``100uA``."""
+    return _CURRENT.parse(text)
+
+
+def parse_power(text: str) -> float:
+    """Power in W from ``0.25W``, ``1/4W``, ``1/8 W``, ``250mW``, ``0.25``, ``2W``."""
+    if isinstance(text, str):
+        m = _FRACTION.fullmatch(text.strip())
+        if m:
+            num, den = int(m[1]), int(m[2])
+            if num == 0 or den == 0:
+                raise ValueFormatError(text, _POWER.noun, _POWER.expected)
+            return num / den
+    return _POWER.parse(text)
+
+
+def parse_tolerance(text: str) -> float:
+    """Tolerance as a fraction from ``5%``, ``±1%``, ``+/-1 %``, ``0.5%``; a bare number is percent."""
+    if not isinstance(text, str):
+        raise TypeError(f"expected text, got {type(text).__name__}")
+    m = _TOLERANCE.fullmatch(text.strip())
+    pct = float(m[1]) if m else math.nan
+    if not 0.0 < pct < 100.0:
+        raise ValueFormatError(text, "a tolerance", "expected e.g. 5%, ±1%, 0.5%")
+    return pct / 100.0
+
+
+def parse_number(text: str) -> float:
+    """A plain non-negative number such as an hFE: ``100``, ``1e2``, ``0.5``."""
+    if not isinstance(text, str):
+        raise TypeError(f"expected text, got {type(text).__name__}")
+    s = text.strip()
+    value = float(s) if _PLAIN.fullmatch(s) else math.nan
+    if not math.isfinite(value):
+        raise ValueFormatError(text, "a number", "expected e.g. 100, 1e2")
+    return value
+
+
+# ---- formatting -------------------------------------------------------------------------------
+
+def _rounded(value: float, digits: int) -> Decimal:
+    if not isinstance(digits, int) or digits < 1:
+        raise ValueError(f"digits must be a positive integer, got {digits!r}")
+    if not math.isfinite(value) or value < 0:
+        raise ValueError(f"cannot format {value!r}: need a finite value >= 0")
+    return Decimal(f"{value:.{digits - 1}e}")
+
+
+def _mantissa(d: Decimal, exp: int) -> str:
+    """`d` / 10**exp written out without exponent or trailing zeros: 4.70E+3, 3 -> "4.7"."""
+    return format(d.scaleb(-exp).normalize(), "f")
+
+
+def _rkm(d: Decimal, groups: tuple[tuple[float, int, str], ...]) -> str:
+    """Write `d` in RKM code, taking the first group whose lower bound it reaches."""
+    for lower, exp, letter in groups:
+        if d >= Decimal(repr(lower)):
+            whole, _, frac = _mantissa(d, exp).partition(".")
+            return f"{whole}{letter}{frac}"
+    raise AssertionError("the last group has lower bound 0")
+
+
+_R_GROUPS = ((1e9, 9, "G"), (1e6, 6, "M"), (1e3, 3, "k"), (0.1, 0, "R"), (0.0, -3, "m"))
+_C_GROUPS = ((1.0, 0, "F"), (0.1, -3, "m"), (1e-6, -6, "u"), (1e-9, -9, "n"), (0.0, -12, "p"))
+
+
+def format_resistance(ohms: float, digits: int = 3) -> str:
+    """RKM spelling of a resistance in Ω, rounded to `digits` significant digits.
+
+    4700 -> "4k7", 2.2 -> "2R2", 0.47 -> "0R47", 10 -> "10R" (the R marks the unit in RKM code),
+    1.5e6 -> "1M5", 0.047 -> "47m".
+    """
+    d = _rounded(ohms, digits)
+    return "0R" if d == 0 else _rkm(d, _R_GROUPS)
+
+
+def format_capacitance(farads: float, digits: int = 3) -> str:
+    """RKM spelling of a capacitance in F: 100e-9 -> "100n", 4.7e-6 -> "4u7", 0.47e-12 -> "0p47".
+
+    Microfarads run up to 99 999u (4700u, as electrolytics are marked) before switching to m.
+    """
+    d = _rounded(farads, digits)
+    if d == 0:
+        raise ValueError("cannot format a capacitance of 0 F")
+    return _rkm(d, _C_GROUPS)
+
+
+_SI_PREFIXES = {-15: "f", -12: "p", -9: "n", -6: "µ", -3: "m", 0: "", 3: "k", 6: "M", 9: "G", 12: "T"}
+
+
+def format_si(value: float, unit: str, digits: int = 3) -> str:
+    """SI spelling with a space: (4700, "Ω") -> "4.7 kΩ", (1e-7, "F") -> "100 nF", (0.25, "W") -> "250 mW"."""
+    sign = "-" if value < 0 else ""
+    d = _rounded(abs(value), digits)
+    if d == 0:
+        return f"0 {unit}"
+    exp = min(max(3 * (d.adjusted() // 3), -15), 12)
+    return f"{sign}{_mantissa(d, exp)} {_SI_PREFIXES[exp]}{unit}"

@@ -1,0 +1,39 @@
+"""Shared test helpers.
+
+Suites that need an outside program (ngspice, tmux) skip when it is missing on a
+developer's machine, but fail under CI (CI=true), where .ci/run installs them:
+a green CI must mean the comparisons really ran.
+"""
+
+from __future__ import annotations
+
+import os
+import shutil
+
+import pytest
+from ortools.sat.python import cp_model
+
+# Make CamelCase CP-SAT calls warn (and so fail under filterwarnings=error).
+cp_model.enable_warnings = True
+
+
+def need_program(name: str) -> str:
+    """Path of `name`, or skip (locally) / fail (in CI) when it is not installed."""
+    path = shutil.which(name)
+    if path:
+        return path
+    message = f"{name} is not installed (apt-get install -y {name})"
+    if os.environ.get("CI"):
+        pytest.fail(message)
+    pytest.skip(message)
+    raise AssertionError("unreachable")
+
+
+@pytest.fixture
+def ngspice() -> str:
+    return need_program("ngspice")
+
+
+@pytest.fixture
+def tmux() -> str:
+    return need_program("tmux")
