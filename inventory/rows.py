@@ -83,13 +83,13 @@ def read_row(reader: RowReader) -> Part | None:
         line=reader.line, kind=kind, qty=qty or 0, location=reader.text("location"),
         notes=reader.text("notes"), part=reader.text("part") or None,
     )
-    fields = _TRANSISTOR(reader) if kind == "transistor" else _PASSIVE(reader, kind)
+    fields = _transistor_fields(reader) if kind == "transistor" else _passive_fields(reader, kind)
     if any(p.is_error for p in reader.problems) or fields is None:
         return None
     return Part(**common, **fields)
 
 
-def _PASSIVE(r: RowReader, kind: str) -> dict | None:
+def _passive_fields(r: RowReader, kind: str) -> dict | None:
     if kind == "resistor":
         parse, example, unit = values.parse_resistance, "4k7", "resistance"
     else:
@@ -109,12 +109,12 @@ def _PASSIVE(r: RowReader, kind: str) -> dict | None:
         r.report("dielectric", f'dielectric "{r.text("dielectric")}" is unknown '
                  f"(expected one of {', '.join(DIELECTRICS)})")
     elif dielectric in ("electrolytic", "tantalum") and not r.text("voltage"):
-        r.report("voltage", f"a {dielectric} capacitor without a voltage rating will not be used "
-                 "where a rating is needed", "warning")
+        r.report("voltage", f"{dielectric} capacitor without a voltage rating: designs will not use "
+                 "it where a rating is needed", "warning")
     return dict(value=value, tolerance=tolerance, voltage_v=voltage, dielectric=dielectric)
 
 
-def _TRANSISTOR(r: RowReader) -> dict | None:
+def _transistor_fields(r: RowReader) -> dict | None:
     polarity = r.text("polarity").upper() or None
     if polarity not in ("NPN", "PNP"):
         what = f'polarity "{r.text("polarity")}" is unknown' if polarity else "polarity is empty"

@@ -1,0 +1,242 @@
+"""Changing the drawer file safely: lock, re-read, re-find parts by identity, atomic save, journal.
+
+Every change runs as one transaction under `<file>.lock`: the file is read again, and when
+it differs from what this Store loaded (someone saved it from a spreadsheet meanwhile) each
+targeted line is found again by `Part.identity`.  A part that is gone, ambiguous or whose
+count was changed under an absolute `set_qty` is refused with a ConflictError — never
+overwritten.  Only the records a change means to touch are re-written; every other byte of
+the file is kept.  Undo works on the current file by identity, so it survives other edits.
+"""
+
+from __future__ import annotations
+
+from collections import defaultdict
+from collections.abc import Callable, Iterable
+from pathlib import Path
+
+from . import csvfile
+from .atomic import LockBusy, atomic_write, locked
+from .drawer import Drawer
+from .edits import (
+    ConflictError, Edit, NothingToUndo, StockError, StoreError, Txn, apply_edits, change_for, describe,
+    find_again, qty_edit,
+)
+from .journal import Change, Entry, Journal, journal_path, now_iso
+from .parts import Part
+from .rows import COLUMNS, identity_key
+from .undo import plan_undo
+
+__all__ = ["Store", "StoreError", "StockError", "ConflictError", "NothingToUndo", "describe"]
+
+
+class Store:
+    """The drawer file at `path`, changed only through journaled, locked, atomic transactions."""
+
+    def __init__(self, path: str | Path, *, lock_timeout_s: float = 10.0) -> None:
+        self.path = Path(path)
+        self.journal = Journal(journal_path(self.path))
+        self.lock_timeout_s = lock_timeout_s
+        self._base: bytes | None = None
+        self._drawer: Drawer | None = None
+
+    def load(self) -> Drawer:
+        self._base = self._read()
+        self._drawer = Drawer.from_bytes(self._base, str(self.path))
+        return self._drawer
+
+    @property
+    def drawer(self) -> Drawer:
+        return self._drawer if self._drawer is not None else self.load()
+
+    def history(self) -> list[Entry]:
+        return self.journal.read()
+
+    def _read(self) -> bytes:
+        try:
+            return self.path.read_bytes()
+        except OSError as exc:
+            raise StoreError(f"{self.path}: cannot read the drawer file ({exc.strerror or exc})") from None
+
+    # ---- the transaction -------------------------------------------------------------------
+
+    def _transact(self, action: str, reason: str, plan: Callable[[Txn], None]) -> Entry:
+        try:
+            with locked(self.path, self.lock_timeout_s):
+                return self._transact_locked(action, reason, plan)
+        except LockBusy as exc:
+            raise StoreError(str(exc)) from None
+
+    def _transact_locked(self, action: str, reason: str, plan: Callable[[Txn], None]) -> Entry:
+        data = self._read()
+        fresh = Drawer.from_bytes(data, str(self.path))
+        moved = self._base is not None and data != self._base
+        txn = Txn(fresh, self._drawer if moved and self._drawer else fresh, moved)
+        plan(txn)
+        out, where = apply_edits(fresh, txn.edits)
+        new_bytes = csvfile.encode("".join(out), fresh.dialect.bom)
+        new = Drawer.from_bytes(new_bytes, str(self.path))
+        for e, pos in zip(txn.edits, where, strict=True):
+            if pos is not None and e.change is not None:  # where the line now sits, as saved
+                e.change.raw_after, e.change.index = out[pos], pos
+                e.change.line = new.records[pos].line
+        changes = [e.change for e in txn.edits if e.change is not None]  # a new file's header is not
+        entry = Entry(self.journal.next_id(), now_iso(), action, reason, self.path.name, changes, txn.undoes)
+        try:
+            atomic_write(self.path, new_bytes)
+            self.journal.append(entry)
+        except OSError as exc:
+            raise StoreError(f"{self.path}: cannot save ({exc.strerror or exc})") from None
+        self._base, self._drawer = new_bytes, new
+        return entry
+
+    def _target(self, txn: Txn, line: int, *, need_part: bool = True) -> tuple[int, Part | None]:
+        """Index in the fresh file, and part, of what was on `line` when this Store loaded."""
+        base = txn.base
+        bi = base.record_index(line)
+        if bi is None:
+            raise StoreError(f"{self.path}: line {line} holds no part")
+        bpart = base.part_at(line)
+        if bpart is None and need_part:
+            first = next((p for p in base.problems if p.line == line and p.is_error), None)
+            raise StoreError(f"{self.path}: line {line} has errors; fix them first"
+                             + (f" ({first.message})" if first else ""))
+        if not txn.moved:
+            return bi, bpart
+        what = f"the {describe(bpart)} that was on line {line}" if bpart else f"line {line}"
+        idx = find_again(txn.fresh, bpart.identity if bpart else None, base.records[bi].raw, what)
+        return idx, txn.fresh.part_at(txn.fresh.records[idx].line)
+
+    # ---- changes ---------------------------------------------------------------------------
+
+    def set_qty(self, line: int, qty: int, reason: str = "") -> Entry:
+        """Set the count on `line`; refused if someone changed that count since this Store loaded."""
+        _check_count(qty, "qty")
+
+        def plan(txn: Txn) -> None:
+            idx, part = self._target(txn, line)
+            before = txn.base.part_at(line)
+            if txn.moved and before is not None and part.qty != before.qty:
+                raise ConflictError(
+                    f"{self.path} was changed since it was read: the count of the {describe(part)} "
+                    f"went from {before.qty} to {part.qty}; not overwriting it — reload and try again")
+            qty_edit(txn, idx, part, qty)
+
+        return self._transact("count", reason, plan)
+
+    def adjust_qty(self, line: int, delta: int, reason: str = "") -> Entry:
+        """Add `delta` (may be negative) to the count on `line`, re-applied to the current count."""
+        if not isinstance(delta, int) or isinstance(delta, bool):
+            raise StoreError(f"the change of count must be a whole number, not {delta!r}")
+
+        def plan(txn: Txn) -> None:
+            idx, part = self._target(txn, line)
+            if part.qty + delta < 0:
+                raise StockError(str(self.path), [(line, describe(part), part.qty, -delta)])
+            qty_edit(txn, idx, part, part.qty + delta)
+
+        return self._transact("count", reason, plan)
+
+    def take(self, uses: Iterable, reason: str = "") -> Entry:
+        """Take a build's parts: uses = [(line, qty), …] (or [{"line", "qty"}, …]); one entry for all.
+
+        Refused with StockError naming every short line when any line lacks stock.
+        """
+        wanted: dict[int, int] = defaultdict(int)
+        for use in uses:
+            line, qty = (use["line"], use["qty"]) if isinstance(use, dict) else use
+            _check_count(qty, f"qty for line {line}", positive=True)
+            wanted[int(line)] += qty
+        if not wanted:
+            raise StoreError("nothing to take")
+
+        def plan(txn: Txn) -> None:
+            found = [(line, *self._target(txn, line), need) for line, need in sorted(wanted.items())]
+            short = [(ln, describe(p), p.qty, need) for ln, _, p, need in found if p.qty < need]
+            if short:
+                raise StockError(str(self.path), short)
+            for _, idx, part, need in found:
+                qty_edit(txn, idx, part, part.qty - need)
+
+        return self._transact("take", reason, plan)
+
+    def remove_part(self, line: int, reason: str = "") -> Entry:
+        """Remove the line (a line with errors too); refused if it was edited since loading."""
+
+        def plan(txn: Txn) -> None:
+            idx, part = self._target(txn, line, need_part=False)
+            rec = txn.fresh.records[idx]
+            bi = txn.base.record_index(line)
+            if txn.moved and bi is not None and txn.base.records[bi].raw != rec.raw:
+                raise ConflictError(f"{self.path} was changed since it was read: line {line} was edited "
+                                    f"(now line {rec.line}); not removing it — reload and try again")
+            qty = part.qty if part else None
+            txn.edits.append(Edit("delete", idx, None, change_for(txn.fresh, idx, rec.raw, None, qty, None)))
+
+        return self._transact("remove", reason, plan)
+
+    def add_part(self, fields: dict[str, str], reason: str = "") -> Entry:
+        """Append a line; fields are column → cell text as typed (e.g. {"kind": "resistor", "value": "4k7"}).
+
+        A known column missing from the header is added to it; an unknown one is refused.
+        Refused when the new line has errors or repeats a part already in the file.
+        """
+        cells = {str(k).strip().lower(): ("" if v is None else str(v).strip()) for k, v in fields.items()}
+        return self._transact("add", reason, lambda txn: self._plan_add(txn, cells))
+
+    def undo(self, entry_id: int | None = None, reason: str = "") -> Entry:
+        """Revert the last change not yet undone (or entry `entry_id`); the undo is journaled too."""
+        return self._transact("undo", reason, lambda txn: plan_undo(txn, self.journal.read(), entry_id))
+
+    def _plan_add(self, txn: Txn, cells: dict[str, str]) -> None:
+        fresh = txn.fresh
+        delim, newline = fresh.dialect.delimiter, fresh.dialect.newline
+        unknown = [k for k in cells if k not in fresh.columns and k not in COLUMNS]
+        if unknown:
+            have = ", ".join(fresh.columns) or "none"
+            raise StoreError(f'{self.path} has no column "{unknown[0]}" (columns: {have})')
+        columns = dict(fresh.columns)
+        if fresh.header is None:  # an empty file: start it with a header
+            names = [c for c in COLUMNS if c in cells or c in ("kind", "value", "qty", "location")]
+            txn.edits.append(Edit("insert", len(fresh.records), csvfile.make_raw(names, delim, newline), None))
+            columns = {n: i for i, n in enumerate(names)}
+        else:
+            header = fresh.records[fresh.header]
+            for k in cells:
+                if k not in columns:  # a known column the file lacks: append it to the header
+                    header = csvfile.with_cell(header, len(header.cells), k, delim)
+                    columns[k] = len(header.cells) - 1
+            if header is not fresh.records[fresh.header]:
+                old = fresh.records[fresh.header]
+                change = Change(old.line, fresh.header, None, {}, old.raw, header.raw, None, None, header=True)
+                txn.edits.append(Edit("replace", fresh.header, header.raw, change))
+        row = [""] * (max(columns.values()) + 1)
+        for k, v in cells.items():
+            row[columns[k]] = v
+        raw = csvfile.make_raw(row, delim, newline)
+        txn.edits.append(Edit("insert", len(fresh.records), raw, None))
+        _check_new_line(self.path, txn)
+
+
+def _check_new_line(path: Path, txn: Txn) -> None:
+    """Refuse the added line if it has errors or repeats a part; fill in its journal Change."""
+    out, where = apply_edits(txn.fresh, txn.edits)
+    trial = Drawer.parse("".join(out), str(path))
+    added = txn.edits[-1]
+    rec = trial.records[where[-1]]
+    errors = [p for p in trial.problems if p.line == rec.line and p.is_error]
+    if errors:
+        raise StoreError("the new line is not valid: " + "; ".join(p.message for p in errors))
+    part = trial.part_at(rec.line)
+    if part is None:
+        raise StoreError("the new line is empty: give at least kind, value and qty")
+    same = [p for p in trial.find(identity_key(part.identity)) if p.line != rec.line]
+    if same:
+        raise StoreError(f"{path}:{same[0].line} already holds this part ({describe(part)}); "
+                         "change its count instead")
+    added.change = change_for(trial, where[-1], None, rec.raw, None, part.qty)
+
+
+def _check_count(qty: object, what: str, positive: bool = False) -> None:
+    if not isinstance(qty, int) or isinstance(qty, bool) or qty < (1 if positive else 0):
+        least = "1 or more" if positive else "0 or more"
+        raise StoreError(f"{what} must be a whole number, {least}, not {qty!r}")

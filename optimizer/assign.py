@@ -1,0 +1,178 @@
+"""CP-SAT: pick a feasible value tuple and the physical networks that realise it, under shared stock.
+
+Model (integers only):
+  * one bool per (position, network) that realises a value some feasible tuple uses
+    at that position (plus an "absent" bool for optional positions); add_exactly_one per position;
+  * v[p] = the value number chosen at p (a linear sum of those bools);
+  * the feasible tuples (from feasible.py and capchoice.py, one row per value tuple and
+    transistor line) couple the positions through add_allowed_assignments over
+    [v[p]…, q, objective columns, power needs]; never multiplication;
+  * per position, the chosen network's power capacity ≥ the row's need (both µW);
+  * one named stock constraint per drawer line: Σ parts taken ≤ qty.
+The objective (objective.py) is minimised lexicographically in stages, each stage
+fixing the previous optimum; one worker and a fixed seed keep it reproducible.
+"""
+
+from __future__ import annotations
+
+import threading
+from dataclasses import dataclass
+
+import numpy as np
+from ortools.sat.python import cp_model
+
+from . import objective
+
+SEED = 20261201
+MAX_TIME_S = 20.0
+
+
+@dataclass
+class Choice:
+    """One solved design: network index per position (None = absent), transistor index, row number."""
+
+    networks: dict
+    q: int
+    row: int
+    score: objective.Score
+
+
+class Assignment:
+    """The CP-SAT model over `rows` (dict of equal-length arrays, see select.py)."""
+
+    def __init__(self, positions, rows, pool, stock_qty, qlines, cancel=None):
+        self.positions = positions
+        self.rows = rows
+        self.pool = pool
+        self.cancel = cancel
+        self.stopped = False
+        m = self.model = cp_model.CpModel()
+        n = len(rows["q"])
+        self.values = {}
+        self.v, self.x = {}, {}
+        table = self.pool.table
+        parts_terms, frac_terms, cap_terms = [], [], []
+        usage = {}
+        for p in positions:
+            vals = np.unique(rows[p])
+            self.values[p] = vals
+            self.v[p] = m.new_int_var(0, len(vals) - 1, f"v[{p}]")
+            xs = []
+            need = m.new_int_var(0, int(rows[f"need_{p}"].max(initial=0)), f"need[{p}]")
+            self.need = getattr(self, "need", {})
+            self.need[p] = need
+            value_terms = []
+            for j, val in enumerate(vals):
+                nets = [None] if val == 0 else list(self.pool.networks_of(float(val)))
+                for net in nets:
+                    b = m.new_bool_var(f"x[{p},{'absent' if net is None else net}]")
+                    xs.append(b)
+                    self.x[(p, net)] = b
+                    if j:
+                        value_terms.append(j * b)
+                    if net is None:
+                        continue
+                    parts_terms.append(int(table.parts[net]) * b)
+                    cap_terms.append(int(objective.power_capacity_uw(table.power_w[net])) * b)
+                    for row_, cnt in zip(*np.unique(table.members[net][table.members[net] >= 0],
+                                                    return_counts=True), strict=True):
+                        usage.setdefault(int(row_), []).append(int(cnt) * b)
+            m.add_exactly_one(xs)
+            m.add(self.v[p] == sum(value_terms))
+            m.add(sum(cap_terms) >= need)
+            cap_terms = []
+        self.q = m.new_int_var(0, len(qlines) - 1, "q")
+        cols = {k: m.new_int_var(int(rows[k].min()), int(rows[k].max()), k)
+                for k in ("ge", "nsm", "pc", "ec", "fc", "nf")}
+        vidx = {p: np.searchsorted(self.values[p], rows[p]) for p in positions}
+        tbl = np.column_stack([vidx[p] for p in positions] + [rows["q"]]
+                              + [rows[k] for k in cols] + [rows[f"need_{p}"] for p in positions])
+        self.vars = [self.v[p] for p in positions] + [self.q]
+        m.add_allowed_assignments(self.vars + list(cols.values()) + [self.need[p] for p in positions],
+                                  tbl.astype(np.int64).tolist())
+        self._vidx = vidx
+        emptied, frac = [cols["ec"]], [cols["fc"]]
+        lines = table.stock_line
+        for r, terms in sorted(usage.items()):
+            qty = int(stock_qty[r])
+            used = sum(terms)
+            m.add(used <= qty).with_name(f"stock[line {int(lines[r])}]")
+            e = m.new_bool_var(f"emptied[line {int(lines[r])}]")
+            m.add(used <= qty - 1 + e)
+            emptied.append(e)
+            frac.append(objective.line_weight(qty) * used)
+        self.levels = [
+            sum(parts_terms) + cols["pc"] + 1,
+            cols["ge"],
+            cols["nsm"],
+            sum(emptied),
+            sum(frac),
+            cols["nf"],
+        ]
+        self.n_rows = n
+        self._forbidden = []
+
+    def forbid(self, rows_idx):
+        """Exclude these rows' (values, transistor) combinations from later solves."""
+        tuples = [[int(self._vidx[p][i]) for p in self.positions] + [int(self.rows["q"][i])] for i in rows_idx]
+        self.model.add_forbidden_assignments(self.vars, tuples)
+
+    def _solver(self):
+        s = cp_model.CpSolver()
+        s.parameters.num_workers = 1
+        s.parameters.random_seed = SEED
+        s.parameters.max_time_in_seconds = MAX_TIME_S
+        return s
+
+    def _run(self, solver, model):
+        if self.cancel is None:
+            return solver.solve(model)
+        done = threading.Event()
+
+        def watch():
+            while not done.wait(0.02):
+                if self.cancel.is_set():
+                    solver.stop_search()
+                    self.stopped = True
+                    return
+
+        t = threading.Thread(target=watch, daemon=True)
+        t.start()
+        try:
+            return solver.solve(model)
+        finally:
+            done.set()
+            t.join()
+
+    def solve(self) -> Choice | None:
+        """The lexicographic optimum, or None when no row can be realised from the stock."""
+        model = self.model.clone()  # the stage constraints stay on the copy
+        values = []
+        solver = None
+        for level in self.levels:
+            model.clear_objective()
+            model.minimize(level)
+            solver = self._solver()
+            status = self._run(solver, model)
+            if self.stopped or status not in (cp_model.OPTIMAL, cp_model.FEASIBLE):
+                return None
+            best = int(round(solver.objective_value))
+            values.append(best)
+            model.add(level <= best)
+            model.clear_hints()
+            for b in self.x.values():
+                model.add_hint(b, solver.boolean_value(b))
+        nets = {}
+        for (p, net), b in self.x.items():
+            if solver.boolean_value(b):
+                nets[p] = net
+        qv = solver.value(self.q)
+        key = tuple(self.values[p][solver.value(self.v[p])] for p in self.positions)
+        row = self._row_of(key, qv)
+        return Choice(nets, qv, row, objective.Score(*values))
+
+    def _row_of(self, key, qv):
+        mask = self.rows["q"] == qv
+        for p, val in zip(self.positions, key, strict=True):
+            mask &= self.rows[p] == val
+        return int(np.flatnonzero(mask)[0])

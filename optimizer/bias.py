@@ -1,0 +1,228 @@
+"""The exact DC operating point of one NPN in a linear network, vectorised over candidates.
+
+The transistor sees a linear network, so once its base and collector currents
+are known every node voltage follows linearly:
+
+    VB = b0 − rbb·IB − rbc·IC,   VC = c0 − rcb·IB − rcc·IC,   VE = e0 + re·(IB + IC)
+
+(volts, ohms, amperes).  `Network` holds those coefficients per candidate; the
+same Newton solve then serves the bias circuit (capacitors open) and the
+large-signal circuit with the capacitors held at their DC charge.  The
+unknowns are the junction voltages VBE and VBC, where the exponentials live,
+and each Newton step is limited the way SPICE limits a pn junction (pnjlim),
+so saturated and cut-off candidates converge as well as active ones.
+"""
+
+from __future__ import annotations
+
+from typing import NamedTuple
+
+import numpy as np
+
+from .stage import COLLECTOR_FEEDBACK, COMMON_EMITTER, EMITTER_FOLLOWER
+from .transistor import terminal_currents
+
+TOLERANCE_V = 1e-9  # Newton stops when both junction steps are below this
+MAX_ITERATIONS = 200
+
+
+class Network(NamedTuple):
+    """Coefficients of the node voltages in IB and IC (V, Ω); arrays of one shape."""
+
+    b0: np.ndarray
+    rbb: np.ndarray
+    rbc: np.ndarray
+    c0: np.ndarray
+    rcb: np.ndarray
+    rcc: np.ndarray
+    e0: np.ndarray
+    re: np.ndarray
+
+    def voltages(self, ib, ic):
+        """(VB, VC, VE) in volts for base and collector currents `ib`, `ic` (A)."""
+        vb = self.b0 - self.rbb * ib - self.rbc * ic
+        vc = self.c0 - self.rcb * ib - self.rcc * ic
+        ve = self.e0 + self.re * (ib + ic)
+        return vb, vc, ve
+
+
+def thevenin(v_top, r_top, r_bottom):
+    """Open-circuit voltage (V) and source resistance (Ω) of a divider from `v_top` to ground.
+
+    VTH = V·R2/(R1 + R2), RTH = R1‖R2; `r_bottom` = inf (no lower resistor) gives (V, R1).
+    """
+    g1, g2 = 1.0 / r_top, 1.0 / r_bottom
+    return v_top * g1 / (g1 + g2), 1.0 / (g1 + g2)
+
+
+def bias_network(topology, r, supply_v) -> Network:
+    """The DC network (capacitors open) of `topology`; `r` maps position → ohms arrays.
+
+    Divider stages: VB = VTH − RTH·IB, VC = VCC − RC·IC (RC = 0 for the follower).
+    Collector feedback: RC carries IC + IB, RB carries IB from collector to base.
+    """
+    zero = np.zeros_like(supply_v)
+    if topology in (COMMON_EMITTER, EMITTER_FOLLOWER):
+        vth, rth = thevenin(supply_v, r["R1"], r["R2"])
+        if topology == COMMON_EMITTER:
+            rc, re = r["RC"], r["RE1"] + r["RE2"]
+        else:
+            rc, re = zero, r["RE"]
+        return Network(vth, rth, zero, supply_v + zero, zero, rc, zero, re)
+    if topology == COLLECTOR_FEEDBACK:
+        rc, rb = r["RC"], r["RB"]
+        return Network(supply_v + zero, rc + rb, rc, supply_v + zero, rc, rc, zero, r["RE1"] + r["RE2"])
+    raise ValueError(f"unknown topology {topology!r}")
+
+
+def junction_derivatives(vbe, vbc, is_a, bf, br, vaf_v, vt_v):
+    """The y-parameters of `terminal_currents` (S): dIB/dVBE, dIB/dVBC, dIC/dVBE, dIC/dVBC.
+
+    Exact derivatives of the same equations: with gbe = IS·e^(VBE/Vt)/Vt,
+    gbc = IS·e^(VBC/Vt)/Vt and 1/qb = 1 − VBC/VAF,
+    dIB/dVBE = gbe/BF, dIB/dVBC = gbc/BR, dIC/dVBE = gbe/qb,
+    dIC/dVBC = −gbc/qb − (IBE − IBC)/VAF − gbc/BR.
+    """
+    ebe = np.exp(vbe / vt_v)
+    ebc = np.exp(vbc / vt_v)
+    gbe = is_a * ebe / vt_v
+    gbc = is_a * ebc / vt_v
+    inv_qb = 1.0 - vbc / vaf_v
+    y11 = gbe / bf
+    y12 = gbc / br
+    y21 = gbe * inv_qb
+    y22 = -gbc * inv_qb - is_a * (ebe - ebc) / vaf_v - gbc / br
+    return y11, y12, y21, y22
+
+
+def _model_step(vbe, vbc, k):
+    """Currents and y-parameters in one pass, sharing the two exponentials (Newton's inner loop).
+
+    The same equations as `terminal_currents` and `junction_derivatives`; k holds
+    per-candidate 1/Vt, IS, IS/Vt, 1/BF, 1/BR and the scalar or array 1/VAF.
+    """
+    inv_vt, is_a, is_vt, inv_bf, inv_br, inv_vaf = k
+    ebe = np.exp(vbe * inv_vt)
+    ebc = np.exp(vbc * inv_vt)
+    ibe = is_a * (ebe - 1.0)
+    ibc = is_a * (ebc - 1.0)
+    inv_qb = 1.0 - vbc * inv_vaf
+    diff = ibe - ibc
+    ibc_r = ibc * inv_br
+    ic = diff * inv_qb - ibc_r
+    ib = ibe * inv_bf + ibc_r
+    gbe = is_vt * ebe
+    gbc = is_vt * ebc
+    y12 = gbc * inv_br
+    y22 = -gbc * inv_qb - diff * inv_vaf - y12
+    return ic, ib, gbe * inv_bf, y12, gbe * inv_qb, y22
+
+
+def _limit_junction(v_new, v_old, vt, vcrit):
+    """SPICE's pnjlim for steps already known to be large (above vcrit, more than 2·Vt): move logarithmically."""
+    arg = 1.0 + (v_new - v_old) / vt
+    from_pos = np.where(arg > 0, v_old + vt * np.log(np.where(arg > 0, arg, 1.0)), vcrit)
+    from_neg = vt * np.log(np.maximum(v_new, vt) / vt)
+    return np.where(v_old > 0, from_pos, from_neg)
+
+
+def _initial_guess(a0, ab, ac, d0, db, dc, is_a, bf, br, vaf_v, vt):
+    """Start close enough that Newton needs two or three full steps.
+
+    Forward active (BC junction off, Early effect kept): with E = IS·e^(VBE/Vt),
+    IB = E/BF and IC ≈ E·(1 − VBC/VAF), f1 becomes a0 − VBE − R·E = 0, solved by a
+    few Newton steps in ln E from above, where it converges monotonically.
+    Candidates that this puts below VCE = 0.25 V are started as saturated
+    instead: VCE = 0.1 V and VBE as found give IB and IC linearly, and the
+    transport equations give the two junction voltages.
+    """
+    ln_is = np.log(is_a)
+    vbc = np.minimum(d0, 0.0)
+    r = ab / bf + ac * (1.0 - vbc / vaf_v)
+    w = np.log(np.maximum(a0, 1e-3) / r)
+    e = np.exp(w)
+    for _ in range(3):
+        w = w + (a0 - vt * (w - ln_is) - r * e) / (vt + r * e)
+        e = np.exp(w)
+        q = 1.0 - np.minimum(vbc, 0.0) / vaf_v  # the Early factor only matters while active
+        vbc = d0 - (db / bf + dc * q) * e
+        r = ab / bf + ac * q
+    vbe = vt * (w - ln_is)
+    sat = vbe - vbc < 0.25
+    if np.any(sat):
+        k = np.flatnonzero(sat)
+        ab_, ac_, a0_, bf_, br_, is_ = ab[k], ac[k], a0[k], bf[k], br[k], is_a[k]
+        s0 = a0_ - d0[k] - 0.1
+        p0 = a0_ - vbe[k]
+        mb, mc = ab_ - db[k], ac_ - dc[k]
+        det = ab_ * mc - ac_ * mb
+        ib = (p0 * mc - ac_ * s0) / det
+        ic = (ab_ * s0 - mb * p0) / det
+        ibc = (bf_ * ib - ic) / (bf_ / br_ + 1.0 + 1.0 / br_)
+        ibe = bf_ * (ib - ibc / br_)
+        ok = (ibc > 0) & (ibe > 0)
+        vt_ = vt[k]
+        vbe[k] = np.where(ok, vt_ * np.log(np.where(ok, ibe, 1.0) / is_ + 1.0), vbe[k])
+        vbc[k] = np.where(ok, vt_ * np.log(np.where(ok, ibc, 1.0) / is_ + 1.0), vbe[k] - 0.1)
+    return vbe, vbc
+
+
+def solve_operating_point(net: Network, is_a, bf, br, vaf_v, vt_v):
+    """Newton solve of the junction voltages; returns dict of 1-D arrays.
+
+    All inputs are 1-D arrays of one length n (vaf_v may be a scalar).
+    Keys: vbe, vbc, ic, ib (V, A), converged (bool), iterations (int, the most any candidate used).
+    f1 = VB − VE − VBE = 0 and f2 = VB − VC − VBC = 0 are solved jointly; the
+    reported currents are `terminal_currents` at the converged junction voltages.
+    """
+    a0, ab, ac = net.b0 - net.e0, net.rbb + net.re, net.rbc + net.re
+    d0, db, dc = net.b0 - net.c0, net.rbb - net.rcb, net.rbc - net.rcc
+    vbe, vbc = _initial_guess(a0, ab, ac, d0, db, dc, is_a, bf, br, vaf_v, vt_v)
+    vcrit = vt_v * np.log(vt_v / (np.sqrt(2.0) * is_a))
+    n = vbe.shape[0]
+    converged = np.zeros(n, dtype=bool)
+    idx = np.arange(n)
+    inv_vaf = 1.0 / np.asarray(vaf_v, dtype=float)
+    per = [a0, ab, ac, d0, db, dc, vt_v, vcrit, 1.0 / vt_v, is_a, is_a / vt_v, 1.0 / bf, 1.0 / br]
+    if inv_vaf.ndim:
+        per.append(np.broadcast_to(inv_vaf, (n,)))
+    xbe, xbc = vbe.copy(), vbc.copy()
+    iterations = 0
+    while idx.size and iterations < MAX_ITERATIONS:
+        iterations += 1
+        a0_, ab_, ac_, d0_, db_, dc_, vt_, vcr_ = per[:8]
+        k = tuple(per[8:13]) + ((per[13],) if inv_vaf.ndim else (inv_vaf,))
+        ic, ib, y11, y12, y21, y22 = _model_step(xbe, xbc, k)
+        f1 = a0_ - ab_ * ib - ac_ * ic - xbe
+        f2 = d0_ - db_ * ib - dc_ * ic - xbc
+        j11 = -ab_ * y11 - ac_ * y21 - 1.0
+        j12 = -ab_ * y12 - ac_ * y22
+        j21 = -db_ * y11 - dc_ * y21
+        j22 = -db_ * y12 - dc_ * y22 - 1.0
+        inv_det = 1.0 / (j11 * j22 - j12 * j21)
+        dbe = (j12 * f2 - j22 * f1) * inv_det
+        dbc = (j21 * f1 - j11 * f2) * inv_det
+        done = (np.abs(dbe) < TOLERANCE_V) & (np.abs(dbc) < TOLERANCE_V)
+        new_be = xbe + dbe
+        new_bc = xbc + dbc
+        for new, old in ((new_be, xbe), (new_bc, xbc)):
+            big = np.flatnonzero((new > vcr_) & (np.abs(new - old) > 2.0 * vt_))
+            if big.size:  # few candidates need limiting after the first steps
+                new[big] = _limit_junction(new[big], old[big], vt_[big], vcr_[big])
+        xbe, xbc = new_be, new_bc
+        n_done = np.count_nonzero(done)
+        if n_done:
+            vbe[idx[done]] = xbe[done]
+            vbc[idx[done]] = xbc[done]
+            converged[idx[done]] = True
+            if n_done * 2 >= done.size:  # compact when half have settled
+                keep = ~done
+                idx = idx[keep]
+                per = [a[keep] for a in per]
+                xbe, xbc = xbe[keep], xbc[keep]
+    if idx.size:  # leave the last iterate in place, flagged not converged
+        live = ~converged[idx]
+        vbe[idx[live]] = xbe[live]
+        vbc[idx[live]] = xbc[live]
+    ic, ib = terminal_currents(vbe, vbc, is_a, bf, br, vaf_v, vt_v)
+    return {"vbe": vbe, "vbc": vbc, "ic": ic, "ib": ib, "converged": converged, "iterations": iterations}

@@ -1,0 +1,185 @@
+"""The candidate space: which networks, capacitors and transistors a design may use, and the value tuples.
+
+Candidate space (the README quotes this):
+  * each resistor position takes one network of 1 … depth parts from the stock
+    (`networks.resistor_networks`: single parts, series, parallel and the mixed
+    3-part shapes), valued WINDOW_OHMS[0] … WINDOW_OHMS[1]; RE1 and RE2 may be
+    absent; RE2 is the part bypassed by CE, so CE is fitted exactly when RE2 is;
+  * each capacitor position takes one option of `capacitors.capacitor_options`
+    (a single part or a parallel pair);
+  * Q1 is one in-stock NPN line with both hFE min and hFE max given;
+  * counts are shared across all positions.
+
+Value tuples are screened by distinct value (many networks share a value).  They
+are enumerated by "resistor part budget" B = Σ over positions of the fewest parts
+that realise each value, B ascending (select.py stops when no larger B can win).
+Within a budget the product is pruned only by conditions every design meeting the
+spec must satisfy (`_prune_*`, each argued in its docstring).
+"""
+
+from __future__ import annotations
+
+import itertools
+import math
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from .networks import NetworkTable, resistor_networks
+from .stage import COLLECTOR_FEEDBACK, COMMON_EMITTER, EMITTER_FOLLOWER
+from .transistor import Transistor
+
+WINDOW_OHMS = (1.0, 10e6)
+POSITIONS = {
+    COMMON_EMITTER: ("R1", "R2", "RC", "RE1", "RE2"),
+    EMITTER_FOLLOWER: ("R1", "R2", "RE"),
+    COLLECTOR_FEEDBACK: ("RB", "RC", "RE1", "RE2"),
+}
+OPTIONAL = {COMMON_EMITTER: ("RE1", "RE2"), EMITTER_FOLLOWER: (), COLLECTOR_FEEDBACK: ("RE1", "RE2")}
+CAP_POSITIONS = ("CIN", "COUT", "CE")
+GAIN_BOUND_SLACK = 0.98  # the gain bound is a strict inequality; keep 2 % to spare for rounding
+CHUNK = 200_000
+
+
+@dataclass(frozen=True)
+class QLine:
+    """One transistor drawer line as the solver sees it."""
+
+    line: int
+    qty: int
+    transistor: Transistor
+    name: str
+
+
+def transistor_of(part) -> Transistor:
+    """The model of a drawer transistor line: BF = √(hFE min · hFE max), the typical hFE (geometric mean)."""
+    return Transistor(
+        name=part.part or f"line {part.line}", polarity=(part.polarity or "NPN").upper(),
+        bf=math.sqrt(part.hfe_min * part.hfe_max), hfe_min=part.hfe_min, hfe_max=part.hfe_max,
+        vceo_v=part.vceo_v, ic_max_a=part.ic_max_a, pd_max_w=part.pd_max_w,
+    )
+
+
+def usable_transistors(parts) -> tuple[list[QLine], list[str]]:
+    """In-stock NPN lines with an hFE range, and notes on the lines left out."""
+    out, notes = [], []
+    pnp = 0
+    for p in parts:
+        if p.qty <= 0:
+            continue
+        if (p.polarity or "NPN").upper() != "NPN":
+            pnp += 1
+            continue
+        if not (p.hfe_min and p.hfe_max and 0 < p.hfe_min <= p.hfe_max):
+            notes.append(f"transistor on line {p.line} ({p.part or '?'}) has no hFE range; left out")
+            continue
+        out.append(QLine(p.line, int(p.qty), transistor_of(p), p.part or f"line {p.line}"))
+    if pnp and not out:
+        notes.append(f"only PNP transistors are in stock ({pnp} line(s)); designs are NPN-only for now")
+    elif pnp:
+        notes.append(f"{pnp} PNP line(s) left out: designs are NPN-only for now")
+    return out, notes
+
+
+@dataclass
+class Pool:
+    """Distinct resistor values realisable with up to `depth` parts, and their networks."""
+
+    stock: object
+    depth: int
+    table: NetworkTable = field(init=False)
+
+    def __post_init__(self):
+        self.table = resistor_networks(self.stock, self.depth, *WINDOW_OHMS)
+        self.distinct = self.table.distinct()
+
+    def group(self, k: int) -> np.ndarray:
+        """Values (ohms) whose fewest realising parts is exactly k (k = 0: the absent position)."""
+        if k == 0:
+            return np.zeros(1)
+        return self.distinct.value[self.distinct.min_parts == k]
+
+    def networks_of(self, ohms: float) -> np.ndarray:
+        """Table indices of every network realising `ohms`."""
+        g = int(np.searchsorted(self.distinct.value, ohms * (1 - 1e-10)))
+        if g >= len(self.distinct) or not abs(self.distinct.value[g] - ohms) <= 1e-9 * ohms:
+            return np.zeros(0, dtype=np.int64)
+        return np.arange(self.distinct.start[g], self.distinct.stop[g])
+
+
+def min_positions(topology: str) -> int:
+    return len(POSITIONS[topology]) - len(OPTIONAL[topology])
+
+
+def profiles(topology: str, budget: int, depth: int):
+    """Part-count profiles (k per position) with Σ k = budget; optional positions may take 0."""
+    ranges = [range(0 if p in OPTIONAL[topology] else 1, depth + 1) for p in POSITIONS[topology]]
+    for ks in itertools.product(*ranges):
+        if sum(ks) == budget:
+            yield dict(zip(POSITIONS[topology], ks, strict=True))
+
+
+def _grid(*arrays):
+    mesh = np.meshgrid(*arrays, indexing="ij")
+    return [m.ravel() for m in mesh]
+
+
+def _prune_divider(r1, r2, spec):
+    """Rin ≤ R1‖R2: the bias resistors sit in parallel with whatever the base presents."""
+    return r1 * r2 / (r1 + r2) >= spec.min_rin_ohms * (1 - 1e-12)
+
+
+def _prune_gain(rc, re1, spec, rb=None):
+    """|gain| < (RC‖RL)/RE1 when RE1 > 0: the signal at the base is at least ie·RE1 and the
+    load current at most ic < ie, whatever hFE; the source divider only lowers it further."""
+    rcl = rc * spec.load_ohms / (rc + spec.load_ohms)
+    lo = spec.gain * (1 - spec.gain_tol)
+    return (re1 == 0) | (rcl >= GAIN_BOUND_SLACK * lo * re1)
+
+
+def tuples(topology: str, profile: dict, pool: Pool, spec):
+    """Chunks (dict position → ohms array) of the value tuples of one profile that survive pruning."""
+    g = {p: pool.group(k) for p, k in profile.items()}
+    if any(len(v) == 0 for v in g.values()):
+        return
+    if topology == EMITTER_FOLLOWER:
+        r1, r2 = _grid(g["R1"], g["R2"])
+        keep = _prune_divider(r1, r2, spec)
+        outer = {"R1": r1[keep], "R2": r2[keep]}
+        inner = {"RE": g["RE"]}
+    elif topology == COMMON_EMITTER:
+        r1, r2 = _grid(g["R1"], g["R2"])
+        keep = _prune_divider(r1, r2, spec)
+        rc, re1 = _grid(g["RC"], g["RE1"])
+        ok = _prune_gain(rc, re1, spec)
+        rc, re1 = rc[ok], re1[ok]
+        outer = {"R1": r1[keep], "R2": r2[keep]}
+        inner = {"RC": rc, "RE1": re1}
+        inner = _cross(inner, {"RE2": g["RE2"]})
+    else:
+        rb = g["RB"][g["RB"] >= spec.min_rin_ohms * (1 - 1e-12)]  # Rin of a Miller stage ≤ RB
+        rc, re1 = _grid(g["RC"], g["RE1"])
+        ok = _prune_gain(rc, re1, spec)
+        outer = {"RB": rb}
+        inner = _cross({"RC": rc[ok], "RE1": re1[ok]}, {"RE2": g["RE2"]})
+    yield from _chunks(outer, inner)
+
+
+def _cross(a: dict, b: dict) -> dict:
+    na, nb = len(next(iter(a.values()))), len(next(iter(b.values())))
+    ia, ib = _grid(np.arange(na), np.arange(nb))
+    out = {k: v[ia] for k, v in a.items()}
+    out.update({k: v[ib] for k, v in b.items()})
+    return out
+
+
+def _chunks(outer: dict, inner: dict):
+    no, ni = len(next(iter(outer.values()))), len(next(iter(inner.values())))
+    if no == 0 or ni == 0:
+        return
+    step = max(1, CHUNK // ni)
+    for s in range(0, no, step):
+        io, ii = _grid(np.arange(s, min(no, s + step)), np.arange(ni))
+        out = {k: v[io] for k, v in outer.items()}
+        out.update({k: v[ii] for k, v in inner.items()})
+        yield out

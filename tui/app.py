@@ -1,0 +1,107 @@
+"""The terminal app: one factory shared by the command line and the tests.
+
+The app holds the drawer file's `Store` and the last `Drawer` read from it; every
+write goes through `App.write()`, which shows the store's refusal instead of
+raising, then re-reads the file so every screen shows what is on disk.
+"""
+
+from __future__ import annotations
+
+import sys
+from collections.abc import Callable
+from pathlib import Path
+
+from textual.app import App
+from textual.binding import Binding
+
+from inventory.drawer import Drawer
+from inventory.locate import InventoryNotFound, find_inventory
+from inventory.store import Store, StoreError
+
+from .widgets.palette import ActionsProvider
+
+LIGHT, DARK = "textual-light", "textual-dark"
+
+
+class DrawerfitApp(App[int]):
+    """Keyboard-driven drawer keeping and stage design."""
+
+    TITLE = "drawerfit"
+    CSS_PATH = "app.tcss"
+    COMMANDS = App.COMMANDS | {ActionsProvider}
+    BINDINGS = [
+        Binding("ctrl+q", "quit", "Quit", id="app.quit", priority=True),
+        Binding("f2", "toggle_theme", "Theme", id="app.theme", tooltip="Switch between light and dark"),
+    ]
+
+    def __init__(self, inventory_path: Path, *, notice: str | None = None) -> None:
+        super().__init__()
+        self.inventory_path = Path(inventory_path)
+        self.store = Store(self.inventory_path)
+        self.notice = notice
+        self.drawer: Drawer | None = None
+        self.load_error: str | None = None
+        self.theme = DARK
+        self.read()
+
+    def on_mount(self) -> None:
+        from .screens.drawer import DrawerScreen
+
+        self.sub_title = str(self.inventory_path)
+        self.push_screen(DrawerScreen())
+        if self.notice:
+            self.notify(self.notice, title="Drawer file", timeout=8)
+
+    # ---- the drawer file -----------------------------------------------------------------
+
+    def reload(self) -> None:
+        """Re-read the drawer file and redraw every screen that shows it."""
+        self.read()
+        for screen in self.screen_stack:
+            refresh = getattr(screen, "drawer_changed", None)
+            if refresh is not None and screen.is_mounted:
+                refresh()
+
+    def read(self) -> None:
+        """Read the drawer file; a file that cannot be read is reported, not raised."""
+        try:
+            self.drawer = self.store.load()
+            self.load_error = None
+        except StoreError as exc:
+            self.drawer = None
+            self.load_error = str(exc)
+
+    def write(self, change: Callable[[], object], done: str) -> str | None:
+        """Run one store write; on refusal return (and show) the reason, else None."""
+        try:
+            change()
+        except (StoreError, ValueError, OSError) as exc:
+            message = str(exc) or type(exc).__name__
+            self.notify(message, title="Not saved", severity="error", timeout=10)
+            self.reload()
+            return message
+        self.reload()
+        self.notify(done, title="Saved")
+        return None
+
+    # ---- actions -------------------------------------------------------------------------
+
+    def action_toggle_theme(self) -> None:
+        self.theme = LIGHT if self.theme == DARK else DARK
+
+
+def make_app(inventory_path: str | Path | None = None) -> DrawerfitApp:
+    """The app on `inventory_path`, or on the drawer file found the usual way."""
+    path, message = find_inventory(str(inventory_path) if inventory_path is not None else None)
+    return DrawerfitApp(path, notice=message)
+
+
+def run_app(inventory_path: str | None) -> int:
+    """Run the app in this terminal; the exit code for the shell."""
+    try:
+        app = make_app(inventory_path)
+    except (InventoryNotFound, OSError) as exc:
+        print(f"drawerfit: {exc}", file=sys.stderr)
+        return 2
+    result = app.run()
+    return int(result or 0)

@@ -1,0 +1,208 @@
+"""The build sheet's circuit drawing: box-drawing characters on a character grid.
+
+Pure text, no Textual and no physics: it draws the positions a design fills and
+labels each with its part value (a series/parallel network spelled out, e.g.
+``RC 4k7+220R``).  Networks too long for the drawing are listed under it.
+"""
+
+from __future__ import annotations
+
+from inventory.values import format_capacitance, format_resistance
+
+# Columns of the drawing (characters from the left).
+X_DIV = 14       # bias divider R1/R2 (or RB)
+X_BAR = 29       # transistor base bar
+X_C = X_BAR + 2  # collector / emitter leads, RC and RE
+X_CE = 46        # emitter bypass capacitor
+X_COUT = 44      # output coupling capacitor
+X_LOAD = 60      # load resistor
+BASE_Y = 9       # base row; the transistor glyph sits on rows 8..10
+GROUND_Y = 21
+LABEL_ROOM = 13  # characters a value label may take beside its part
+
+
+def network_text(node: dict, unit_key: str = "ohms") -> str:
+    """``4k7+220R``, ``10k‖10k``, ``(1k+220R)‖4k7`` from a network JSON node."""
+    if "series" in node or "parallel" in node:
+        kind = "series" if "series" in node else "parallel"
+        inner = [network_text(n, unit_key) for n in node[kind]]
+        if kind == "parallel":
+            inner = [f"({t})" if "+" in t else t for t in inner]
+        return ("+" if kind == "series" else "‖").join(inner)
+    value = float(node[unit_key])
+    return format_resistance(value) if unit_key == "ohms" else format_capacitance(value)
+
+
+def position_text(entry: dict) -> str:
+    """The value text of one position of a design's ``parts`` map."""
+    unit_key = "farads" if "farads" in entry else "ohms"
+    if "network" in entry:
+        return network_text(entry["network"], unit_key)
+    value = float(entry[unit_key])
+    return format_resistance(value) if unit_key == "ohms" else format_capacitance(value)
+
+
+class Canvas:
+    def __init__(self, width: int, height: int) -> None:
+        self.rows = [[" "] * width for _ in range(height)]
+
+    def put(self, x: int, y: int, text: str) -> None:
+        row = self.rows[y]
+        for i, ch in enumerate(text):
+            if 0 <= x + i < len(row):
+                row[x + i] = ch
+
+    def hline(self, x0: int, x1: int, y: int) -> None:
+        for x in range(x0, x1 + 1):
+            self.put(x, y, "─")
+
+    def vline(self, x: int, y0: int, y1: int) -> None:
+        for y in range(y0, y1 + 1):
+            self.put(x, y, "│")
+
+    def resistor(self, x: int, y: int, label: str) -> None:
+        """A resistor body on rows y..y+2 of column x, label to its right."""
+        self.put(x - 1, y, "┌┴┐")
+        self.put(x - 1, y + 1, "│ │")
+        self.put(x - 1, y + 2, "└┬┘")
+        self.put(x + 3, y + 1, label)
+
+    def vcap(self, x: int, y: int, label: str, plus: bool) -> None:
+        """A capacitor on rows y..y+3 of column x, plates across; '+' marks the positive plate."""
+        self.put(x, y, "│")
+        self.put(x - 1, y + 1, "─┴─")
+        self.put(x - 1, y + 2, "─┬─")
+        self.put(x, y + 3, "│")
+        if plus:
+            self.put(x - 2, y + 1, "+")
+        self.put(x + 3, y + 1, label)
+
+    def text(self) -> str:
+        return "\n".join("".join(r).rstrip() for r in self.rows)
+
+
+def _label(name: str, value: str | None) -> tuple[str, bool]:
+    """The in-drawing label and whether the full value had to go to the legend."""
+    if value is None:
+        return name, False
+    text = f"{name} {value}"
+    if len(text) <= LABEL_ROOM:
+        return text, False
+    return f"{name} *", True
+
+
+def draw_stage(design: dict, *, supply_v: float | None = None, source_ohms: float | None = None,
+               load_ohms: float | None = None, polarised: frozenset[str] = frozenset()) -> str:
+    """The stage of one design (the JSON shape) as lines of box-drawing text.
+
+    `polarised` names the capacitor positions filled with electrolytic/tantalum
+    parts; their '+' plate is drawn toward the transistor, where the DC voltage is.
+    """
+    topology = design.get("topology", "common-emitter")
+    parts = design.get("parts", {})
+    values = {pos: position_text(entry) for pos, entry in parts.items() if pos != "Q1"}
+    legend: list[str] = []
+    c = Canvas(78, GROUND_Y + 1)
+
+    def label(pos: str) -> str:
+        text, long = _label(pos, values.get(pos))
+        if long:
+            legend.append(f"  * {pos} = {values[pos]}")
+        return text
+
+    rail = f"+{supply_v:g} V " if supply_v is not None else "+V "
+    c.put(0, 0, rail)
+    c.hline(len(rail), X_C, 0)
+    c.put(0, GROUND_Y, "0 V ")
+    c.hline(4, X_LOAD, GROUND_Y)
+
+    follower = topology == "emitter-follower"
+    feedback = topology == "collector-feedback"
+    # Collector: RC from the rail, or the rail straight down for a follower.
+    c.put(X_C, 0, "┐")
+    if follower:
+        c.vline(X_C, 1, BASE_Y - 2)
+    else:
+        c.resistor(X_C, 1, label("RC"))
+        c.vline(X_C, 4, BASE_Y - 2)
+    # Transistor glyph (NPN arrow out of the emitter; PNP drawn the same with the arrow in).
+    q1 = parts.get("Q1", {})
+    pnp = str(q1.get("polarity", "")).upper() == "PNP"
+    c.put(X_BAR, BASE_Y - 1, "│╱")
+    c.put(X_BAR, BASE_Y, "┤")
+    c.put(X_BAR, BASE_Y + 1, "│↖" if pnp else "│↘")
+    name = "Q1 " + str(q1.get("part", "")) if q1.get("part") else "Q1"
+    c.put(X_C + 2, BASE_Y - 1, "C")
+    c.put(X_BAR + 3, BASE_Y, name + (f" (line {q1['line']})" if "line" in q1 else ""))
+    c.put(X_C + 2, BASE_Y + 1, "E")
+
+    # Bias: R1/R2 divider, or RB from the collector for collector feedback.
+    if feedback:
+        c.put(X_DIV, 5, "┌")
+        c.hline(X_DIV + 1, X_C - 1, 5)
+        c.put(X_C, 5, "┼")
+        c.resistor(X_DIV, 6, label("RB"))
+        c.put(X_DIV, BASE_Y, "┴")
+    else:
+        c.put(X_DIV, 0, "┬")
+        c.resistor(X_DIV, 1, label("R1"))
+        c.vline(X_DIV, 4, BASE_Y - 1)
+        c.put(X_DIV, BASE_Y, "┼")
+        c.vline(X_DIV, BASE_Y + 1, 11)
+        c.resistor(X_DIV, 12, label("R2"))
+        c.vline(X_DIV, 15, GROUND_Y - 1)
+        c.put(X_DIV, GROUND_Y, "┴")
+    c.hline(X_DIV + 1, X_BAR - 1, BASE_Y)
+
+    # Input: source, CIN, to the base node.
+    c.put(0, BASE_Y, "in ○─")
+    c.hline(5, X_DIV - 1, BASE_Y)
+    cin = "+┤├" if "CIN" in polarised else "┤├"
+    c.put(8, BASE_Y, cin)
+    c.put(5, BASE_Y - 1, label("CIN"))
+    if source_ohms is not None:
+        c.put(0, BASE_Y + 1, f"source {format_resistance(source_ohms)}")
+
+    # Emitter chain.
+    y = BASE_Y + 2
+    c.put(X_C, y, "│")
+    if follower:
+        out_y = y
+        c.put(X_C, y, "├")
+        c.resistor(X_C, y + 1, label("RE"))
+        c.vline(X_C, y + 4, GROUND_Y - 1)
+    else:
+        out_y = 5
+        if not feedback:
+            c.put(X_C, out_y, "├")
+        if "RE1" in values:
+            c.resistor(X_C, y + 1, label("RE1"))
+        else:
+            c.vline(X_C, y + 1, y + 3)
+        node = y + 5
+        c.vline(X_C, y + 4, node)
+        if "RE2" in values:
+            c.resistor(X_C, node + 1, label("RE2"))
+            c.vline(X_C, node + 4, GROUND_Y - 1)
+        else:
+            c.vline(X_C, node + 1, GROUND_Y - 1)
+        if "CE" in values:
+            c.put(X_C, node, "├")
+            c.hline(X_C + 1, X_CE - 1, node)
+            c.put(X_CE, node, "┐")
+            c.vcap(X_CE, node + 1, label("CE"), "CE" in polarised)
+            c.vline(X_CE, node + 5, GROUND_Y - 1)
+            c.put(X_CE, GROUND_Y, "┴")
+    c.put(X_C, GROUND_Y, "┴")
+
+    # Output: COUT to the load.
+    c.hline(X_C + 1, X_LOAD - 1, out_y)
+    c.put(X_COUT, out_y, "+┤├" if "COUT" in polarised else "┤├")
+    c.put(X_COUT - 2, out_y - 1, label("COUT"))
+    c.put(X_LOAD, out_y, "┬─○ out")
+    load = f"load {format_resistance(load_ohms)}" if load_ohms is not None else "load"
+    c.resistor(X_LOAD, out_y + 1, load)
+    c.vline(X_LOAD, out_y + 4, GROUND_Y - 1)
+    c.put(X_LOAD, GROUND_Y, "┘")
+    drawing = c.text()
+    return drawing + ("\n" + "\n".join(legend) if legend else "")

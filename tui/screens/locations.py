@@ -1,0 +1,47 @@
+"""Counts per location: how many lines and pieces each drawer or bin holds."""
+
+from __future__ import annotations
+
+from collections import defaultdict
+
+from textual.app import ComposeResult
+from textual.binding import Binding
+from textual.containers import Vertical
+from textual.screen import ModalScreen
+from textual.widgets import DataTable, Label
+
+from inventory.parts import KINDS, Part
+
+
+def per_location(parts: list[Part]) -> list[tuple[str, int, int, str]]:
+    """(location, lines, pieces, pieces per kind) sorted by location; "" becomes "(none)"."""
+    lines: dict[str, int] = defaultdict(int)
+    pieces: dict[str, dict[str, int]] = defaultdict(lambda: defaultdict(int))
+    for p in parts:
+        lines[p.location] += 1
+        pieces[p.location][p.kind] += p.qty
+    out = []
+    for loc in sorted(lines):
+        kinds = ", ".join(f"{pieces[loc][k]} {k}s" for k in KINDS if k in pieces[loc])
+        out.append((loc or "(none)", lines[loc], sum(pieces[loc].values()), kinds))
+    return out
+
+
+class LocationsScreen(ModalScreen[None]):
+    BINDINGS = [Binding("escape,l", "close", "Close", id="locations.close")]
+
+    def compose(self) -> ComposeResult:
+        with Vertical(classes="dialog wide"):
+            yield Label("Counts per location", classes="dialog-title")
+            yield DataTable(id="locations", cursor_type="row", zebra_stripes=True)
+            yield Label("Esc closes", classes="field-note")
+
+    def on_mount(self) -> None:
+        table = self.query_one("#locations", DataTable)
+        table.add_columns("Place", "Lines", "Pieces", "Of which")
+        parts = self.app.drawer.parts if self.app.drawer else []
+        table.add_rows([(loc, str(n), str(q), kinds) for loc, n, q, kinds in per_location(parts)])
+        table.focus()
+
+    def action_close(self) -> None:
+        self.dismiss(None)

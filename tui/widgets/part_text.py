@@ -1,0 +1,76 @@
+"""How a drawer line is spelled on screen: RKM values, percent, ratings.  Spelling only."""
+
+from __future__ import annotations
+
+from inventory.parts import Part
+from inventory.store import describe as store_describe
+from inventory.values import format_capacitance, format_resistance
+
+COLUMNS = ("Line", "Kind", "Value", "Tol", "Rating", "Type", "Qty", "Location")
+
+
+def number(value: float) -> str:
+    """A plain figure without trailing zeros: 0.25, 50, 6.3."""
+    return f"{value:.4g}"
+
+
+def value_text(part: Part) -> str:
+    if part.kind == "resistor" and part.value is not None:
+        return format_resistance(part.value)
+    if part.kind == "capacitor" and part.value:
+        return format_capacitance(part.value)
+    return part.polarity or ""
+
+
+def tolerance_text(part: Part) -> str:
+    return f"{number(part.tolerance * 100)}%" if part.tolerance is not None else ""
+
+
+def rating_text(part: Part) -> str:
+    if part.kind == "resistor":
+        return f"{number(part.power_w)} W" if part.power_w else ""
+    if part.kind == "capacitor":
+        return f"{number(part.voltage_v)} V" if part.voltage_v else "? V"
+    bits = []
+    if part.hfe_min or part.hfe_max:
+        lo = number(part.hfe_min) if part.hfe_min else "?"
+        hi = number(part.hfe_max) if part.hfe_max else "?"
+        bits.append(f"hFE {lo}-{hi}")
+    if part.vceo_v:
+        bits.append(f"{number(part.vceo_v)} V")
+    return " ".join(bits)
+
+
+def type_text(part: Part) -> str:
+    if part.kind == "capacitor":
+        return part.dielectric or part.part or ""
+    return part.part or ""
+
+
+def row_cells(part: Part) -> tuple[str, ...]:
+    """The cells of one row, in `COLUMNS` order."""
+    return (str(part.line), part.kind, value_text(part), tolerance_text(part), rating_text(part),
+            type_text(part), str(part.qty), part.location)
+
+
+def describe(part: Part) -> str:
+    """One phrase for messages and journal reasons: "resistor 4k7 5% in A3 (line 5)"."""
+    return f"{store_describe(part)} (line {part.line})"
+
+
+def sort_key(column: int):
+    """Key function over parts for sorting by column `column` of `COLUMNS`."""
+    def kind_value(p: Part):
+        return (p.kind, p.value or 0.0, p.part or "")
+
+    keys = {
+        0: lambda p: p.line,
+        1: kind_value,
+        2: kind_value,
+        3: lambda p: (p.tolerance is None, p.tolerance or 0.0),
+        4: lambda p: (p.kind, p.power_w or p.voltage_v or p.hfe_min or 0.0),
+        5: lambda p: (type_text(p), p.value or 0.0),
+        6: lambda p: p.qty,
+        7: lambda p: (p.location, p.line),
+    }
+    return keys[column]
