@@ -47,8 +47,8 @@ def atomic_write(path: Path, data: bytes) -> None:
         with os.fdopen(fd, "wb") as f:
             f.write(data)
             f.flush()
-            os.fchmod(f.fileno(), mode)
             os.fsync(f.fileno())
+        os.chmod(tmp, mode)  # mkstemp made it 0600; keep the file's own bits
         os.replace(tmp, target)
     except BaseException:
         with contextlib.suppress(OSError):

@@ -66,6 +66,7 @@ def split_records(text: str, delimiter: str, first_line: int = 1) -> list[Record
     records: list[Record] = []
     n, pos, line = len(text), 0, first_line
     stops = delimiter + "\r\n"
+    plain = re.compile(f"[^{re.escape(stops)}]*")  # an unquoted cell runs to the next stop
     while pos < n:
         cells: list[str] = []
         spans: list[tuple[int, int]] = []
@@ -76,7 +77,7 @@ def split_records(text: str, delimiter: str, first_line: int = 1) -> list[Record
             while j < n and text[j] in " \t" and text[j] != delimiter:
                 j += 1
             if j < n and text[j] == '"':
-                value, end, trouble = _quoted(text, j, stops)
+                value, end, trouble = _quoted(text, j, plain)
                 if end < 0:  # never closed: read this one physical line without quoting
                     m = _BREAK.search(text, pos)
                     stop = m.start() if m else n
@@ -87,9 +88,7 @@ def split_records(text: str, delimiter: str, first_line: int = 1) -> list[Record
                 if trouble and broken is None:
                     broken = (len(cells) + 1, trouble)
             else:
-                end = j
-                while end < n and text[end] not in stops:
-                    end += 1
+                end = plain.match(text, j).end()
                 value = text[i:end]
             cells.append(value)
             spans.append((i - pos, end - pos))
@@ -113,9 +112,9 @@ def _column_of(spans: list[tuple[int, int]], offset: int) -> int:
     return len(spans) or 1
 
 
-def _quoted(text: str, j: int, stops: str) -> tuple[str, int, str | None]:
+def _quoted(text: str, j: int, plain: re.Pattern) -> tuple[str, int, str | None]:
     """Read a quoted cell whose opening quote is at `j`: (value, end offset or -1, trouble)."""
-    parts, k, n = [], j + 1, len(text)
+    parts, k = [], j + 1
     while True:
         q = text.find('"', k)
         if q < 0:
@@ -127,9 +126,7 @@ def _quoted(text: str, j: int, stops: str) -> tuple[str, int, str | None]:
             continue
         k = q + 1
         break
-    end = k
-    while end < n and text[end] not in stops:
-        end += 1
+    end = plain.match(text, k).end()
     trailing = text[k:end]
     trouble = f'text {trailing.strip()!r} follows a closing quote' if trailing.strip() else None
     return "".join(parts) + trailing.rstrip(), end, trouble

@@ -67,14 +67,19 @@ class Txn:
     edits: list[Edit] = field(default_factory=list)
 
 
+def identity_and_row(drawer: Drawer, idx: int) -> tuple[list | None, dict[str, str]]:
+    """Record `idx`'s part identity (None for a line with errors) and its cells by column."""
+    rec = drawer.records[idx]
+    part = drawer.part_at(rec.line)
+    row = {name: rec.cells[i] for name, i in drawer.columns.items() if i < len(rec.cells)}
+    return (list(part.identity) if part is not None else None), row
+
+
 def change_for(drawer: Drawer, idx: int, before: str | None, after: str | None,
                qty_before: int | None, qty_after: int | None) -> Change:
     """A journal Change for record `idx` of `drawer` (its identity, cells and the two raw texts)."""
-    rec = drawer.records[idx]
-    part = drawer.part_at(rec.line)
-    ident = list(part.identity) if part is not None else None
-    row = {name: rec.cells[i] for name, i in drawer.columns.items() if i < len(rec.cells)}
-    return Change(rec.line, idx, ident, row, before, after, qty_before, qty_after)
+    identity, row = identity_and_row(drawer, idx)
+    return Change(drawer.records[idx].line, idx, identity, row, before, after, qty_before, qty_after)
 
 
 def qty_edit(txn: Txn, idx: int, part: Part, qty: int) -> None:
@@ -84,15 +89,21 @@ def qty_edit(txn: Txn, idx: int, part: Part, qty: int) -> None:
     txn.edits.append(Edit("replace", idx, new.raw, change_for(txn.fresh, idx, rec.raw, new.raw, part.qty, qty)))
 
 
-def find_again(drawer: Drawer, identity: list | tuple | None, raw: str | None, what: str) -> int:
+def find_again(drawer: Drawer, identity: list | tuple | None, raw: str | None, what: str,
+               line: int | None = None) -> int:
     """Record index in `drawer` of the part with `identity` (or, for a line with errors, `raw`).
 
-    ConflictError when it is not there or matches more than one line.
+    Lines holding the same part twice (a warning, not an error) are told apart by their exact
+    text; identical lines are interchangeable, and `line` picks one.  ConflictError when it is not there or still matches more than one line.
     """
     if identity is not None:
         lines = [p.line for p in drawer.find(identity_key(tuple(identity)))]
     else:
         lines = [r.line for r in drawer.records if r.raw == raw]
+    if len(lines) > 1:
+        same_text = [n for n in lines if drawer.records[drawer.record_index(n)].raw == raw]
+        if same_text:  # lines of identical text are interchangeable
+            lines = [line if line in same_text else same_text[0]]
     if not lines:
         raise ConflictError(f"{drawer.path} was changed and {what} is no longer there "
                             "(edited or removed); nothing was written — reload and try again")

@@ -9,12 +9,14 @@
                   "raw_before": "resistor,4k7,10,...\n", "raw_after": "resistor,4k7,8,...\n",
                   "qty_before": 10, "qty_after": 8}]}
 
-action is add, remove, count, take or undo.  For add qty_before/raw_before are null, for
-remove qty_after/raw_after are null.  `identity` is Part.identity (null for a line with errors,
-which is then found again by its raw text); `index` is the record's position in the file, used to
-put a removed line back where it was.  A change with "header": true is the header line, changed
-when an added part needed a column the file lacked.  An undo entry names the entry it reverts in `undoes` and
-lists the changes it made, so it can be undone in turn.  Ids count up from 1.
+action is add, remove, count, take, edit or undo.  For add qty_before/raw_before are null, for
+remove qty_after/raw_after are null.  `identity` and `row` describe the line as the change left
+it (for a remove: as it was); `identity` is Part.identity, null for a line with errors, which is
+then found again by its raw text.  `index` is the record's position in the file, used to put a
+removed line back where it was.  Two optional flags: "rewrite": true marks an edit of the whole
+line (undo puts raw_before back), "header": true the header line, changed when an added part
+needed a column the file lacked.  An undo entry names the entry it reverts in `undoes` and lists
+the changes it made, so it can be undone in turn.  Ids count up from 1.
 
 The drawer file is saved before its entry is appended (both under the drawer's lock): a crash
 between the two leaves a change without an entry, never an entry for a change not made.  A torn
@@ -30,7 +32,7 @@ from pathlib import Path
 
 from .atomic import append_durably, fsync_dir
 
-ACTIONS = ("add", "remove", "count", "take", "undo")
+ACTIONS = ("add", "remove", "count", "take", "edit", "undo")
 
 
 def journal_path(drawer_path: str | Path) -> Path:
@@ -51,6 +53,7 @@ class Change:
     qty_before: int | None
     qty_after: int | None
     header: bool = False    # the header line (a column added for a new part)
+    rewrite: bool = False   # the line was edited as a whole: undo puts raw_before back
 
 
 @dataclass

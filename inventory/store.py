@@ -19,11 +19,11 @@ from .atomic import LockBusy, atomic_write, locked
 from .drawer import Drawer
 from .edits import (
     ConflictError, Edit, NothingToUndo, StockError, StoreError, Txn, apply_edits, change_for, describe,
-    find_again, qty_edit,
+    find_again, identity_and_row, qty_edit,
 )
-from .journal import Change, Entry, Journal, journal_path, now_iso
+from .journal import Entry, Journal, journal_path, now_iso
 from .parts import Part
-from .rows import COLUMNS, identity_key
+from .rewrite import normalise, plan_add, plan_edit
 from .undo import plan_undo
 
 __all__ = ["Store", "StoreError", "StockError", "ConflictError", "NothingToUndo", "describe"]
@@ -72,13 +72,17 @@ class Store:
         moved = self._base is not None and data != self._base
         txn = Txn(fresh, self._drawer if moved and self._drawer else fresh, moved)
         plan(txn)
+        if not txn.edits:
+            return Entry(0, now_iso(), action, reason, self.path.name, [], txn.undoes)
         out, where = apply_edits(fresh, txn.edits)
         new_bytes = csvfile.encode("".join(out), fresh.dialect.bom)
         new = Drawer.from_bytes(new_bytes, str(self.path))
         for e, pos in zip(txn.edits, where, strict=True):
-            if pos is not None and e.change is not None:  # where the line now sits, as saved
+            if pos is not None and e.change is not None:  # the line as saved, and where it sits
                 e.change.raw_after, e.change.index = out[pos], pos
                 e.change.line = new.records[pos].line
+                if not e.change.header:
+                    e.change.identity, e.change.row = identity_and_row(new, pos)
         changes = [e.change for e in txn.edits if e.change is not None]  # a new file's header is not
         entry = Entry(self.journal.next_id(), now_iso(), action, reason, self.path.name, changes, txn.undoes)
         try:
@@ -103,8 +107,16 @@ class Store:
         if not txn.moved:
             return bi, bpart
         what = f"the {describe(bpart)} that was on line {line}" if bpart else f"line {line}"
-        idx = find_again(txn.fresh, bpart.identity if bpart else None, base.records[bi].raw, what)
+        idx = find_again(txn.fresh, bpart.identity if bpart else None, base.records[bi].raw, what, line)
         return idx, txn.fresh.part_at(txn.fresh.records[idx].line)
+
+    def _refuse_if_edited(self, txn: Txn, line: int, idx: int) -> None:
+        """A whole-line change (remove, edit) must not overwrite an edit made elsewhere."""
+        rec = txn.fresh.records[idx]
+        bi = txn.base.record_index(line)
+        if txn.moved and bi is not None and txn.base.records[bi].raw != rec.raw:
+            raise ConflictError(f"{self.path} was changed since it was read: line {line} was edited "
+                                f"(now line {rec.line}); not overwriting it — reload and try again")
 
     # ---- changes ---------------------------------------------------------------------------
 
@@ -164,11 +176,8 @@ class Store:
 
         def plan(txn: Txn) -> None:
             idx, part = self._target(txn, line, need_part=False)
+            self._refuse_if_edited(txn, line, idx)
             rec = txn.fresh.records[idx]
-            bi = txn.base.record_index(line)
-            if txn.moved and bi is not None and txn.base.records[bi].raw != rec.raw:
-                raise ConflictError(f"{self.path} was changed since it was read: line {line} was edited "
-                                    f"(now line {rec.line}); not removing it — reload and try again")
             qty = part.qty if part else None
             txn.edits.append(Edit("delete", idx, None, change_for(txn.fresh, idx, rec.raw, None, qty, None)))
 
@@ -180,60 +189,28 @@ class Store:
         A known column missing from the header is added to it; an unknown one is refused.
         Refused when the new line has errors or repeats a part already in the file.
         """
-        cells = {str(k).strip().lower(): ("" if v is None else str(v).strip()) for k, v in fields.items()}
-        return self._transact("add", reason, lambda txn: self._plan_add(txn, cells))
+        cells = normalise(fields)
+        return self._transact("add", reason, lambda txn: plan_add(txn, cells))
+
+    def edit_part(self, line: int, fields: dict[str, str], reason: str = "") -> Entry:
+        """Rewrite cells of `line` in place (column → new text; columns not named stay as they are).
+
+        Only cells whose text changes are re-spelt.  Refused like add_part when the edited line
+        has errors or repeats another line's part, and when the line was edited elsewhere since
+        this Store loaded.  An edit that changes nothing writes nothing (an entry without changes).
+        """
+        cells = normalise(fields)
+
+        def plan(txn: Txn) -> None:
+            idx, _ = self._target(txn, line, need_part=False)
+            self._refuse_if_edited(txn, line, idx)
+            plan_edit(txn, idx, cells)
+
+        return self._transact("edit", reason, plan)
 
     def undo(self, entry_id: int | None = None, reason: str = "") -> Entry:
         """Revert the last change not yet undone (or entry `entry_id`); the undo is journaled too."""
         return self._transact("undo", reason, lambda txn: plan_undo(txn, self.journal.read(), entry_id))
-
-    def _plan_add(self, txn: Txn, cells: dict[str, str]) -> None:
-        fresh = txn.fresh
-        delim, newline = fresh.dialect.delimiter, fresh.dialect.newline
-        unknown = [k for k in cells if k not in fresh.columns and k not in COLUMNS]
-        if unknown:
-            have = ", ".join(fresh.columns) or "none"
-            raise StoreError(f'{self.path} has no column "{unknown[0]}" (columns: {have})')
-        columns = dict(fresh.columns)
-        if fresh.header is None:  # an empty file: start it with a header
-            names = [c for c in COLUMNS if c in cells or c in ("kind", "value", "qty", "location")]
-            txn.edits.append(Edit("insert", len(fresh.records), csvfile.make_raw(names, delim, newline), None))
-            columns = {n: i for i, n in enumerate(names)}
-        else:
-            header = fresh.records[fresh.header]
-            for k in cells:
-                if k not in columns:  # a known column the file lacks: append it to the header
-                    header = csvfile.with_cell(header, len(header.cells), k, delim)
-                    columns[k] = len(header.cells) - 1
-            if header is not fresh.records[fresh.header]:
-                old = fresh.records[fresh.header]
-                change = Change(old.line, fresh.header, None, {}, old.raw, header.raw, None, None, header=True)
-                txn.edits.append(Edit("replace", fresh.header, header.raw, change))
-        row = [""] * (max(columns.values()) + 1)
-        for k, v in cells.items():
-            row[columns[k]] = v
-        raw = csvfile.make_raw(row, delim, newline)
-        txn.edits.append(Edit("insert", len(fresh.records), raw, None))
-        _check_new_line(self.path, txn)
-
-
-def _check_new_line(path: Path, txn: Txn) -> None:
-    """Refuse the added line if it has errors or repeats a part; fill in its journal Change."""
-    out, where = apply_edits(txn.fresh, txn.edits)
-    trial = Drawer.parse("".join(out), str(path))
-    added = txn.edits[-1]
-    rec = trial.records[where[-1]]
-    errors = [p for p in trial.problems if p.line == rec.line and p.is_error]
-    if errors:
-        raise StoreError("the new line is not valid: " + "; ".join(p.message for p in errors))
-    part = trial.part_at(rec.line)
-    if part is None:
-        raise StoreError("the new line is empty: give at least kind, value and qty")
-    same = [p for p in trial.find(identity_key(part.identity)) if p.line != rec.line]
-    if same:
-        raise StoreError(f"{path}:{same[0].line} already holds this part ({describe(part)}); "
-                         "change its count instead")
-    added.change = change_for(trial, where[-1], None, rec.raw, None, part.qty)
 
 
 def _check_count(qty: object, what: str, positive: bool = False) -> None:

@@ -37,6 +37,8 @@ def plan_undo(txn: Txn, entries: list[Entry], entry_id: int | None) -> None:
         what = _name(c, target.id)
         if c.header:
             _undo_header(txn, c)
+        elif c.rewrite:
+            _undo_rewrite(txn, c, what)
         elif c.raw_before is not None and c.raw_after is not None:
             _undo_count(txn, c, what)
         elif c.raw_before is None and c.raw_after is not None:
@@ -53,7 +55,7 @@ def _name(c: Change, entry_id: int) -> str:
 
 def _undo_count(txn: Txn, c: Change, what: str) -> None:
     fresh = txn.fresh
-    idx = find_again(fresh, c.identity, c.raw_after, what)
+    idx = find_again(fresh, c.identity, c.raw_after, what, c.line)
     rec = fresh.records[idx]
     part = fresh.part_at(rec.line)
     if part is None or c.qty_before is None or c.qty_after is None:
@@ -69,9 +71,20 @@ def _undo_count(txn: Txn, c: Change, what: str) -> None:
     txn.edits.append(Edit("replace", idx, raw, change_for(fresh, idx, rec.raw, raw, part.qty, qty)))
 
 
+def _undo_rewrite(txn: Txn, c: Change, what: str) -> None:
+    fresh = txn.fresh
+    idx = find_again(fresh, c.identity, c.raw_after, what, c.line)
+    rec = fresh.records[idx]
+    if rec.raw != c.raw_after or c.raw_before is None:
+        raise ConflictError(f"cannot undo: {what} (line {rec.line}) was changed again since; "
+                            "edit it back by hand")
+    change = Change(rec.line, idx, None, {}, rec.raw, c.raw_before, c.qty_after, c.qty_before, rewrite=True)
+    txn.edits.append(Edit("replace", idx, c.raw_before, change))
+
+
 def _undo_add(txn: Txn, c: Change, what: str) -> None:
     fresh = txn.fresh
-    idx = find_again(fresh, c.identity, c.raw_after, what)
+    idx = find_again(fresh, c.identity, c.raw_after, what, c.line)
     rec = fresh.records[idx]
     if rec.raw != c.raw_after:
         raise ConflictError(f"cannot undo: {what} (line {rec.line}) was changed after it was added; "
@@ -99,9 +112,13 @@ def _undo_header(txn: Txn, c: Change) -> None:
     fresh = txn.fresh
     if fresh.header is None or c.raw_before is None or fresh.records[fresh.header].raw != c.raw_after:
         return
-    width = len(csvfile.split_records(c.raw_before, fresh.dialect.delimiter)[0].cells)
+    delim = fresh.dialect.delimiter
+    width = len(csvfile.split_records(c.raw_before, delim)[0].cells)
     leaving = {e.index for e in txn.edits if e.kind == "delete"}
+    planned = {e.index: e.raw for e in txn.edits if e.kind == "replace" and e.raw is not None}
     for i, rec in enumerate(fresh.records[fresh.header + 1:], start=fresh.header + 1):
+        if i in planned:  # this undo already rewrites the line: look at it as it will be
+            rec = csvfile.split_records(planned[i], delim)[0]
         if i not in leaving and any(cell.strip() for cell in rec.cells[width:]):
             return
     change = Change(c.line, fresh.header, None, {}, c.raw_after, c.raw_before, None, None, header=True)

@@ -15,6 +15,7 @@ import numpy as np
 from . import swing as loadline
 from .circuit import NODES, build, operating_point, q_currents, solve_small_signal
 from .distortion import distortion
+from .ratings import check_ratings
 from .response import capacitor_corners, curve, lower_corner, midband, small_signal_params
 from .stage import COLLECTOR_FEEDBACK, EMITTER_FOLLOWER, Stage
 
@@ -79,8 +80,13 @@ def _plain(x):
     return x
 
 
-def analyze(stage: Stage, swing_pp: float | None = None) -> Report:
-    """Exact DC, midband, response, swing, dissipation and (if `swing_pp` V p-p is given) THD of `stage`."""
+def analyze(stage: Stage, swing_pp: float | None = None, *, ratings: dict | None = None) -> Report:
+    """Exact DC, midband, response, swing, dissipation and (if `swing_pp` V p-p is given) THD of `stage`.
+
+    ratings (optional): {"resistor_power_w": {POS: W}, "capacitor_voltage_v": {POS: V},
+    "capacitor_polarised": {POS: bool}} for optimizer.ratings' checks; the transistor's own
+    limits (vceo_v, ic_max_a, pd_max_w) are always checked.
+    """
     circuit = build(stage)
     op = operating_point(circuit)
     ic, ib = (float(x) for x in q_currents(circuit, op)[:2])
@@ -107,7 +113,7 @@ def analyze(stage: Stage, swing_pp: float | None = None) -> Report:
 
     predicted = {"gain": mid.gain, "vb": vb, "ve": ve, "vc": vc, "ic": ic, "rin": mid.rin_ohms,
                  "rout": mid.rout_ohms, "f_low": f_low, "swing_pp": limits["pp"], "thd": None}
-    warnings = _warnings(stage, point, power)
+    warnings = _warnings(stage, point) + _rating_warnings(stage, point, power, ratings)
     dist = None
     if swing_pp is not None and (point["saturated"] or point["cutoff"]):
         warnings.append(f"distortion at {swing_pp:g} V p-p not computed: Q1 is not biased into its active region")
@@ -172,7 +178,7 @@ def _textbook(stage: Stage, ic: float, vt: float) -> dict:
     return out
 
 
-def _warnings(stage: Stage, point: dict, power: dict) -> list[str]:
+def _warnings(stage: Stage, point: dict) -> list[str]:
     out = []
     if point["saturated"]:
         out.append(f"Q1 is saturated at the operating point (VCE = {point['vce']:.3g} V)")
@@ -182,11 +188,16 @@ def _warnings(stage: Stage, point: dict, power: dict) -> list[str]:
         out.append("no CIN: the source is DC-coupled to the base, so its resistance is part of the bias")
     if "COUT" not in stage.capacitors:
         out.append("no COUT: the load is DC-coupled and carries the stage's DC output voltage")
-    t = stage.transistor
-    if t.vceo_v is not None and stage.supply_v > t.vceo_v:
-        out.append(f"supply {stage.supply_v:g} V exceeds Q1's VCEO {t.vceo_v:g} V")
-    if t.ic_max_a is not None and point["ic"] > t.ic_max_a:
-        out.append(f"IC {point['ic']:.3g} A exceeds Q1's rating {t.ic_max_a:g} A")
-    if t.pd_max_w is not None and power["Q1"] > t.pd_max_w:
-        out.append(f"Q1 dissipates {power['Q1']:.3g} W, over its {t.pd_max_w:g} W rating")
     return out
+
+
+def _rating_warnings(stage: Stage, point: dict, power: dict, ratings: dict | None) -> list[str]:
+    """ratings.py's checks (transistor limits always; parts' ratings when given) on the exact bias."""
+    op = {"vb": point["vb"], "ve": point["ve"], "vc": point["vc"], "vn": point["vmid"], "ic": point["ic"],
+          "p_q": power["Q1"], **{f"p_{k}": v for k, v in power.items() if k != "Q1"}}
+    r = ratings or {}
+    checked = check_ratings(stage.topology, op, transistor=stage.transistor, supply_v=stage.supply_v,
+                            resistor_power_w=r.get("resistor_power_w"),
+                            capacitor_voltage_v=r.get("capacitor_voltage_v"),
+                            capacitor_polarised=r.get("capacitor_polarised"))
+    return checked.warnings()

@@ -49,6 +49,7 @@ class Assignment:
         m = self.model = cp_model.CpModel()
         n = len(rows["q"])
         self.values = {}
+        self.cap = {}
         self.v, self.x = {}, {}
         table = self.pool.table
         parts_terms, frac_terms, cap_terms = [], [], []
@@ -58,9 +59,6 @@ class Assignment:
             self.values[p] = vals
             self.v[p] = m.new_int_var(0, len(vals) - 1, f"v[{p}]")
             xs = []
-            need = m.new_int_var(0, int(rows[f"need_{p}"].max(initial=0)), f"need[{p}]")
-            self.need = getattr(self, "need", {})
-            self.need[p] = need
             value_terms = []
             for j, val in enumerate(vals):
                 nets = [None] if val == 0 else list(self.pool.networks_of(float(val)))
@@ -79,17 +77,21 @@ class Assignment:
                         usage.setdefault(int(row_), []).append(int(cnt) * b)
             m.add_exactly_one(xs)
             m.add(self.v[p] == sum(value_terms))
-            m.add(sum(cap_terms) >= need)
+            self.cap[p] = sum(cap_terms)
             cap_terms = []
         self.q = m.new_int_var(0, len(qlines) - 1, "q")
-        cols = {k: m.new_int_var(int(rows[k].min()), int(rows[k].max()), k)
-                for k in ("ge", "nsm", "pc", "ec", "fc", "nf")}
+        self.rid = m.new_int_var(0, n - 1, "row")
         vidx = {p: np.searchsorted(self.values[p], rows[p]) for p in positions}
-        tbl = np.column_stack([vidx[p] for p in positions] + [rows["q"]]
-                              + [rows[k] for k in cols] + [rows[f"need_{p}"] for p in positions])
+        tbl = np.column_stack([vidx[p] for p in positions] + [rows["q"], np.arange(n)])
         self.vars = [self.v[p] for p in positions] + [self.q]
-        m.add_allowed_assignments(self.vars + list(cols.values()) + [self.need[p] for p in positions],
-                                  tbl.astype(np.int64).tolist())
+        m.add_allowed_assignments(self.vars + [self.rid], tbl.astype(np.int64).tolist())
+        cols = {}
+        for k in ("ge", "nsm", "pc", "ec", "fc", "nf") + tuple(f"need_{p}" for p in positions):
+            vals = rows[k].astype(np.int64)
+            cols[k] = m.new_int_var(int(vals.min()), int(vals.max()), k)
+            m.add_element(self.rid, vals.tolist(), cols[k])
+        for p in positions:
+            m.add(self.cap[p] >= cols[f"need_{p}"])
         self._vidx = vidx
         emptied, frac = [cols["ec"]], [cols["fc"]]
         lines = table.stock_line
@@ -108,6 +110,17 @@ class Assignment:
             sum(emptied),
             sum(frac),
             cols["nf"],
+        ]
+        max_parts = sum(max((int(table.parts[net]) for (q_, net) in self.x if q_ == p and net is not None),
+                            default=0) for p in positions)
+        frac_hi = sum(objective.line_weight(int(stock_qty[r])) * int(stock_qty[r]) for r in usage)
+        self.bounds = [
+            (0, max_parts + int(rows["pc"].max()) + 1),
+            (int(rows["ge"].min()), int(rows["ge"].max())),
+            (int(rows["nsm"].min()), int(rows["nsm"].max())),
+            (0, len(usage) + int(rows["ec"].max())),
+            (0, frac_hi + int(rows["fc"].max())),
+            (int(rows["nf"].min()), int(rows["nf"].max())),
         ]
         self.n_rows = n
         self._forbidden = []
@@ -144,32 +157,43 @@ class Assignment:
             done.set()
             t.join()
 
+    def stages(self):
+        """Consecutive levels merged into one weighted objective while the weights fit in 2^60."""
+        out, group, weight = [], [], 1
+        for k in reversed(range(len(self.levels))):
+            lo, hi = self.bounds[k]
+            span = hi - lo + 1
+            if group and weight * span > 2**60:
+                out.append(group)
+                group, weight = [], 1
+            group.insert(0, (k, weight))
+            weight *= span
+        out.append(group)
+        return list(reversed(out))
+
     def solve(self) -> Choice | None:
         """The lexicographic optimum, or None when no row can be realised from the stock."""
         model = self.model.clone()  # the stage constraints stay on the copy
-        values = []
         solver = None
-        for level in self.levels:
+        for group in self.stages():
+            expr = sum(w * (self.levels[k] - self.bounds[k][0]) for k, w in group)
             model.clear_objective()
-            model.minimize(level)
+            model.minimize(expr)
             solver = self._solver()
             status = self._run(solver, model)
             if self.stopped or status not in (cp_model.OPTIMAL, cp_model.FEASIBLE):
                 return None
-            best = int(round(solver.objective_value))
-            values.append(best)
-            model.add(level <= best)
+            model.add(expr <= int(round(solver.objective_value)))
             model.clear_hints()
             for b in self.x.values():
                 model.add_hint(b, solver.boolean_value(b))
+        values = [int(solver.value(level)) for level in self.levels]
         nets = {}
         for (p, net), b in self.x.items():
             if solver.boolean_value(b):
                 nets[p] = net
         qv = solver.value(self.q)
-        key = tuple(self.values[p][solver.value(self.v[p])] for p in self.positions)
-        row = self._row_of(key, qv)
-        return Choice(nets, qv, row, objective.Score(*values))
+        return Choice(nets, qv, int(solver.value(self.rid)), objective.Score(*values))
 
     def _row_of(self, key, qv):
         mask = self.rows["q"] == qv

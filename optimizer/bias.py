@@ -126,6 +126,11 @@ def _limit_junction(v_new, v_old, vt, vcrit):
     return np.where(v_old > 0, from_pos, from_neg)
 
 
+def _take(x, k):
+    """x[k] for per-candidate arrays; scalars (one value for all candidates) pass through."""
+    return x[k] if np.ndim(x) else x
+
+
 def _initial_guess(a0, ab, ac, d0, db, dc, is_a, bf, br, vaf_v, vt):
     """Start close enough that Newton needs two or three full steps.
 
@@ -151,7 +156,7 @@ def _initial_guess(a0, ab, ac, d0, db, dc, is_a, bf, br, vaf_v, vt):
     sat = vbe - vbc < 0.25
     if np.any(sat):
         k = np.flatnonzero(sat)
-        ab_, ac_, a0_, bf_, br_, is_ = ab[k], ac[k], a0[k], bf[k], br[k], is_a[k]
+        ab_, ac_, a0_, bf_, br_, is_, vt_ = (_take(x, k) for x in (ab, ac, a0, bf, br, is_a, vt))
         s0 = a0_ - d0[k] - 0.1
         p0 = a0_ - vbe[k]
         mb, mc = ab_ - db[k], ac_ - dc[k]
@@ -161,7 +166,6 @@ def _initial_guess(a0, ab, ac, d0, db, dc, is_a, bf, br, vaf_v, vt):
         ibc = (bf_ * ib - ic) / (bf_ / br_ + 1.0 + 1.0 / br_)
         ibe = bf_ * (ib - ibc / br_)
         ok = (ibc > 0) & (ibe > 0)
-        vt_ = vt[k]
         vbe[k] = np.where(ok, vt_ * np.log(np.where(ok, ibe, 1.0) / is_ + 1.0), vbe[k])
         vbc[k] = np.where(ok, vt_ * np.log(np.where(ok, ibc, 1.0) / is_ + 1.0), vbe[k] - 0.1)
     return vbe, vbc
@@ -170,55 +174,64 @@ def _initial_guess(a0, ab, ac, d0, db, dc, is_a, bf, br, vaf_v, vt):
 def solve_operating_point(net: Network, is_a, bf, br, vaf_v, vt_v):
     """Newton solve of the junction voltages; returns dict of 1-D arrays.
 
-    All inputs are 1-D arrays of one length n (vaf_v may be a scalar).
+    Inputs are 1-D arrays of one length n or scalars (one value for every candidate).
     Keys: vbe, vbc, ic, ib (V, A), converged (bool), iterations (int, the most any candidate used).
     f1 = VB − VE − VBE = 0 and f2 = VB − VC − VBC = 0 are solved jointly; the
     reported currents are `terminal_currents` at the converged junction voltages.
     """
-    a0, ab, ac = net.b0 - net.e0, net.rbb + net.re, net.rbc + net.re
-    d0, db, dc = net.b0 - net.c0, net.rbb - net.rcb, net.rbc - net.rcc
+    shape = np.broadcast_shapes(*(np.shape(x) for x in (*net, is_a, bf, br, vt_v)))
+    n = shape[0] if shape else 1
+    a0, ab, ac, d0, db, dc = (np.broadcast_to(x, (n,)) for x in (
+        net.b0 - net.e0, net.rbb + net.re, net.rbc + net.re, net.b0 - net.c0, net.rbb - net.rcb, net.rbc - net.rcc))
     vbe, vbc = _initial_guess(a0, ab, ac, d0, db, dc, is_a, bf, br, vaf_v, vt_v)
-    vcrit = vt_v * np.log(vt_v / (np.sqrt(2.0) * is_a))
-    n = vbe.shape[0]
+    two_vt = 2.0 * float(np.min(vt_v)) if n else 0.0
     converged = np.zeros(n, dtype=bool)
     idx = np.arange(n)
     inv_vaf = 1.0 / np.asarray(vaf_v, dtype=float)
-    per = [a0, ab, ac, d0, db, dc, vt_v, vcrit, 1.0 / vt_v, is_a, is_a / vt_v, 1.0 / bf, 1.0 / br]
-    if inv_vaf.ndim:
-        per.append(np.broadcast_to(inv_vaf, (n,)))
+    # Per-candidate constants, compacted along with the iterates as candidates settle.
+    per = [a0, ab, ac, d0, db, dc, 1.0 / vt_v, is_a, is_a / vt_v, 1.0 / bf, 1.0 / br, inv_vaf]
     xbe, xbc = vbe.copy(), vbc.copy()
     iterations = 0
     while idx.size and iterations < MAX_ITERATIONS:
         iterations += 1
-        a0_, ab_, ac_, d0_, db_, dc_, vt_, vcr_ = per[:8]
-        k = tuple(per[8:13]) + ((per[13],) if inv_vaf.ndim else (inv_vaf,))
+        a0_, ab_, ac_, d0_, db_, dc_ = per[:6]
+        k = tuple(per[6:12])
         ic, ib, y11, y12, y21, y22 = _model_step(xbe, xbc, k)
         f1 = a0_ - ab_ * ib - ac_ * ic - xbe
         f2 = d0_ - db_ * ib - dc_ * ic - xbc
-        j11 = -ab_ * y11 - ac_ * y21 - 1.0
-        j12 = -ab_ * y12 - ac_ * y22
-        j21 = -db_ * y11 - dc_ * y21
-        j22 = -db_ * y12 - dc_ * y22 - 1.0
+        # J' = −(Jacobian of f1, f2): the step is J'^-1·f.
+        j11 = ab_ * y11 + ac_ * y21 + 1.0
+        j12 = ab_ * y12 + ac_ * y22
+        j21 = db_ * y11 + dc_ * y21
+        j22 = db_ * y12 + dc_ * y22 + 1.0
         inv_det = 1.0 / (j11 * j22 - j12 * j21)
-        dbe = (j12 * f2 - j22 * f1) * inv_det
-        dbc = (j21 * f1 - j11 * f2) * inv_det
-        done = (np.abs(dbe) < TOLERANCE_V) & (np.abs(dbc) < TOLERANCE_V)
+        dbe = (j22 * f1 - j12 * f2) * inv_det
+        dbc = (j11 * f2 - j21 * f1) * inv_det
+        step = np.maximum(np.abs(dbe), np.abs(dbc))
+        done = step < TOLERANCE_V
         new_be = xbe + dbe
         new_bc = xbc + dbc
-        for new, old in ((new_be, xbe), (new_bc, xbc)):
-            big = np.flatnonzero((new > vcr_) & (np.abs(new - old) > 2.0 * vt_))
-            if big.size:  # few candidates need limiting after the first steps
-                new[big] = _limit_junction(new[big], old[big], vt_[big], vcr_[big])
+        large = np.flatnonzero(step > two_vt)
+        if large.size:  # only steps over 2·Vt can need limiting; few after the first ones
+            g = idx[large]
+            vt_g, is_g = _take(vt_v, g), _take(is_a, g)
+            vcrit = vt_g * np.log(vt_g / (np.sqrt(2.0) * is_g))  # SPICE's critical voltage
+            for new, old in ((new_be, xbe), (new_bc, xbc)):
+                nl, ol = new[large], old[large]
+                hit = (nl > vcrit) & (np.abs(nl - ol) > 2.0 * vt_g)
+                if hit.any():
+                    new[large[hit]] = _limit_junction(nl[hit], ol[hit], _take(vt_g, hit), _take(vcrit, hit))
         xbe, xbc = new_be, new_bc
         n_done = np.count_nonzero(done)
         if n_done:
-            vbe[idx[done]] = xbe[done]
-            vbc[idx[done]] = xbc[done]
-            converged[idx[done]] = True
+            settled = idx[done]
+            vbe[settled] = xbe[done]
+            vbc[settled] = xbc[done]
+            converged[settled] = True
             if n_done * 2 >= done.size:  # compact when half have settled
                 keep = ~done
                 idx = idx[keep]
-                per = [a[keep] for a in per]
+                per = [_take(a, keep) for a in per]
                 xbe, xbc = xbe[keep], xbc[keep]
     if idx.size:  # leave the last iterate in place, flagged not converged
         live = ~converged[idx]

@@ -25,6 +25,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from . import decompose
 from .networks import NetworkTable, resistor_networks
 from .stage import COLLECTOR_FEEDBACK, COMMON_EMITTER, EMITTER_FOLLOWER
 from .transistor import Transistor
@@ -137,25 +138,23 @@ def _prune_gain(rc, re1, spec, rb=None):
     return (re1 == 0) | (rcl >= GAIN_BOUND_SLACK * lo * re1)
 
 
-def tuples(topology: str, profile: dict, pool: Pool, spec):
+def tuples(topology: str, profile: dict, pool: Pool, spec, q: QLine):
     """Chunks (dict position → ohms array) of the value tuples of one profile that survive pruning."""
     g = {p: pool.group(k) for p, k in profile.items()}
     if any(len(v) == 0 for v in g.values()):
+        return
+    if topology == COMMON_EMITTER:
+        out = []
+        betas = (q.transistor.hfe_min, q.transistor.hfe_max)
+        decompose.ce_tuples(g, spec, q.transistor, betas, out.append)
+        for chunk in out:
+            yield from _split(chunk)
         return
     if topology == EMITTER_FOLLOWER:
         r1, r2 = _grid(g["R1"], g["R2"])
         keep = _prune_divider(r1, r2, spec)
         outer = {"R1": r1[keep], "R2": r2[keep]}
         inner = {"RE": g["RE"]}
-    elif topology == COMMON_EMITTER:
-        r1, r2 = _grid(g["R1"], g["R2"])
-        keep = _prune_divider(r1, r2, spec)
-        rc, re1 = _grid(g["RC"], g["RE1"])
-        ok = _prune_gain(rc, re1, spec)
-        rc, re1 = rc[ok], re1[ok]
-        outer = {"R1": r1[keep], "R2": r2[keep]}
-        inner = {"RC": rc, "RE1": re1}
-        inner = _cross(inner, {"RE2": g["RE2"]})
     else:
         rb = g["RB"][g["RB"] >= spec.min_rin_ohms * (1 - 1e-12)]  # Rin of a Miller stage ≤ RB
         rc, re1 = _grid(g["RC"], g["RE1"])
@@ -163,6 +162,12 @@ def tuples(topology: str, profile: dict, pool: Pool, spec):
         outer = {"RB": rb}
         inner = _cross({"RC": rc[ok], "RE1": re1[ok]}, {"RE2": g["RE2"]})
     yield from _chunks(outer, inner)
+
+
+def _split(chunk: dict):
+    n = len(next(iter(chunk.values())))
+    for s in range(0, n, CHUNK):
+        yield {k: v[s:s + CHUNK] for k, v in chunk.items()}
 
 
 def _cross(a: dict, b: dict) -> dict:

@@ -27,6 +27,7 @@ from .bias import thevenin
 from .stage import COLLECTOR_FEEDBACK, EMITTER_FOLLOWER
 
 CAP_VOLTAGE_MARGIN = 1.5  # rating ≥ 1.5 × the DC across the part (common practice, no source)
+CAP_POSITIONS = ("CIN", "COUT", "CE")
 SHORT = smallsignal.SHORT_S
 HALF_POWER = 0.5
 

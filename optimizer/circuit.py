@@ -16,7 +16,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .stage import COLLECTOR_FEEDBACK, EMITTER_FOLLOWER, RESISTOR_POSITIONS, OPTIONAL_POSITIONS, Stage
+from .stage import COLLECTOR_FEEDBACK, EMITTER_FOLLOWER, OPTIONAL_POSITIONS, RESISTOR_POSITIONS, Stage
 from .transistor import terminal_currents
 
 NODES = ("0", "vcc", "src", "in", "base", "emit", "mid", "coll", "out")
@@ -103,11 +103,10 @@ class Reduction:
     def __init__(self, links):
         parent = {n: (n, 0.0) for n in NODES}
 
-        def find(n):
+        def find(n):  # (root, d) with V(n) = V(root) + d
             off = 0.0
             while parent[n][0] != n:
-                n, o = parent[n][0], off + parent[n][1]
-                off = o
+                n, off = parent[n][0], off + parent[n][1]
             return n, off
 
         for a, b, d in links:
@@ -193,19 +192,28 @@ def solve_nonlinear(circuit: Circuit, links, guess=None, max_iter=300, tol_v=1e-
     red = Reduction(links)
     P, off = red.P, np.atleast_2d(red.offset)
     y = admittance(circuit)[0]
-    idx = {name: i for i, name in enumerate(NODES)}
-    c, b, e = (idx[x] for x in circuit.q)
+    c, b, e = (NODES.index(x) for x in circuit.q)
     is_a, _, _, _, vt = circuit.model
     vcrit = vt * np.log(vt / (np.sqrt(2.0) * is_a))
-    batch = off.shape[0]
-    v = np.zeros((batch, len(NODES))) if guess is None else np.broadcast_to(guess, off.shape).copy()
+    v = np.zeros(off.shape) if guess is None else np.broadcast_to(guess, off.shape).copy()
     # Junctions start where the guess had them; the node voltages then obey the links.
     vbe, vbc = v[:, b] - v[:, e], v[:, b] - v[:, c]
     u = (v - off) @ P / np.maximum(P.sum(axis=0), 1)
     v = u @ P.T + off
+    with np.errstate(over="ignore", invalid="ignore"):  # a runaway shows as non-finite: not converged
+        return _newton(circuit, P, off, y, v, vbe, vbc, max_iter, tol_v, vcrit)
+
+
+def _newton(circuit, P, off, y, v, vbe, vbc, max_iter, tol_v, vcrit):
+    idx = {name: i for i, name in enumerate(NODES)}
+    c, b, e = (idx[x] for x in circuit.q)
+    vt = circuit.model[4]
+    batch = off.shape[0]
     done = np.zeros(batch, dtype=bool)
     for _ in range(max_iter):
         ic, ib, a1, a2, b1, b2 = junction(circuit, vbe, vbc)
+        if not (np.all(np.isfinite(a1)) and np.all(np.isfinite(a2))):
+            return v, np.zeros(batch, dtype=bool)
         dm = device_matrix(circuit, a1, a2, b1, b2)
         # Linearised Q1: i = i0 + ∂i·(v − v0); the constant part is an equivalent current source.
         k = np.zeros((batch, len(NODES)))

@@ -7,8 +7,9 @@ the base loop  VTH = RTH·IB + VBE + RE·(IB + IC)  has, for fixed k, one root i
 IBE (every term rises with it).  A larger k lowers IBE but raises IC = k·IBE, so
 IC lies between the roots at the smallest and largest k a design meeting the spec
 can have: VCB ≤ VCC gives k ≤ 1 + VCC/VAF; VCE ≥ VCE(sat) gives
-VBC ≤ VBE − VCE(sat), so k ≥ 1 − (VBE_max − VCE(sat))/VAF.  (The reverse diode
-terms, ~IS, are below 1e-12 of IC and are covered by BRACKET_SLACK.)
+VCE ≥ VCE(sat) + swing/2 (needed for the swing down) gives VBC ≤ VBE_max − VCE_min,
+so k ≥ 1 − (VBE_max − VCE_min)/VAF.  The reverse diode terms are negligible while
+VBC ≤ REVERSE_DIODE_V; beyond it no lower bound is used.
 
 With IC in [IC_lo, IC_hi] at each hFE corner, an RC can only work when
   * swing up ≤ IC·(RC‖RL)  (swing.py)            → RC‖RL ≥ swing/(2·IC_hi);
@@ -25,6 +26,7 @@ from . import swing as loadline
 
 BRACKET_SLACK = 0.01  # widen [IC_lo, IC_hi] by 1 % each way: rounding, reverse-diode terms, gm ≈ IC/Vt
 NEWTON_STEPS = 60
+REVERSE_DIODE_V = 0.25  # IS·exp(0.25/Vt) is ~1e-10 of a milliamp collector current
 
 
 def _root_ibe(vth, rth, re, bf, k, is_a, vt):
@@ -47,14 +49,19 @@ def _root_ibe(vth, rth, re, bf, k, is_a, vt):
     return np.exp(lx)
 
 
-def ic_bracket(vth, rth, re, *, bf, is_a, vaf_v, vt, supply_v):
-    """(IC_lo, IC_hi) in amperes over every RC giving VCE ≥ VCE(sat)."""
+def ic_bracket(vth, rth, re, *, bf, is_a, vaf_v, vt, supply_v, vce_min):
+    """(IC_lo, IC_hi) in amperes over every RC giving VCE ≥ vce_min (V).
+
+    When VBC could exceed REVERSE_DIODE_V the base–collector diode may carry real
+    current, and no lower bound is claimed (IC_lo = 0).
+    """
     vaf = float(vaf_v)
     k_hi = 1.0 + supply_v / vaf
     k_floor = 1.0 - 1.0 / vaf  # VBC ≤ 1 V: a first, safe floor for k
     vbe_hi = vt * np.log1p(_root_ibe(vth, rth, re, bf, k_floor, is_a, vt) / is_a)
-    k_lo = 1.0 - np.maximum(vbe_hi - loadline.VCE_SAT_V, 0.0) / vaf
-    ic_lo = k_lo * _root_ibe(vth, rth, re, bf, k_lo, is_a, vt)
+    vbc_max = vbe_hi - vce_min
+    k_lo = 1.0 - np.maximum(vbc_max, 0.0) / vaf
+    ic_lo = np.where(vbc_max <= REVERSE_DIODE_V, k_lo * _root_ibe(vth, rth, re, bf, k_lo, is_a, vt), 0.0)
     ic_hi = k_hi * _root_ibe(vth, rth, re, bf, k_hi, is_a, vt)
     return ic_lo * (1 - BRACKET_SLACK), ic_hi * (1 + BRACKET_SLACK)
 
@@ -78,3 +85,46 @@ def ragged(start, stop):
     offset = np.cumsum(n) - n
     idx = np.arange(int(n.sum()), dtype=np.int64) - np.repeat(offset - start, n)
     return owner, idx
+
+
+BLOCK = 1_000_000  # (divider pair × RE split) combinations per block
+
+
+def ce_tuples(g: dict, spec, transistor, betas, emit):
+    """Common-emitter value tuples of the groups `g` (position → sorted ohms) that survive the bracket.
+
+    `emit(chunk)` receives dicts position → ohms arrays.  betas: the hFE corners (at 27 °C).
+    """
+    from .bias import thevenin
+
+    r1, r2 = (m.ravel() for m in np.meshgrid(g["R1"], g["R2"], indexing="ij"))
+    keep = r1 * r2 / (r1 + r2) >= spec.min_rin_ohms * (1 - 1e-12)  # Rin ≤ R1‖R2
+    r1, r2 = r1[keep], r2[keep]
+    re1, re2 = (m.ravel() for m in np.meshgrid(g["RE1"], g["RE2"], indexing="ij"))
+    u = re1 + re2
+    uu, inv = np.unique(u, return_inverse=True)
+    rc = g["RC"]
+    if not (len(r1) and len(u) and len(rc)):
+        return
+    vth, rth = thevenin(spec.supply_v, r1, r2)
+    is_a, _, _, vt = transistor.at(27.0)
+    vce_min = loadline.VCE_SAT_V + spec.swing_pp / 2.0
+    step = max(1, BLOCK // len(u))
+    for s in range(0, len(r1), step):
+        b = slice(s, min(len(r1), s + step))
+        lo = np.full((b.stop - b.start, len(u)), -np.inf)
+        hi = np.full_like(lo, np.inf)
+        for beta in betas:
+            ic_lo, ic_hi = ic_bracket(vth[b, None], rth[b, None], uu[None, :], bf=beta, is_a=float(is_a),
+                                      vaf_v=transistor.vaf_v, vt=float(vt), supply_v=spec.supply_v,
+                                      vce_min=vce_min)
+            a, z = rc_interval(ic_lo[:, inv], ic_hi[:, inv], re1[None, :], u[None, :], spec, float(vt))
+            lo = np.maximum(lo, a)
+            hi = np.minimum(hi, z)
+        start = np.searchsorted(rc, lo.ravel(), "left")
+        stop = np.searchsorted(rc, hi.ravel(), "right")
+        owner, idx = ragged(start, stop)
+        if len(idx) == 0:
+            continue
+        d, k = owner // len(u) + s, owner % len(u)
+        emit({"R1": r1[d], "R2": r2[d], "RC": rc[idx], "RE1": re1[k], "RE2": re2[k]})

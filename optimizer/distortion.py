@@ -77,10 +77,11 @@ class Waveforms:
 
 
 def drive_for_swing(stage: Stage, swing_pp: float, waves: Waveforms | None = None, rtol: float = 1e-6):
-    """Source amplitude (V peak) that gives `swing_pp` V p-p at the load, and the last waveforms.
+    """Source amplitude (V peak) that gives `swing_pp` V p-p at the load.
 
-    Starts from the linear estimate and rescales; when the stage clips before the swing is
-    reached the amplitude is capped at 4× the linear estimate.  Returns a float; see `distortion`.
+    Starts from the linear estimate and rescales in small steps; when the stage clips before
+    the swing is reached the drive stops at 4× the linear estimate, or where the output stops
+    growing (`distortion` reports `reached=False`).
     """
     return _drive(stage, swing_pp, waves, rtol)[0]
 
@@ -99,8 +100,15 @@ def _drive(stage, swing_pp, waves, rtol):
         nxt = min(ceiling, amp * swing_pp / max(pp, 1e-15))
         if nxt == amp:
             break
-        amp = amp + min(max(nxt - amp, -0.25 * amp), 0.25 * amp)  # continuation: small steps
-        pp, v = waves.swing(amp)
+        trial = amp + min(max(nxt - amp, -0.25 * amp), 0.25 * amp)  # continuation: small steps
+        try:
+            pp_trial, v_trial = waves.swing(trial)
+        except RuntimeError:
+            break  # driven into a junction runaway (e.g. an ideal source forcing the base): stop short
+        stalled = trial > amp and pp_trial - pp < 1e-3 * pp
+        amp, pp, v = trial, pp_trial, v_trial
+        if stalled:
+            break  # more drive no longer widens the output: it is clipped on both sides
     return amp, pp, v, waves
 
 

@@ -55,6 +55,8 @@ class MonteCarlo:
     seed: int
 
     def __getattr__(self, name):
+        if name == "samples":  # not yet set (copy, unpickling): no recursion
+            raise AttributeError(name)
         try:
             return self.samples[name]
         except KeyError:

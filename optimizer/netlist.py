@@ -73,7 +73,10 @@ def to_netlist(
     lines.append(".options TNOM=27")
     lines.append(f".temp {_num(stage.temp_c)}")
     out = name["out"]
-    # .print lines make `ngspice -b deck.cir` run and print the analyses (batch mode needs them).
+    # .print lines make `ngspice -b deck.cir` run and print the analyses (batch mode needs them);
+    # .save all keeps each .print from narrowing what the other analyses record.
+    if wanted:
+        lines.append(".save all")
     if "op" in wanted:
         lines.append(".op")
     if "ac" in wanted:

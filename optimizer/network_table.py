@@ -75,6 +75,53 @@ def nearest_positions(values: np.ndarray, target: float, k: int) -> np.ndarray:
     return lo + np.argsort(dist, kind="stable")[:k]
 
 
+def argsort_positive(values):
+    """A permutation sorting positive finite `values` ascending (any order among equal values).
+
+    The float's bits, read as an integer, order positive floats; packed above each entry's
+    index they make one int64 key that a plain (SIMD) sort orders.  Where truncating the bits
+    to make room merged near-equal values, those runs are put in order afterwards.
+    """
+    n = len(values)
+    if n == 0:
+        return np.zeros(0, dtype=np.int64)
+    ib = max(1, (n - 1).bit_length())
+    bits = values.view(np.int64)
+    low = bits.min()
+    span = int(bits.max() - low)
+    shift = max(0, span.bit_length() - (63 - ib))
+    key = bits - low  # in place from here on: this runs on millions of entries
+    key >>= shift
+    key <<= ib
+    for at in range(0, n, 1 << 20):
+        key[at:at + (1 << 20)] |= np.arange(at, min(n, at + (1 << 20)), dtype=np.int64)
+    key.sort()
+    key &= (1 << ib) - 1
+    perm = key
+    if shift:
+        v = values[perm]
+        bad = np.flatnonzero(v[1:] < v[:-1])
+        if len(bad):
+            trunc = v.view(np.int64) - low  # the sorted keys without their index bits
+            trunc >>= shift
+            start = np.flatnonzero(np.r_[True, trunc[1:] != trunc[:-1]])
+            stop = np.r_[start[1:], n]
+            runs = np.unique(np.searchsorted(start, bad, "right") - 1)
+            run, at = ragged(start[runs], stop[runs])
+            at_sorted = at[np.lexsort((v[at], run))]
+            perm[at] = perm[at_sorted]
+    return perm
+
+
+def ragged(start: np.ndarray, stop: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Flat (base, candidate) pairs for candidate ranges [start[k], stop[k]) per base k."""
+    n = np.maximum(stop - start, 0)
+    base = np.repeat(np.arange(len(n)), n)
+    offset = np.cumsum(n) - n
+    cand = np.arange(int(n.sum()), dtype=np.int64) - np.repeat(offset - start, n)
+    return base, cand
+
+
 class Usage(NamedTuple):
     """Long usage table: network `network` takes `count` parts from stock row `row` (drawer line `line`)."""
 
@@ -199,6 +246,17 @@ class PartsTable:
         if shape == SERIES_IN_PARALLEL:
             return Parallel((Series((leaf(a), leaf(b))), leaf(c)))
         return Series((Parallel((leaf(a), leaf(b))), leaf(c)))
+
+    def ranked(self, indices) -> np.ndarray:
+        """`indices` reordered best first: fewest parts, tightest tolerance, then the tie-break columns."""
+        idx = np.asarray(indices, dtype=np.int64)
+        keys = [-np.nan_to_num(getattr(self, c)[idx], nan=-np.inf) for c in reversed(self._tie_break)]
+        return idx[np.lexsort((*keys, self.tolerance[idx], self.parts[idx]))]
+
+    def realisations(self, group: int) -> np.ndarray:
+        """Every network realising distinct value number `group`, best first."""
+        d = self.distinct()
+        return self.ranked(np.arange(d.start[group], d.stop[group]))
 
     def distinct(self) -> Distinct:
         """Distinct values with their best realisation (cached)."""

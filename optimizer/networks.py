@@ -18,13 +18,14 @@ from dataclasses import dataclass
 import numpy as np
 
 from .network_table import (
-    PARALLEL2, PARALLEL3, PARALLEL_IN_SERIES, SERIES2, SERIES3, SERIES_IN_PARALLEL, SINGLE,
-    SHAPE_NAMES, COUNT, FRACTION, POSITIVE, RATING, Distinct, Leaf, PartsTable, Usage, check_stock,
-    stock_columns,
+    COUNT, FRACTION, PARALLEL2, PARALLEL3, PARALLEL_IN_SERIES, POSITIVE, RATING, SERIES2, SERIES3,
+    SERIES_IN_PARALLEL, SHAPE_NAMES, SINGLE, Distinct, Leaf, PartsTable, Usage, argsort_positive, check_stock,
+    ragged, stock_columns,
 )
 
 __all__ = ["NetworkTable", "resistor_networks", "SHAPE_NAMES", "Distinct", "Usage"]
 
+CHUNK = 1 << 18  # candidates per vectorised step
 _SLACK = 1e-9  # range look-ups are widened by this much; the exact window test decides
 
 
@@ -111,15 +112,6 @@ def _third_range(r: np.ndarray, series: bool, lo: float, hi: float) -> tuple[np.
     return cmin, cmax
 
 
-def _ragged(start: np.ndarray, stop: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Flat (base, candidate) pairs for candidate ranges [start[k], stop[k]) per base k."""
-    n = np.maximum(stop - start, 0)
-    base = np.repeat(np.arange(len(n)), n)
-    offset = np.cumsum(n) - n
-    cand = np.arange(int(n.sum()), dtype=np.int64) - np.repeat(offset - start, n)
-    return base, cand
-
-
 class _Builder:
     """Enumerates networks over the in-stock rows sorted by resistance."""
 
@@ -131,8 +123,8 @@ class _Builder:
         self.lo, self.hi, self.spread = lo, hi, max_spread
         self.candidates = 0
 
-    def extend(self, base: _Nets, series: bool, ordered: bool, windowed: bool) -> _Nets:
-        """Every base joined with one more part (position ≥ the base's last if `ordered`)."""
+    def extend(self, base: _Nets, series: bool, ordered: bool, windowed: bool) -> list[_Nets]:
+        """Every base joined with one more part (position ≥ the base's last if `ordered`), in chunks."""
         lo, hi = (self.lo, self.hi) if windowed else (0.0, np.inf)
         cmin, cmax = _third_range(base.r, series, lo, hi)
         if self.spread is not None:  # largest/smallest part ≤ spread
@@ -143,7 +135,18 @@ class _Builder:
             stop = np.searchsorted(self.R, cmax + _SLACK * (np.abs(cmax) + base.r), "right")
         if ordered:
             start = np.maximum(start, base.m[:, -1])
-        b, c = _ragged(start, stop)
+        # Chunks of about CHUNK candidates keep the temporaries small (and in cache).
+        cum = np.cumsum(np.maximum(stop - start, 0))
+        total = int(cum[-1]) if len(cum) else 0
+        edges = np.unique(np.r_[0, np.searchsorted(cum, np.arange(CHUNK, total, CHUNK), "right"), len(start)])
+        if len(edges) < 2:
+            edges = np.zeros(2, dtype=np.int64)  # no bases: one empty chunk
+        return [self._chunk(base, series, start, stop, lo, hi, windowed, np.arange(a, b))
+                for a, b in zip(edges[:-1], edges[1:], strict=True)]
+
+    def _chunk(self, base, series, start, stop, lo, hi, windowed, rows) -> _Nets:
+        b, c = ragged(start[rows], stop[rows])
+        b = rows[b]
         self.candidates += len(c)
         # The base already respects qty; the new part's line must not be used more often than
         # stocked, which only a line with qty ≤ the base's part count can be.
@@ -157,23 +160,32 @@ class _Builder:
         out = _join(base.take(b), self.one.take(c), series)
         return _inside(out, lo, hi) if windowed else out
 
-    def blocks(self, depth: int) -> list[tuple[_Nets, int]]:
+    def blocks(self, depth: int) -> list[dict[str, np.ndarray]]:
+        """Networks in the window, one block of columns (r, tol, p, m, shape) per shape."""
         one, lo, hi = self.one, self.lo, self.hi
-        out = [(_inside(one, lo, hi), SINGLE)]
-        if depth < 2:
-            return out
-        pair_s = self.extend(one, True, True, windowed=False)
-        pair_p = self.extend(one, False, True, windowed=False)
-        for nets, shape in ((pair_s, SERIES2), (pair_p, PARALLEL2)):
-            out.append((_inside(nets, lo, hi), shape))
-        if depth >= 3:
-            out += [
-                (self.extend(pair_s, True, True, windowed=True), SERIES3),
-                (self.extend(pair_p, False, True, windowed=True), PARALLEL3),
-                (self.extend(pair_s, False, False, windowed=True), SERIES_IN_PARALLEL),
-                (self.extend(pair_p, True, False, windowed=True), PARALLEL_IN_SERIES),
-            ]
+        found = [(_inside(one, lo, hi), SINGLE)]
+        if depth >= 2:
+            pair_s = _concat(self.extend(one, True, True, windowed=False))
+            pair_p = _concat(self.extend(one, False, True, windowed=False))
+            found += [(_inside(pair_s, lo, hi), SERIES2), (_inside(pair_p, lo, hi), PARALLEL2)]
+        out = [_settle(nets, shape) for nets, shape in found]
+        if depth >= 3:  # settled one by one so the limit columns of each are freed early
+            for base, series, ordered, shape in (
+                (pair_s, True, True, SERIES3), (pair_p, False, True, PARALLEL3),
+                (pair_s, False, False, SERIES_IN_PARALLEL), (pair_p, True, False, PARALLEL_IN_SERIES),
+            ):
+                out += [_settle(c, shape) for c in self.extend(base, series, ordered, windowed=True)]
         return out
+
+
+def _concat(chunks: list[_Nets]) -> _Nets:
+    return _Nets(*(np.concatenate([getattr(c, k) for c in chunks]) for k in ("r", "rl", "rh", "p", "m")))
+
+
+def _settle(nets: _Nets, shape: int) -> dict[str, np.ndarray]:
+    """Final columns of a block; tolerance is the larger side of asymmetric limits."""
+    tol = np.maximum(nets.r - nets.rl, nets.rh - nets.r) / nets.r
+    return {"r": nets.r, "tol": tol, "p": nets.p, "m": nets.m, "shape": shape}
 
 
 def resistor_networks(stock, depth: int = 3, lo_ohms: float | None = None, hi_ohms: float | None = None,
@@ -202,24 +214,29 @@ def resistor_networks(stock, depth: int = 3, lo_ohms: float | None = None, hi_oh
     builder = _Builder(ohms[order], tol[order], power[order], qty[order], lo, hi, max_spread)
     blocks = builder.blocks(depth)
 
-    n = len(order)
-    r = np.concatenate([b.r for b, _ in blocks])
-    sort = np.argsort(r)
-    with np.errstate(invalid="ignore"):  # asymmetric limits: the larger side is the tolerance
-        tolerance = np.concatenate([np.maximum(b.r - b.rl, b.rh - b.r) / b.r for b, _ in blocks])
-    members = np.full((len(r), 3), -1, dtype=np.int32)
+    value = np.concatenate([b.pop("r") for b in blocks])
+    sort = argsort_positive(value)
+    value = value[sort]
+    place = np.empty(len(sort), dtype=np.int64)  # where each entry, in block order, lands once sorted
+    place[sort] = np.arange(len(sort))
+    del sort
+    tolerance, power_w = np.empty(len(value)), np.empty(len(value))
+    parts, shape = np.empty(len(value), np.int8), np.empty(len(value), np.int8)
+    members = np.full((len(value), 3), -1, dtype=np.int32)
     at = 0
-    for b, _ in blocks:
-        members[at:at + len(b.r), :b.m.shape[1]] = order[b.m]
-        at += len(b.r)
+    for b in blocks:  # scattered block by block, each freed as it goes, to bound the peak memory
+        m = b.pop("m")
+        where = place[at:at + len(m)]
+        tolerance[where], power_w[where] = b.pop("tol"), b.pop("p")
+        parts[where], shape[where] = m.shape[1], b["shape"]
+        for j in range(m.shape[1]):  # positions → stock rows
+            members[where, j] = order[m[:, j]]
+        at += len(m)
+    n = len(order)
     stats = {"lines": n, "depth": depth, "raw": n + 2 * n**2 * (depth >= 2) + 4 * n**3 * (depth >= 3),
-             "candidates": n + builder.candidates, "kept": len(r)}
+             "candidates": n + builder.candidates, "kept": len(value)}
     return NetworkTable(
-        value=r[sort], tolerance=tolerance[sort],
-        parts=np.concatenate([np.full(len(b.r), b.m.shape[1], np.int8) for b, _ in blocks])[sort],
-        shape=np.concatenate([np.full(len(b.r), s, np.int8) for b, s in blocks])[sort],
-        members=np.take(members, sort, axis=0),
-        power_w=np.concatenate([b.p for b, _ in blocks])[sort],
+        value=value, tolerance=tolerance, parts=parts, shape=shape, members=members, power_w=power_w,
         stock_line=cols["line"].astype(np.int64), stock_value=ohms, stock_tolerance=tol,
         stock_power_w=power, stats=stats,
     )

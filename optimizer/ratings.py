@@ -93,8 +93,7 @@ def check_ratings(topology, op: Mapping, *, transistor: Transistor, supply_v,
     usage, what = {}, {}
 
     def add(key, noun, unit, actual, limit):
-        actual = np.asarray(actual, dtype=float)
-        limit = np.asarray(limit, dtype=float)
+        actual, limit = np.broadcast_arrays(np.asarray(actual, dtype=float), np.asarray(limit, dtype=float))
         usage[key] = np.abs(actual) / limit
         what[key] = (noun, unit, np.abs(actual), limit)
 
@@ -105,7 +104,7 @@ def check_ratings(topology, op: Mapping, *, transistor: Transistor, supply_v,
     if q.pd_max_w:
         add("Q1_power", f"{q.name} dissipation", "W", op["p_q"], q.pd_max_w)
     if q.vceo_v:
-        add("Q1_vceo", f"{q.name} VCE at cut-off (the supply)", "V", np.broadcast_to(supply_v, np.shape(op["ic"])), q.vceo_v)
+        add("Q1_vceo", f"{q.name} VCE at cut-off (the supply)", "V", supply_v + 0.0 * op["ic"], q.vceo_v)
     if q.ic_max_a:
         add("Q1_ic", f"{q.name} collector current", "A", op["ic"], q.ic_max_a)
     volts = capacitor_voltages(topology, op)

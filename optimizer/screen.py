@@ -39,7 +39,8 @@ def _flat_inputs(topology, r, extra):
     arrays = {p: np.asarray(r.get(p, 0.0), dtype=float) for p in RESISTOR_POSITIONS[topology]}
     arrays.update({k: np.asarray(v, dtype=float) for k, v in extra.items()})
     shape = np.broadcast_shapes(*(a.shape for a in arrays.values()))
-    flat = {k: np.broadcast_to(a, shape).ravel() for k, a in arrays.items()}
+    # Single values stay scalars (numpy broadcasts them for free); the rest become 1-D.
+    flat = {k: (a.reshape(()) if a.size == 1 else np.broadcast_to(a, shape).ravel()) for k, a in arrays.items()}
     return shape, flat
 
 
@@ -70,6 +71,8 @@ def screen(
     the source EMF to the load), gain_textbook rin_textbook rout_textbook,
     swing_up swing_down swing_pp (V at the load), p_<position> and p_q (W).
     """
+    if transistor.polarity.upper() != "NPN":
+        raise ValueError(f"{transistor.name}: only NPN stages on a positive supply are modelled so far")
     # The model at temperature, before broadcasting (usually one temperature for all).
     is_t, bf_t, br_t, vt = transistor.at(temp_c)
     if is_a is not None:
@@ -80,27 +83,28 @@ def screen(
              "is_t": is_t, "bf_t": bf_t, "br_t": br_t, "vt": vt}
     shape, f = _flat_inputs(topology, r, extra)
     size = int(np.prod(shape))
-    out = None
+    out, iterations = {}, 0
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         # Chunks small enough to stay in cache run about twice as fast as one pass.
         for lo in range(0, max(size, 1), CHUNK):
-            part = _screen_flat(topology, {k: v[lo:lo + CHUNK] for k, v in f.items()}, transistor)
-            if out is None:
-                if size <= CHUNK:
-                    out = part
-                    break
-                out = {k: np.empty(size, dtype=v.dtype) for k, v in part.items()}
+            m = min(CHUNK, size - lo)
+            chunk = {k: (v[lo:lo + m] if v.ndim else v) for k, v in f.items()}
+            part = _screen_flat(topology, chunk, transistor, m)
+            iterations = max(iterations, part.pop("iterations"))
             for k, v in part.items():
-                out[k][lo:lo + CHUNK] = v
+                if size <= CHUNK:
+                    out[k] = v if np.shape(v) == (m,) else np.array(np.broadcast_to(v, (m,)))
+                else:
+                    out.setdefault(k, np.empty(size, dtype=np.asarray(v).dtype))[lo:lo + m] = v
     out = {k: v.reshape(shape) for k, v in out.items()}
-    out["iterations"] = np.asarray(int(out["iterations"].max(initial=0)))
+    out["iterations"] = np.asarray(iterations)
     return out
 
 
-def _screen_flat(topology, f, q):
-    vcc = f["supply"]
-    is_t, bf_t, br_t, vt = f["is_t"], f["bf_t"], f["br_t"], f["vt"]
-    n = vcc.shape[0]
+def _screen_flat(topology, f, q, n):
+    """One chunk of n candidates; entries of f are length-n arrays or scalars."""
+    vcc = np.broadcast_to(f["supply"], (n,))
+    is_t, bf_t, br_t, vt = f["is_t"], f["bf_t"], f["br_t"], f["vt"]  # scalars when shared
     net = bias.bias_network(topology, f, vcc)
     dc = bias.solve_operating_point(net, is_t, bf_t, br_t, q.vaf_v, vt)
     ic, ib = dc["ic"], dc["ib"]
@@ -111,7 +115,7 @@ def _screen_flat(topology, f, q):
     re2 = 0.0 if follower else f["RE2"]
     out = {"vb": vb, "ve": ve, "vc": vc, "vn": ie * re2, "vce": vc - ve, "vbe": dc["vbe"],
            "ic": ic, "ib": ib, "ie": ie, "converged": dc["converged"],
-           "iterations": np.full(n, dc["iterations"])}
+           "iterations": dc["iterations"]}
     out["saturated"] = out["vce"] < swing.VCE_SAT_V
     out["cutoff"] = ic < CUTOFF_A
     rc = 0.0 if follower else f["RC"]

@@ -68,21 +68,24 @@ def midband(y, *, g_source, g_bias, g_feedback, g_collector, g_emitter, g_load, 
     gain: v_out / EMF, RS and RL included (signed); rin: what the source sees
     looking into CIN (RL connected); rout: looking back into COUT with RL removed
     and the source EMF at zero (RS connected).
+
+    One matrix A0 (no source, no load) serves all three: adding a conductance δ
+    on diagonal i changes det by δ·C_ii, and C_ii by δ·a_kk (k the third node),
+    while the off-diagonal cofactor C_bo does not contain either diagonal.
     """
     o = {"c": 1, "e": 2}[output]
-    gc_l = g_collector + (g_load if o == 1 else 0.0)
-    ge_l = g_emitter + (g_load if o == 2 else 0.0)
-    loaded = _matrix(y, g_source + g_bias, g_feedback, gc_l, ge_l)
-    det = _det(loaded)
-    c_bb = _cofactor(loaded, 0, 0)
-    c_bo = _cofactor(loaded, 0, o)
-    gain = g_source * c_bo / det
-    # Base-to-collector gain vc/vb with the source driving the base.
-    a_bc = _cofactor(loaded, 0, 1) / c_bb
-    no_source = _matrix(y, g_bias, g_feedback, gc_l, ge_l)
-    rin = _cofactor(no_source, 0, 0) / _det(no_source)
-    unloaded = _matrix(y, g_source + g_bias, g_feedback, g_collector, g_emitter)
-    rout = _cofactor(unloaded, o, o) / _det(unloaded)
+    k = 3 - o  # the node that is neither base nor output
+    a = _matrix(y, g_bias, g_feedback, g_collector, g_emitter)
+    det0 = _det(a)
+    c_bb, c_oo, c_bo = _cofactor(a, 0, 0), _cofactor(a, o, o), _cofactor(a, 0, o)
+    a_kk = a[k][k]
+    gs, gl = g_source, g_load
+    det_full = det0 + gs * c_bb + gl * c_oo + gs * gl * a_kk
+    gain = gs * c_bo / det_full
+    rin = (c_bb + gl * a_kk) / (det0 + gl * c_oo)
+    rout = (c_oo + gs * a_kk) / (det0 + gs * c_bb)
+    # Base-to-collector gain vc/vb with the source driving the base (collector output only).
+    a_bc = _cofactor(a, 0, 1) / (c_bb + gl * a_kk) if o == 1 else np.nan
     return {"gain": gain, "rin": rin, "rout": rout, "gain_base_to_collector": a_bc}
 
 

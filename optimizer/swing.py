@@ -39,7 +39,8 @@ def collector_swing(*, ic, ie, vce, vc, supply_v, r_ac, re_unbypassed, vce_sat=V
     ic, ie in A; vce, vc, supply_v in V; r_ac the AC load on the collector (Ω);
     re_unbypassed the emitter resistance not held by CE (Ω).
     """
-    alpha = ic / ie
+    # α = IC/IE of an amplifying transistor; held in [0.5, 1] so cut-off candidates stay finite.
+    alpha = np.clip(np.nan_to_num(ic / ie, nan=1.0), 0.5, 1.0)
     up = np.minimum(np.maximum(ic, 0.0) * r_ac, np.maximum(supply_v - vc, 0.0))
     down = np.maximum(vce - vce_sat, 0.0) * r_ac / (r_ac + re_unbypassed / alpha)
     return up, down

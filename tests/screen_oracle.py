@@ -132,7 +132,7 @@ class Oracle:
         rout = (pu[o] - mu[o]) / (2 * di)
         return {"gain": gain, "rin": rin, "rout": rout}
 
-    def swing(self, vs_max=None, steps=400) -> tuple[float, float]:
+    def swing(self, vs_max=None, steps=120) -> tuple[float, float]:
         """(up, down): output excursion at the load (V peak) where the sweep first meets
         VCE < 0.2 V or IC < 1 % of its bias, driving the source both ways, the edge
         found by bisection on the source EMF."""
@@ -152,7 +152,7 @@ class Oracle:
                 s = self.signal(vs, guess=guess)
                 if clipped(s):
                     lo, hi = clean, vs
-                    for _ in range(50):
+                    for _ in range(40):
                         mid = 0.5 * (lo + hi)
                         sm = self.signal(mid, guess=guess)
                         if clipped(sm):

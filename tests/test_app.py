@@ -173,3 +173,25 @@ async def test_theme_toggle_and_palette(demo_drawer):
         await pilot.press("enter")
         await pilot.pause()
         assert isinstance(app.screen, RequestScreen)
+
+
+async def test_problems_in_the_file_are_listed(demo_drawer):
+    with demo_drawer.open("a", encoding="utf-8") as f:
+        f.write("resistor,4k7k,3,5%,1/4W,,,,,,,,,,B3,typo\n")
+    problems = Drawer.load(demo_drawer).problems
+    assert any(p.severity == "error" for p in problems)
+    app = make_app(demo_drawer)
+    async with app.run_test(size=SIZE):
+        panel = app.screen.query_one("#problems")
+        assert panel.display
+        shown = str(app.screen.query_one("#problem-text").render())
+        for problem in problems:
+            assert str(problem) in shown
+
+
+def test_missing_drawer_file_is_an_error_not_a_traceback(tmp_path, capsys):
+    from tui.cli import main
+
+    assert main(["--inventory", str(tmp_path / "nowhere.csv")]) == 2
+    err = capsys.readouterr().err
+    assert "nowhere.csv" in err and "does not exist" in err and "Traceback" not in err

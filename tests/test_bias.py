@@ -7,6 +7,7 @@ import pytest
 
 from optimizer import bias
 from optimizer.screen import screen
+from optimizer.stage import RESISTOR_POSITIONS
 from optimizer.transistor import Transistor, terminal_currents
 from tests.screen_oracle import Oracle
 
@@ -71,6 +72,9 @@ def test_newton_agrees_with_independent_root_find(topology):
         ref = Oracle(topology, s).dc()
         for key in ("ic", "ib", "vb", "vc", "ve"):
             assert float(op[key][i]) == pytest.approx(ref[key], rel=1e-7, abs=1e-9), (key, s)
+        # solved to |ΔV| < 1e-9 V in both junction voltages
+        assert abs(float(op["vbe"][i]) - ref["vbe"]) < 1e-9
+        assert abs(float(op["vb"][i] - op["vc"][i]) - ref["vbc"]) < 1e-9
 
 
 def test_converges_for_saturated_and_cut_off_candidates():
@@ -85,28 +89,40 @@ def test_converges_for_saturated_and_cut_off_candidates():
     for i in (0, 1, 2):
         ref = Oracle("common-emitter", {k: float(v[i]) for k, v in r.items()}).dc()
         assert float(op["vc"][i]) == pytest.approx(ref["vc"], rel=1e-6, abs=1e-9)
+        assert abs(float(op["vbe"][i]) - ref["vbe"]) < 1e-9
 
 
-def test_converges_over_wide_random_candidates():
-    # Values far outside sensible design (1.5–60 V, −40…125 °C, β 20–1000): every candidate converges.
+@pytest.mark.parametrize("topology", ["common-emitter", "emitter-follower", "collector-feedback"])
+def test_converges_over_wide_random_candidates(topology):
+    # Values far outside sensible design (10 Ω–100 MΩ, 0.5–60 V, −55…150 °C, β 5–2000, IS ×0.01…100):
+    # every candidate converges, and Kirchhoff's laws hold at the solution.
     rng = np.random.default_rng(7)
-    n = 100_000
+    n = 50_000
 
     def lu(lo, hi):
         return np.exp(rng.uniform(np.log(lo), np.log(hi), n))
 
-    r = {"R1": lu(100, 1e7), "R2": lu(100, 1e7), "RC": lu(10, 1e6),
-         "RE1": np.where(rng.random(n) < 0.3, 0.0, lu(1, 1e5)), "RE2": np.where(rng.random(n) < 0.3, 0.0, lu(1, 1e5))}
-    vcc = rng.uniform(1.5, 60, n)
-    op = screen("common-emitter", r, transistor=Q, supply_v=vcc, source_ohms=1e3,
-                load_ohms=1e4, temp_c=rng.uniform(-40, 125, n), beta=rng.uniform(20, 1000, n))
+    def optional(v):
+        return np.where(rng.random(n) < 0.3, 0.0, v)
+
+    r = {"R1": lu(10, 1e8), "R2": lu(10, 1e8), "RC": lu(1, 1e6), "RE1": optional(lu(1, 1e5)),
+         "RE2": optional(lu(1, 1e5)), "RE": lu(1, 1e6), "RB": lu(10, 1e8)}
+    r = {k: v for k, v in r.items() if k in RESISTOR_POSITIONS[topology]}
+    vcc = rng.uniform(0.5, 60, n)
+    op = screen(topology, r, transistor=Q, supply_v=vcc, source_ohms=lu(1e-3, 1e6), load_ohms=lu(1, 1e9),
+                temp_c=rng.uniform(-55, 150, n), beta=rng.uniform(5, 2000, n), is_a=Q.is_a * lu(0.01, 100))
     assert op["converged"].all()
-    # Kirchhoff holds at every node: collector VCC − VC = RC·IC, base divider current = IB,
-    # emitter VE = IE·(RE1 + RE2)
-    np.testing.assert_allclose(vcc - op["vc"], r["RC"] * op["ic"], rtol=1e-9, atol=1e-9)
-    i_div = (vcc - op["vb"]) / r["R1"] - op["vb"] / r["R2"]
-    np.testing.assert_allclose(i_div, op["ib"], rtol=1e-6, atol=1e-12)
-    np.testing.assert_allclose(op["ve"], op["ie"] * (r["RE1"] + r["RE2"]), rtol=1e-9, atol=1e-9)
+    assert all(np.isfinite(v).all() for k, v in op.items() if k not in ("ro", "re_prime"))
+    re = r.get("RE", 0.0) + r.get("RE1", 0.0) + r.get("RE2", 0.0)
+    np.testing.assert_allclose(op["ve"], op["ie"] * re, rtol=1e-9, atol=1e-9)  # emitter: Ohm's law
+    if topology == "collector-feedback":
+        np.testing.assert_allclose(vcc - op["vc"], r["RC"] * op["ie"], rtol=1e-9, atol=1e-9)
+        np.testing.assert_allclose((op["vc"] - op["vb"]) / r["RB"], op["ib"], rtol=1e-6, atol=1e-12)
+    else:
+        if topology == "common-emitter":
+            np.testing.assert_allclose(vcc - op["vc"], r["RC"] * op["ic"], rtol=1e-9, atol=1e-9)
+        i_div = (vcc - op["vb"]) / r["R1"] - op["vb"] / r["R2"]
+        np.testing.assert_allclose(i_div, op["ib"], rtol=1e-6, atol=1e-12)
 
 
 def test_junction_derivatives_match_finite_differences():

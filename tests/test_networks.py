@@ -23,6 +23,7 @@ from hypothesis import strategies as st
 from optimizer import network_tree as nt
 from optimizer.networks import resistor_networks
 from optimizer.network_table import (
+    argsort_positive,
     PARALLEL2, PARALLEL3, PARALLEL_IN_SERIES, SERIES2, SERIES3, SERIES_IN_PARALLEL, SINGLE,
 )
 
@@ -285,3 +286,32 @@ def test_bad_stock_names_row_and_line():
         resistor_networks(stock([1e3, -5.0], [1, 1]))
     with pytest.raises(ValueError, match="missing column 'power_w'"):
         resistor_networks({"line": [2], "ohms": [1e3], "tolerance": [0.05], "qty": [1]})
+
+
+def test_realisations_are_the_group_best_first(mixed):
+    d = mixed.distinct()
+    g = int(np.argmax(d.stop - d.start))  # the value with the most realisations
+    got = mixed.realisations(g)
+    assert got[0] == d.best[g]
+    assert sorted(got.tolist()) == list(range(d.start[g], d.stop[g]))
+    keys = [(mixed.parts[i], mixed.tolerance[i], -mixed.power_w[i]) for i in got]
+    assert keys == sorted(keys)
+
+
+def test_empty_and_out_of_stock():
+    t = resistor_networks(stock([1e3, 2e3], [0, 0]))
+    assert len(t) == 0 and len(t.distinct()) == 0 and len(t.nearest(1e3, 3)) == 0
+    assert len(resistor_networks(stock([1e3], [1]), lo_ohms=2e3, hi_ohms=3e3)) == 0
+
+
+@pytest.mark.parametrize("values", [
+    np.random.default_rng(3).random(20_000) * 1e6 + 1,  # distinct values
+    # near-equal values (a few ulps apart) that the packed key cannot tell apart
+    np.repeat(np.random.default_rng(4).random(50) * 1e4, 400) * (1 + np.arange(20_000) % 3 * 2.3e-16),
+    np.array([7.0]),
+])
+def test_argsort_positive_sorts_like_numpy(values):
+    # Oracle: numpy's own argsort (any order among equal values is allowed).
+    perm = argsort_positive(values)
+    np.testing.assert_array_equal(values[perm], values[np.argsort(values)])
+    np.testing.assert_array_equal(np.sort(perm), np.arange(len(values)))

@@ -29,7 +29,6 @@ BETAS = (80.0, 200.0, 450.0)
 TEMPS_C = (0.0, 27.0, 50.0)
 PER_TOPOLOGY = 12
 DEVIATIONS: dict[str, float] = {}
-STARTED = time.perf_counter()
 
 
 def _sig(x: float, rng) -> float:
@@ -161,9 +160,10 @@ def simulate(stage: Stage, f_low: float, corners: list[float], amplitudes: list[
 
 @pytest.fixture(scope="module", autouse=True)
 def summary(request):
+    started = time.perf_counter()
     yield
     reporter = request.config.pluginmanager.get_plugin("terminalreporter")
-    lines = [f"ngspice comparison: {len(STAGES)} stages in {time.perf_counter() - STARTED:.1f} s; largest deviations:"]
+    lines = [f"ngspice comparison: {len(STAGES)} stages in {time.perf_counter() - started:.1f} s; largest deviations:"]
     lines += [f"  {k}: {v:.4g}" for k, v in sorted(DEVIATIONS.items())]
     text = "\n".join(lines)
     capture = request.config.pluginmanager.getplugin("capturemanager")

@@ -162,9 +162,18 @@ def test_external_edit_to_the_same_part_is_refused(path):
 def test_ambiguous_part_after_an_external_edit_is_refused(path):
     store = Store(path)
     store.load()
-    path.write_bytes(START + b"resistor,4700,1,5%,A1,\n")  # the same part twice now
-    with pytest.raises(ConflictError, match="now matches lines 2, 6"):
+    # The same part twice now, and neither line is the text that was loaded.
+    path.write_bytes(b"kind,value,qty,tolerance,location,notes\nresistor,4700,1,5%,A1,\n"
+                     + START.split(b"\n", 1)[1].replace(b"A1,", b"A1,recounted"))
+    with pytest.raises(ConflictError, match="now matches lines 2, 3"):
         store.take([(2, 1)])
+    store.load()
+    path.write_bytes(START + b"resistor,4700,1,5%,A1,\n")  # the loaded line is still there as it was
+    store.load()
+    path.write_bytes(b"kind,value,qty,tolerance,location,notes\nresistor,4700,1,5%,A1,\n"
+                     + START.split(b"\n", 1)[1])
+    store.take([(2, 1)])  # found by its unchanged text, now on line 3
+    assert qty(path, 3) == 9 and qty(path, 2) == 1
 
 
 def test_undo_refuses_when_the_added_line_was_edited_since(path):
@@ -194,3 +203,20 @@ def test_a_held_lock_times_out_with_a_clear_message(path):
 def test_a_missing_file_is_a_store_error(tmp_path):
     with pytest.raises(StoreError, match="cannot read"):
         Store(tmp_path / "none.csv").load()
+
+
+def test_edit_rewrites_only_the_changed_cells_in_place_and_undo_restores(path):
+    store = Store(path)
+    entry = store.edit_part(3, {"kind": "resistor", "value": "10k", "qty": "4", "tolerance": "2%",
+                                "location": "A2", "notes": "recounted"}, "relabelled")
+    assert path.read_bytes() == START.replace(b"resistor,10k,4,1%,A2,\n", b"resistor,10k,4,2%,A2,recounted\n")
+    assert entry.action == "edit" and entry.changes[0].rewrite and entry.changes[0].line == 3
+    assert store.edit_part(3, {"tolerance": "2%"}).changes == []  # nothing to change: nothing written
+    with pytest.raises(StoreError, match="already holds this part"):
+        store.edit_part(3, {"value": "4k7", "tolerance": "5%", "location": "A1"})
+    with pytest.raises(StoreError, match="as edited is not valid"):
+        store.edit_part(3, {"value": "10kk"})
+    store.undo()
+    assert path.read_bytes() == START
+    store.edit_part(5, {"value": "1k"}, "fixed the bad line")  # a line with errors can be mended
+    assert Drawer.load(path).errors == []

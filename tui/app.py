@@ -41,6 +41,7 @@ class DrawerfitApp(App[int]):
         self.notice = notice
         self.drawer: Drawer | None = None
         self.load_error: str | None = None
+        self.last_request: dict[str, object] = {}  # the design request's fields, kept between visits
         self.theme = DARK
         self.read()
 

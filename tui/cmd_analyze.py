@@ -142,12 +142,16 @@ def run(args) -> int:
         return 2
     try:
         report = analyze(stage, swing)
-    except RuntimeError as exc:
+    except (RuntimeError, ValueError) as exc:  # no convergence, or a singular circuit
         print(f"drawerfit analyze: this stage could not be solved ({exc})", file=sys.stderr)
         return 1
     if args.netlist:
         try:
-            text = to_netlist(stage, swing_pp=swing, title=f"drawerfit {stage.topology} stage")
+            # Drive the .tran source as the analysis did (its large-signal amplitude for the swing).
+            amp = report.distortion["source_amplitude_v"] if report.distortion else None
+            if amp is None and swing:
+                amp = swing / (2 * abs(report.predicted["gain"])) if report.predicted["gain"] else 0.0
+            text = to_netlist(stage, source_amplitude_v=amp, title=f"drawerfit {stage.topology} stage")
             atomic_write(Path(args.netlist), text.encode())
         except OSError as exc:
             print(f"drawerfit analyze: --netlist: cannot write {args.netlist}: {exc.strerror or exc}", file=sys.stderr)

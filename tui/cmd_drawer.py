@@ -1,8 +1,9 @@
-"""Drawer-file subcommands: check, list, add, count, remove, history, undo.
+"""Drawer-file subcommands: check, list, add, edit, count, remove, history, undo.
 
     drawerfit [--inventory F] check
     drawerfit [--inventory F] list [--kind K] [--min V] [--max V] [--location L] [--in-stock] [--json]
     drawerfit [--inventory F] add KIND VALUE --qty N [--tolerance T] [--power P] [--voltage V] ...
+    drawerfit [--inventory F] edit LINE [--value V] [--location L] [--notes N] ...
     drawerfit [--inventory F] count LINE QTY        (QTY 7 sets the count, +3 adds, -2 takes)
     drawerfit [--inventory F] remove LINE
     drawerfit [--inventory F] history [--json]
@@ -20,17 +21,15 @@ import json
 import sys
 from pathlib import Path
 
-from inventory import values
 from inventory.drawer import Drawer
 from inventory.edits import ConflictError, NothingToUndo, StockError, StoreError, describe
 from inventory.journal import Entry, undone_ids
 from inventory.locate import InventoryNotFound, find_inventory
-from inventory.parts import DIELECTRICS, KINDS, Part
+from inventory.parts import DIELECTRICS, KINDS
 from inventory.store import Store
 
-
-class InputError(Exception):
-    """Bad command-line input; the message names the option."""
+from . import cmd_drawer_list
+from .cmd_drawer_list import InputError
 
 
 def _guarded(fn):
@@ -63,15 +62,7 @@ def register(sub) -> None:
                                    "(warnings are printed), 2 when it has.")
     p.set_defaults(handler=_guarded(run_check))
 
-    p = sub.add_parser("list", help="list the parts in the drawer",
-                       description="List parts, values in RKM spelling (4k7, 100n).")
-    p.add_argument("--kind", choices=KINDS, help="only this kind")
-    p.add_argument("--min", metavar="VALUE", help="smallest value, e.g. 1k or 10n (implies the kind)")
-    p.add_argument("--max", metavar="VALUE", help="largest value, e.g. 100k or 1u")
-    p.add_argument("--location", metavar="PLACE", help="only places starting with this (case ignored)")
-    p.add_argument("--in-stock", action="store_true", help="only lines with qty > 0")
-    p.add_argument("--json", action="store_true", help="print a JSON array (values in ohms / farads)")
-    p.set_defaults(handler=_guarded(run_list))
+    cmd_drawer_list.register(sub, _guarded, _path)
 
     p = sub.add_parser("add", help="add a line to the drawer file",
                        description="Add a part. VALUE is the resistance or capacitance as written on the "
@@ -79,13 +70,18 @@ def register(sub) -> None:
     p.add_argument("kind", choices=KINDS)
     p.add_argument("value", metavar="VALUE")
     p.add_argument("--qty", required=True, metavar="N", help="how many")
-    for flag, what in _ADD_FLAGS:
-        p.add_argument(f"--{flag}", metavar=flag.split("-")[0].upper() if flag != "dielectric" else "D",
-                       help=what)
-    p.add_argument("--cell", action="append", default=[], metavar="COLUMN=TEXT",
-                   help="set a column of your own (one the file already has)")
-    p.add_argument("--reason", default="", help="why, for the history")
+    _cell_options(p)
     p.set_defaults(handler=_guarded(run_add))
+
+    p = sub.add_parser("edit", help="change cells of a line in place",
+                       description="Change the named cells of LINE; the others keep their spelling.")
+    p.add_argument("line", type=int, metavar="LINE")
+    p.add_argument("--kind", choices=KINDS)
+    p.add_argument("--value", metavar="VALUE", help="resistance or capacitance, e.g. 4k7 or 100n")
+    p.add_argument("--qty", metavar="N")
+    p.add_argument("--part", metavar="TYPE", help="type number, e.g. BC547B")
+    _cell_options(p)
+    p.set_defaults(handler=_guarded(run_edit))
 
     p = sub.add_parser("count", help="set or change the count on a line",
                        description="QTY 7 sets the count to 7; +3 adds 3; -2 takes 2.")
@@ -123,7 +119,31 @@ _ADD_FLAGS = (
 )
 
 
-# ---- check and list ----------------------------------------------------------------------------
+def _cell_options(p) -> None:
+    for flag, what in _ADD_FLAGS:
+        p.add_argument(f"--{flag}", metavar=flag.split("-")[0].upper() if flag != "dielectric" else "D",
+                       help=what)
+    p.add_argument("--cell", action="append", default=[], metavar="COLUMN=TEXT",
+                   help="set a column of your own (one the file already has)")
+    p.add_argument("--reason", default="", help="why, for the history")
+
+
+def _cell_fields(args) -> dict[str, str]:
+    """The cells named by --tolerance … --notes and --cell, by column name."""
+    fields = {}
+    for flag, _ in _ADD_FLAGS:
+        text = getattr(args, flag.replace("-", "_"))
+        if text is not None:
+            fields[flag.replace("-", "_")] = text
+    for cell in args.cell:
+        name, eq, text = cell.partition("=")
+        if not eq or not name.strip():
+            raise InputError(f"--cell: {cell!r} should be COLUMN=TEXT")
+        fields[name.strip()] = text
+    return fields
+
+
+# ---- check ----------------------------------------------------------------------------
 
 def run_check(args) -> int:
     drawer = Drawer.load(_path(args))
@@ -133,82 +153,6 @@ def run_check(args) -> int:
     print(f"{drawer.path}: {len(drawer.parts)} parts read, {n_err} error{'s' * (n_err != 1)}, "
           f"{n_warn} warning{'s' * (n_warn != 1)}", file=sys.stderr)
     return 2 if n_err else 0
-
-
-def _bound(text: str | None, flag: str, kind: str | None) -> tuple[float | None, str | None]:
-    """(SI value, kind it implies) of a --min/--max value."""
-    if text is None:
-        return None, None
-    if kind == "transistor":
-        raise InputError(f"--{flag} applies to resistors and capacitors, not transistors")
-    tries = [k for k in ("resistor", "capacitor") if kind in (None, k)]
-    first_error = None
-    for k in tries:
-        try:
-            parse = values.parse_resistance if k == "resistor" else values.parse_capacitance
-            return parse(text), k
-        except values.ValueFormatError as exc:
-            first_error = first_error or exc
-    raise InputError(f"--{flag}: {first_error}")
-
-
-def select(drawer: Drawer, args) -> list[Part]:
-    lo, lo_kind = _bound(args.min, "min", args.kind)
-    hi, hi_kind = _bound(args.max, "max", args.kind or lo_kind)
-    kind = args.kind or lo_kind or hi_kind
-    place = (args.location or "").lower()
-    return [
-        p for p in drawer.parts
-        if (kind is None or p.kind == kind)
-        and (lo is None or p.value >= lo * (1 - 1e-9))
-        and (hi is None or p.value <= hi * (1 + 1e-9))
-        and p.location.lower().startswith(place)
-        and (not args.in_stock or p.qty > 0)
-    ]
-
-
-def part_json(part: Part) -> dict:
-    return {
-        "line": part.line, "kind": part.kind, "value": part.value, "qty": part.qty,
-        "location": part.location, "tolerance": part.tolerance, "power_w": part.power_w,
-        "voltage_v": part.voltage_v, "dielectric": part.dielectric, "polarised": part.polarised,
-        "part": part.part, "polarity": part.polarity, "hfe_min": part.hfe_min, "hfe_max": part.hfe_max,
-        "vceo_v": part.vceo_v, "ic_max_a": part.ic_max_a, "pd_max_w": part.pd_max_w, "notes": part.notes,
-    }
-
-
-def _cells(p: Part) -> list[str]:
-    if p.kind == "transistor":
-        hfe = f"hFE {p.hfe_min:g}–{p.hfe_max:g}" if p.hfe_min and p.hfe_max else ""
-        vceo = f"{p.vceo_v:g} V" if p.vceo_v else ""
-        value, tol, rating = p.part or "", p.polarity or "", " ".join(x for x in (hfe, vceo) if x)
-    elif p.kind == "resistor":
-        value, tol, rating = values.format_resistance(p.value), f"{p.tolerance * 100:g}%", f"{p.power_w:g} W"
-    else:
-        value, tol = values.format_capacitance(p.value), f"{p.tolerance * 100:g}%"
-        volts = f"{p.voltage_v:g} V" if p.voltage_v else "? V"
-        rating = f"{volts} {p.dielectric or ''}{' (+)' if p.polarised else ''}".strip()
-    return [str(p.line), p.kind, value, tol, rating, str(p.qty), p.location, p.notes]
-
-
-def run_list(args) -> int:
-    drawer = Drawer.load(_path(args))
-    parts = select(drawer, args)
-    if args.json:
-        print(json.dumps([part_json(p) for p in parts], indent=1, ensure_ascii=False))
-    else:
-        _table(["line", "kind", "value", "tol", "rating", "qty", "location", "notes"], [_cells(p) for p in parts])
-        print(f"{len(parts)} of {len(drawer.parts)} lines in {drawer.path}"
-              + (f" ({len(drawer.errors)} with errors: drawerfit check)" if drawer.errors else ""),
-              file=sys.stderr)
-    return 0
-
-
-def _table(head: list[str], rows: list[list[str]]) -> None:
-    widths = [max(len(r[i]) for r in [head, *rows]) for i in range(len(head))]
-    right = {0, 5}  # numbers line up on the right
-    for r in [head, *rows]:
-        print("  ".join(c.rjust(w) if i in right else c.ljust(w) for i, (c, w) in enumerate(zip(r, widths))).rstrip())
 
 
 # ---- changes -----------------------------------------------------------------------------------
@@ -224,8 +168,11 @@ def _change_text(c) -> str:
     if c.header:
         return "header line (a column added or taken out)"
     cells = " ".join(v for k in ("kind", "value", "part", "location") if (v := c.row.get(k, "").strip()))
+    qty = f", qty {c.qty_after}" if c.qty_after is not None else ""
+    if c.rewrite:
+        return f"edited: {cells}{qty}"
     if c.raw_before is None:
-        return f"added {cells}, qty {c.qty_after}"
+        return f"added {cells}{qty}"
     if c.raw_after is None:
         return f"removed {cells}" + (f" (qty {c.qty_before})" if c.qty_before is not None else "")
     return f"{cells}  {c.qty_before} → {c.qty_after}"
@@ -241,17 +188,23 @@ def _say(store: Store, entry: Entry) -> None:
 def run_add(args) -> int:
     fields = {"kind": args.kind, "qty": args.qty}
     fields["part" if args.kind == "transistor" else "value"] = args.value
-    for flag, _ in _ADD_FLAGS:
-        text = getattr(args, flag.replace("-", "_"))
-        if text is not None:
-            fields[flag.replace("-", "_")] = text
-    for cell in args.cell:
-        name, eq, text = cell.partition("=")
-        if not eq or not name.strip():
-            raise InputError(f"--cell: {cell!r} should be COLUMN=TEXT")
-        fields[name.strip()] = text
+    fields.update(_cell_fields(args))
     store = _store(args)
     _say(store, store.add_part(fields, args.reason))
+    return 0
+
+
+def run_edit(args) -> int:
+    fields = {k: v for k in ("kind", "value", "qty", "part") if (v := getattr(args, k)) is not None}
+    fields.update(_cell_fields(args))
+    if not fields:
+        raise InputError("edit: name at least one cell to change, e.g. --location B4")
+    store = _store(args)
+    entry = store.edit_part(args.line, fields, args.reason)
+    if not entry.changes:
+        print(f"{store.path}:{args.line}: already reads so; nothing written", file=sys.stderr)
+        return 0
+    _say(store, entry)
     return 0
 
 

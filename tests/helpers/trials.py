@@ -48,13 +48,18 @@ def kill_trials(folder: Path, trials: int = 100, seed: int = 20261201) -> dict:
     path.write_bytes(big_drawer())
     first = path.read_bytes()  # line 2 is "resistor,10k,0,…"; the child sets its qty to 1 or 2
     known = {first} | {first.replace(b"resistor,10k,0,", b"resistor,10k,%d," % q, 1) for q in (1, 2)}
+    probe = folder / "probe.csv"  # time one save here, so the kills spread over a few saves
+    probe.write_bytes(first)
+    t0 = time.perf_counter()
+    Store(probe).set_qty(2, 1)
+    save_s = time.perf_counter() - t0
     torn = mid_save = 0
     for _ in range(trials):
         ready = _FORK.Event()
         child = _FORK.Process(target=_save_forever, args=(str(path), ready))
         child.start()
         ready.wait(10)
-        time.sleep(rng.uniform(0.0, 0.08))  # a save takes ~30 ms: land anywhere in a few
+        time.sleep(rng.uniform(0.0, 3 * save_s))
         os.kill(child.pid, signal.SIGKILL)
         child.join()
         data = path.read_bytes()
@@ -64,7 +69,8 @@ def kill_trials(folder: Path, trials: int = 100, seed: int = 20261201) -> dict:
         for tmp in leftovers:
             tmp.unlink()
     entries = len(Journal(journal_path(path)).read())
-    return {"trials": trials, "torn": torn, "mid_save": mid_save, "journal_entries": entries}
+    return {"trials": trials, "torn": torn, "mid_save": mid_save, "journal_entries": entries,
+            "save_ms": round(save_s * 1e3, 1)}
 
 
 def _take_many(path: str, line: int, times: int) -> None:

@@ -10,7 +10,7 @@ from textual.binding import Binding
 from textual.containers import Horizontal, Vertical
 from textual.screen import ModalScreen
 from textual.validation import ValidationResult, Validator
-from textual.widgets import Button, Input, Label, Static
+from textual.widgets import Button, Footer, Input, Label, Static
 
 from inventory.parts import Part
 
@@ -39,6 +39,7 @@ class ConfirmDialog(ModalScreen[bool]):
             with Horizontal(classes="dialog-buttons"):
                 yield Button(f"{self.yes} (y)", variant="primary", id="yes")
                 yield Button("Cancel (n)", id="no")
+        yield Footer(compact=True, show_command_palette=False)
 
     def on_mount(self) -> None:
         self.query_one("#yes", Button).focus()
@@ -95,6 +96,7 @@ class CountDialog(ModalScreen[int | None]):
             with Horizontal(classes="dialog-buttons"):
                 yield Button("Save (enter)", variant="primary", id="save")
                 yield Button("Cancel (esc)", id="cancel")
+        yield Footer(compact=True, show_command_palette=False)
 
     @on(Input.Changed, "#qty")
     def check(self, event: Input.Changed) -> None:

@@ -8,7 +8,7 @@ from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Vertical
 from textual.screen import ModalScreen
-from textual.widgets import DataTable, Label
+from textual.widgets import DataTable, Footer, Label
 
 from inventory.parts import KINDS, Part
 
@@ -35,6 +35,7 @@ class LocationsScreen(ModalScreen[None]):
             yield Label("Counts per location", classes="dialog-title")
             yield DataTable(id="locations", cursor_type="row", zebra_stripes=True)
             yield Label("Esc closes", classes="field-note")
+        yield Footer(compact=True, show_command_palette=False)
 
     def on_mount(self) -> None:
         table = self.query_one("#locations", DataTable)

@@ -17,7 +17,7 @@ from textual.binding import Binding
 from textual.containers import Horizontal, Vertical, VerticalScroll
 from textual.screen import ModalScreen
 from textual.validation import ValidationResult, Validator
-from textual.widgets import Button, Input, Label, Select
+from textual.widgets import Button, Footer, Input, Label, Select
 
 from inventory import values
 from inventory.parts import DIELECTRICS, KINDS, Part
@@ -110,6 +110,7 @@ class PartForm(ModalScreen[bool]):
             with Horizontal(classes="dialog-buttons"):
                 yield Button("Save (ctrl+s)", variant="primary", id="save")
                 yield Button("Cancel (esc)", id="cancel")
+        yield Footer(compact=True, show_command_palette=False)
 
     def cell(self, column: str, default):
         text = self.cells.get(column, "")

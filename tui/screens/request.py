@@ -65,6 +65,7 @@ FIELDS = {
                      "input resistance at least"),
 }
 DEPTHS = [("1 part per position", 1), ("up to 2 in series/parallel", 2), ("up to 3 in series/parallel", 3)]
+DEFAULT_DEPTH = 2
 
 
 class FieldCheck(Validator):
@@ -115,21 +116,23 @@ class RequestScreen(Screen):
         self.solving = False
 
     def compose(self) -> ComposeResult:
+        last = self.app.last_request  # the request solved last, as it was typed
         yield Header()
         with VerticalScroll(id="request"):
             with Horizontal(classes="field"):
                 yield Label("Topology", classes="field-label")
-                yield Select([(t, t) for t in TOPOLOGIES], value=TOPOLOGIES[0], allow_blank=False,
-                             id="topology", compact=True)
+                yield Select([(t, t) for t in TOPOLOGIES], value=last.get("topology", TOPOLOGIES[0]),
+                             allow_blank=False, id="topology", compact=True)
             for name, f in FIELDS.items():
                 with Horizontal(classes="field"):
                     yield Label(f.label, classes="field-label")
-                    yield Input(f.default, id=f"r-{name}", compact=True, validators=[FieldCheck(f.parse)],
-                                validate_on=["changed"], placeholder=f.default)
+                    yield Input(last.get(name, f.default), id=f"r-{name}", compact=True,
+                                validators=[FieldCheck(f.parse)], validate_on=["changed"], placeholder=f.default)
                     yield Label(f.hint, id=f"m-{name}", classes="field-note")
             with Horizontal(classes="field"):
                 yield Label("Network depth", classes="field-label")
-                yield Select(DEPTHS, value=2, allow_blank=False, id="depth", compact=True)
+                yield Select(DEPTHS, value=last.get("depth", DEFAULT_DEPTH), allow_blank=False, id="depth",
+                             compact=True)
             yield Label("", id="request-problems", classes="field-error")
             yield ProgressBar(total=1.0, show_eta=False, id="solve-progress")
             yield Label("F5 finds designs from the parts in the drawer.", id="solve-status")
@@ -191,6 +194,10 @@ class RequestScreen(Screen):
         if self.app.drawer is None:
             status.update(self.app.load_error or "No drawer file")
             return
+        self.app.last_request = {
+            "topology": spec.topology, "depth": spec.max_parts_per_position,
+            **{name: self.query_one(f"#r-{name}", Input).value for name in FIELDS},
+        }
         self.cancel = threading.Event()
         self.solving = True
         bar = self.query_one("#solve-progress", ProgressBar)
@@ -207,7 +214,12 @@ class RequestScreen(Screen):
         def progress(fraction: float, text: str) -> None:
             self.post_message(SolveProgress(fraction, text))
 
-        result = find_designs(drawer, spec, top=3, depth=depth, progress=progress, cancel=cancel)
+        try:
+            result = find_designs(drawer, spec, top=3, depth=depth, progress=progress, cancel=cancel)
+        except Exception:
+            if not cancel.is_set():
+                raise  # a real failure: the worker reports it (on_worker_state_changed)
+            result = None  # stopped on request; how the solver unwinds is its own business
         self.post_message(Solved(None if cancel.is_set() else result))
 
     def on_solve_progress(self, message: SolveProgress) -> None:
@@ -245,4 +257,4 @@ class RequestScreen(Screen):
         for name, f in FIELDS.items():
             self.query_one(f"#r-{name}", Input).value = f.default
         self.query_one("#topology", Select).value = TOPOLOGIES[0]
-        self.query_one("#depth", Select).value = 2
+        self.query_one("#depth", Select).value = DEFAULT_DEPTH

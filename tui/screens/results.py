@@ -35,7 +35,7 @@ def card_text(rank: int, design: dict) -> str:
     ]
     notes = len(design.get("warnings", [])) + len(design.get("cautions", []))
     if notes:
-        lines.append(f"Notes     {notes} (see sheet)")
+        lines.append(f"Notes     {notes}")
     return "\n".join(lines)
 
 
@@ -59,8 +59,8 @@ class ResultsScreen(Screen):
 
     BINDINGS = [
         Binding("enter", "sheet", "Build sheet", id="results.sheet", tooltip="Open the chosen design's sheet"),
-        Binding("left", "app.focus_previous", "Prev", id="results.prev", show=False),
-        Binding("right", "app.focus_next", "Next", id="results.next", show=False),
+        Binding("left", "app.focus_previous", "Prev", id="results.prev"),
+        Binding("right", "app.focus_next", "Next", id="results.next"),
         Binding("escape", "back", "Back", id="results.back", tooltip="Back to the request"),
     ]
 
@@ -89,6 +89,9 @@ class ResultsScreen(Screen):
                             classes="section-title")
                 yield Static("\n".join(hint_text(h) for h in hints), id="hints")
         yield Footer(compact=True, show_command_palette=False)
+
+    def check_action(self, action: str, parameters: tuple) -> bool | None:
+        return bool(self.designs) if action == "sheet" else True
 
     def on_mount(self) -> None:
         cards = self.query(DesignCard)

@@ -17,7 +17,7 @@ from optimizer import network_tree
 
 from ..schematic import draw_stage, position_text
 from ..widgets import figures
-from ..widgets.part_text import describe
+from ..widgets.part_text import rating_text, tolerance_text, type_text, value_text
 
 SAFETY = (
     "Work with the supply switched off while fitting parts; check the rail voltage before connecting it.",
@@ -26,6 +26,15 @@ SAFETY = (
     "Keep every part within its rated voltage and power; hot parts burn.",
     "These notes do not replace local electrical codes or licensed practice: follow those where they apply.",
 )
+
+
+def line_text(part) -> str:
+    """The drawer line as stocked: "4k7 5% 0.25 W", "BC547B hFE 200-450 45 V"."""
+    if part is None:
+        return "(no longer in the drawer file)"
+    bits = (value_text(part) if part.kind != "transistor" else "", tolerance_text(part), rating_text(part),
+            type_text(part) if part.kind != "transistor" else "")
+    return " ".join(b for b in bits if b)
 
 
 def part_rows(design: dict, drawer) -> list[tuple[str, str, str, str, str]]:
@@ -41,13 +50,12 @@ def part_rows(design: dict, drawer) -> list[tuple[str, str, str, str, str]]:
         for leaf in leaves:
             part = drawer.part_at(leaf.line) if drawer else None
             rows.append((pos, position_text({unit_key: leaf.value}), str(leaf.line),
-                         locations.get(str(leaf.line), ""), describe(part) if part else ""))
+                         locations.get(str(leaf.line), ""), line_text(part)))
     q1 = design.get("parts", {}).get("Q1")
     if q1:
         line = q1.get("line")
         part = drawer.part_at(line) if drawer and line is not None else None
-        rows.append(("Q1", str(q1.get("part", "")), str(line), locations.get(str(line), ""),
-                     describe(part) if part else ""))
+        rows.append(("Q1", str(q1.get("part", "")), str(line), locations.get(str(line), ""), line_text(part)))
     return rows
 
 
@@ -125,7 +133,7 @@ class SheetScreen(Screen):
 
     def on_mount(self) -> None:
         table = self.query_one("#sheet-parts", DataTable)
-        table.add_columns("Pos", "Value", "Line", "Place", "Drawer part")
+        table.add_columns("Pos", "Value", "Line", "Place", "In the drawer as")
         table.add_rows(part_rows(self.design, self.app.drawer))
         response = self.design.get("response", {})
         if response.get("freq_hz"):

@@ -1,0 +1,162 @@
+"""The design solver: the exact best designs for a spec from the parts on hand.
+
+Search (exact for the objective in objective.py over the space in candidates.py):
+  for resistor part budget B = fewest positions, +1, … (B = Σ fewest parts per value):
+    screen every value tuple of budget B (candidates.tuples, pruned only by necessary
+    conditions) at hFE min and max (feasible.check), choose its capacitors
+    (capchoice.choose), add the survivors as rows;
+    let CP-SAT (assign.py) pick the top designs over all rows so far under shared stock;
+    stop once the N-th best uses ≤ B + 2 + 1 parts: every unscreened tuple needs
+    ≥ B + 1 resistor parts, ≥ 2 capacitors and Q1, so cannot tie or win.
+"""
+
+from __future__ import annotations
+
+import time
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from . import capchoice, objective
+from .assign import Assignment
+from .candidates import OPTIONAL, POSITIONS, Pool, min_positions, profiles, tuples, usable_transistors
+from .capacitors import capacitor_options
+from .feasible import Near, check, concat
+
+MIN_CAPS = 2  # CIN and COUT are always fitted
+MAX_SCREENED = 60_000_000  # a safety stop; reported in `why` when it ends the search
+
+
+class Cancelled(Exception):
+    pass
+
+
+@dataclass
+class Solution:
+    """What the search found; select.find_designs turns it into the JSON document."""
+
+    spec: object
+    designs: list = field(default_factory=list)  # (assign.Choice, row dict)
+    why: list = field(default_factory=list)
+    notes: list = field(default_factory=list)
+    near: Near = field(default_factory=Near)
+    pool: Pool | None = None
+    options: object = None
+    qlines: list = field(default_factory=list)
+    cap_failures: list = field(default_factory=list)  # rows that met the rest but found no capacitors
+    stock_bound: bool = False
+    exhaustive: bool = True
+    budget: int = 0
+    seconds: float = 0.0
+
+
+def _row_dict(rows, i):
+    return {k: (v[i] if np.ndim(v) else v) for k, v in rows.items()}
+
+
+def _add_caps(topology, rows, spec, options, cap_qty, q, sol):
+    keep, extra = [], {k: [] for k in ("pc", "ec", "fc", "nf", "opt_CIN", "opt_COUT", "opt_CE")}
+    n = len(rows["ge"])
+    for i in range(n):
+        row = _row_dict(rows, i)
+        c = capchoice.choose(topology, row, spec, options, cap_qty) if len(options) else None
+        if c is None:
+            if len(sol.cap_failures) < 50:
+                sol.cap_failures.append((row, q))
+            continue
+        keep.append(i)
+        extra["pc"].append(c.parts)
+        extra["ec"].append(c.emptied + (1 if q.qty <= 1 else 0))
+        extra["fc"].append(c.frac + objective.line_weight(q.qty))
+        extra["nf"].append(c.nf)
+        for p in capchoice.CAP_POSITIONS:
+            extra[f"opt_{p}"].append(c.options.get(p, -1))
+    out = {k: v[keep] for k, v in rows.items()}
+    out.update({k: np.asarray(v, dtype=np.int64) for k, v in extra.items()})
+    return out
+
+
+def search(rstock, cstock, qlines, spec, *, top=3, depth=3, progress=None, cancel=None) -> Solution:
+    """The top `top` distinct designs (value tuples + transistor part) for `spec`; see the module docstring."""
+    t0 = time.perf_counter()
+    topology = spec.topology
+    positions = POSITIONS[topology]
+    sol = Solution(spec, qlines=qlines)
+    options = capacitor_options(cstock, 0.0, depth=2)
+    sol.options = options
+    cap_qty = np.asarray(cstock.qty, dtype=np.int64)
+    if not qlines:
+        sol.why.append("no usable NPN transistor line is in stock")
+        return sol
+    if len(rstock.qty) == 0:
+        sol.why.append("no resistors are in stock")
+        return sol
+    n_min = min_positions(topology)
+    b_max = len(positions) * depth
+    rows_all = []
+    last_rows = 0
+    for budget in range(n_min, b_max + 1):
+        sol.budget = budget
+        level = min(depth, budget - n_min + 1)
+        if sol.pool is None or sol.pool.depth < level:
+            sol.pool = Pool(rstock, level)
+        for profile in profiles(topology, budget, level):
+            for qi, q in enumerate(qlines):
+                for chunk in tuples(topology, profile, sol.pool, spec, q):
+                    if cancel is not None and cancel.is_set():
+                        raise Cancelled()
+                    rows = check(topology, chunk, q, spec, sol.near)
+                    if len(rows["ge"]):
+                        rows["q"] = np.full(len(rows["ge"]), qi, dtype=np.int64)
+                        rows["nsm"] = -rows["sm"]
+                        rows = _add_caps(topology, rows, spec, options, cap_qty, q, sol)
+                        if len(rows["ge"]):
+                            rows_all.append(rows)
+            if sol.near.screened > MAX_SCREENED:
+                sol.exhaustive = False
+                break
+        if progress:
+            progress(budget / b_max, f"screened {sol.near.screened:,} value tuples (≤ {budget} resistor parts)")
+        n_rows = sum(len(r["ge"]) for r in rows_all)
+        if n_rows and n_rows != last_rows:
+            last_rows = n_rows
+            sol.designs = _top(positions, concat(rows_all), sol, spec, top, cancel)
+        if len(sol.designs) >= top and sol.designs[-1][0].score.parts <= budget + MIN_CAPS + 1:
+            break
+        if not sol.exhaustive:
+            sol.notes.append(f"search stopped after {sol.near.screened:,} tuples (≤ {budget} resistor parts); "
+                             "designs are the best found so far")
+            break
+    sol.seconds = time.perf_counter() - t0
+    if not sol.designs:
+        sol.stock_bound = last_rows > 0
+    return sol
+
+
+def _top(positions, rows, sol, spec, top, cancel):
+    qty = _stock_qty(sol.pool)
+    a = Assignment(positions, rows, sol.pool, qty, sol.qlines, cancel=cancel)
+    out = []
+    names = np.array([q.name for q in sol.qlines])
+    while len(out) < top:
+        c = a.solve()
+        if c is None:
+            if a.stopped:
+                raise Cancelled()
+            break
+        out.append((c, _row_dict(rows, c.row)))
+        # Forbid every row with the same values and the same transistor part (any line of it).
+        same = np.ones(len(rows["q"]), dtype=bool)
+        for p in positions:
+            same &= rows[p] == rows[p][c.row]
+        same &= names[rows["q"]] == names[rows["q"][c.row]]
+        a.forbid(np.flatnonzero(same))
+    return out
+
+
+def _stock_qty(pool) -> np.ndarray:
+    return np.asarray(pool.stock.qty, dtype=np.int64)
+
+
+def optional_positions(topology):
+    return OPTIONAL[topology]

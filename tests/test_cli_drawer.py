@@ -1,0 +1,153 @@
+"""The drawer subcommands through `tui.cli.main`, in temporary folders.  Invented fixtures."""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import pytest
+
+from inventory.drawer import Drawer
+from inventory.locate import demo_bytes
+from tui.cli import main
+
+GOOD = b"kind,value,qty,tolerance,voltage,dielectric,part,polarity,hfe_min,hfe_max,location\n" \
+       b"resistor,4k7,10,1%,,,,,,,A1\nresistor,470k,2,,,,,,,,A2\ncapacitor,100n,5,,50V,x7r,,,,,B1\n" \
+       b"transistor,,3,,,,BC547B,NPN,200,450,C1\n"
+
+
+@pytest.fixture
+def drawer(tmp_path, monkeypatch) -> Path:
+    monkeypatch.chdir(tmp_path)
+    monkeypatch.delenv("DRAWERFIT_INVENTORY", raising=False)
+    path = tmp_path / "drawer.csv"
+    path.write_bytes(GOOD)
+    return path
+
+
+def run(*argv: str) -> int:
+    return main(list(argv))
+
+
+def test_check_exit_codes(drawer, capsys):
+    assert run("check") == 0
+    drawer.write_bytes(GOOD + b"resistor,4k7k,1,,,,,,,,A3\nwidget,1,x,,,,,,,,\n")
+    assert run("--inventory", str(drawer), "check") == 2
+    out = capsys.readouterr().out.splitlines()
+    assert out[0] == f'{drawer}:6:2: value "4k7k" is not a resistance (expected e.g. 4k7, 4.7k, 4700)'
+    assert [x.split(":")[1:3] for x in out] == [["6", "2"], ["7", "1"], ["7", "3"]]
+
+
+def test_check_with_only_warnings_is_0(drawer, capsys):
+    drawer.write_bytes(GOOD + b"resistor,4700,1,1%,,,,,,,A1\n")
+    assert run("check") == 0
+    assert "warning: same resistor in A1 as line 2" in capsys.readouterr().out
+
+
+def test_list_json_keys_and_filters(drawer, capsys):
+    assert run("list", "--json") == 0
+    rows = json.loads(capsys.readouterr().out)
+    assert {"line", "kind", "value", "qty", "location", "tolerance", "power_w", "voltage_v"} <= set(rows[0])
+    assert [(r["line"], r["value"]) for r in rows] == [(2, 4700.0), (3, 470e3), (4, 100e-9), (5, None)]
+    assert run("list", "--json", "--min", "1k", "--max", "100k") == 0
+    assert [r["line"] for r in json.loads(capsys.readouterr().out)] == [2]
+    assert run("list", "--json", "--min", "10n") == 0  # a capacitance implies capacitors
+    assert [r["line"] for r in json.loads(capsys.readouterr().out)] == [4]
+    assert run("list", "--json", "--location", "c") == 0
+    assert [r["part"] for r in json.loads(capsys.readouterr().out)] == ["BC547B"]
+
+
+def test_list_table_uses_rkm_spelling(drawer, capsys):
+    drawer.write_bytes(GOOD.replace(b"470k", b"470000"))
+    assert run("list") == 0
+    out = capsys.readouterr().out
+    assert " 470k " in out and " 100n " in out and "470000" not in out
+
+
+def test_bad_filter_names_the_option(drawer, capsys):
+    assert run("list", "--min", "4k7k") == 2
+    assert capsys.readouterr().err.startswith('drawerfit: --min: "4k7k" is not a resistance')
+    assert run("list", "--kind", "transistor", "--max", "1k") == 2
+    with pytest.raises(SystemExit) as exc:  # argparse refuses an unknown choice, naming the option
+        run("list", "--kind", "diode")
+    assert exc.value.code == 2 and "--kind" in capsys.readouterr().err
+
+
+def test_add_count_remove_history_undo(drawer, capsys):
+    assert run("add", "resistor", "22k", "--qty", "4", "--location", "A3", "--reason", "bought") == 0
+    assert run("add", "transistor", "2N3906", "--qty", "2", "--polarity", "pnp",
+               "--hfe-min", "100", "--hfe-max", "300") == 0
+    assert run("count", "2", "7") == 0
+    assert run("count", "2", "-2", "--reason", "test rig") == 0
+    assert run("count", "3", "+3") == 0
+    assert run("remove", "4") == 0
+    d = Drawer.load(drawer)
+    assert [(p.line, p.qty) for p in d.parts[:2]] == [(2, 5), (3, 5)]
+    assert d.parts[-1].polarity == "PNP" and d.parts[-1].line == 6
+    capsys.readouterr()
+    assert run("history", "--json") == 0
+    entries = json.loads(capsys.readouterr().out)
+    assert [e["action"] for e in entries] == ["add", "add", "count", "count", "count", "remove"]
+    assert entries[0]["reason"] == "bought"
+    for _ in range(6):
+        assert run("undo") == 0
+    assert drawer.read_bytes() == GOOD
+    assert run("undo") == 1
+    assert "nothing to undo" in capsys.readouterr().err
+    assert run("history") == 0
+    assert "(undone by" in capsys.readouterr().out
+
+
+def test_refusals_exit_with_a_message_and_no_traceback(drawer, capsys):
+    assert run("count", "2", "-11") == 1
+    assert "has 10, needs 11" in capsys.readouterr().err
+    assert run("count", "99", "1") == 2
+    assert "line 99 holds no part" in capsys.readouterr().err
+    assert run("count", "2", "seven") == 2
+    assert capsys.readouterr().err.startswith("drawerfit: QTY:")
+    assert run("add", "capacitor", "220", "--qty", "1") == 2
+    assert "not a capacitance" in capsys.readouterr().err
+    assert run("add", "resistor", "1k", "--qty", "1", "--cell", "colour=red") == 2
+    assert 'no column "colour"' in capsys.readouterr().err
+    assert run("undo", "42") == 2
+    assert drawer.read_bytes() == GOOD
+
+
+def test_missing_explicit_inventory_is_an_error_not_a_new_file(drawer, tmp_path, capsys):
+    assert run("--inventory", str(tmp_path / "nope.csv"), "check") == 2
+    assert "nope.csv (--inventory) does not exist" in capsys.readouterr().err
+    assert not (tmp_path / "nope.csv").exists()
+
+
+def test_first_use_starts_from_the_demo_and_says_where(tmp_path, monkeypatch, capsys):
+    monkeypatch.chdir(tmp_path)
+    monkeypatch.delenv("DRAWERFIT_INVENTORY", raising=False)
+    monkeypatch.setenv("XDG_DATA_HOME", str(tmp_path / "data"))  # where platformdirs looks on Linux
+    assert run("list", "--json") == 0
+    home = tmp_path / "data" / "drawerfit" / "drawer.csv"
+    assert home.read_bytes() == demo_bytes()
+    assert str(home) in capsys.readouterr().err
+    assert run("check") == 0
+    assert "demo" not in capsys.readouterr().err  # said once, on creation
+
+
+def test_environment_variable_names_the_file(drawer, tmp_path, monkeypatch, capsys):
+    other = tmp_path / "other.csv"
+    other.write_bytes(b"kind,value,qty\nresistor,1k,1\n")
+    monkeypatch.setenv("DRAWERFIT_INVENTORY", str(other))
+    assert run("list", "--json") == 0
+    assert [r["value"] for r in json.loads(capsys.readouterr().out)] == [1000.0]
+
+
+def test_edit_changes_named_cells_in_place(drawer, capsys):
+    assert run("edit", "3", "--location", "A4", "--notes", "moved, 2026", "--reason", "tidy") == 0
+    lines, good = drawer.read_bytes().split(b"\n"), GOOD.split(b"\n")
+    assert lines[2] == b'resistor,470k,2,,,,,,,,A4,"moved, 2026"'
+    assert lines[0] == good[0] + b",notes"  # the file had no notes column: it is added
+    assert [lines[i] for i in (1, 3, 4, 5)] == [good[i] for i in (1, 3, 4, 5)]
+    d = Drawer.load(drawer)
+    assert (d.part_at(3).location, d.part_at(3).notes) == ("A4", "moved, 2026")
+    assert run("edit", "3", "--value", "470kk") == 2
+    assert "not a resistance" in capsys.readouterr().err
+    assert run("undo") == 0
+    assert drawer.read_bytes() == GOOD
