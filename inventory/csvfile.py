@@ -10,7 +10,7 @@ follow leading spaces, and a quote left open is reported, not fatal.
 from __future__ import annotations
 
 import re
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 
 DELIMITERS = (",", ";", "\t")
 _BREAK = re.compile(r"\r\n|\r|\n")
@@ -32,11 +32,6 @@ class Record:
     def blank(self) -> bool:
         """Nothing but delimiters and spaces (spreadsheets leave such rows behind)."""
         return all(not c.strip() for c in self.cells)
-
-    @property
-    def height(self) -> int:
-        """Physical lines this record spans (a quoted cell may hold line breaks)."""
-        return max(1, len(_BREAK.findall(self.raw)))
 
 
 def sniff_delimiter(text: str) -> str:
@@ -171,7 +166,6 @@ class Decoded:
     text: str
     bom: bool
     trouble: str | None = None                   # a whole-file problem (UTF-16, NUL bytes)
-    bad_bytes: list[int] = field(default_factory=list)
 
 
 def decode(data: bytes) -> Decoded:

@@ -16,7 +16,7 @@ import numpy as np
 from . import csvfile
 from .csvfile import Record
 from .parts import Part
-from .problems import Problem
+from .problems import Problem, shown
 from .rows import COLUMNS, REQUIRED, RowReader, identity_key, read_row
 
 
@@ -180,14 +180,14 @@ def _read_header(path: str, rec: Record, problems: list[Problem]) -> dict[str, i
         if not name:
             continue
         if name in columns:
-            problems.append(Problem(path, rec.line, i + 1, cell, f'column "{name}" appears twice '
+            problems.append(Problem(path, rec.line, i + 1, cell, f"column {shown(name)} appears twice "
                                     f"(columns {columns[name] + 1} and {i + 1}); the first is read"))
             continue
         columns[name] = i
         if name not in COLUMNS:
             close = difflib.get_close_matches(name, COLUMNS, n=1, cutoff=0.75)
             if close and close[0] not in [c.strip().lower() for c in rec.cells]:
-                problems.append(Problem(path, rec.line, i + 1, cell, f'column "{cell.strip()}" is not '
+                problems.append(Problem(path, rec.line, i + 1, cell, f"column {shown(cell.strip())} is not "
                                         f"read (did you mean {close[0]}?); it is kept as it is",
                                         "warning"))
     if rec.broken:

@@ -94,7 +94,8 @@ def find_again(drawer: Drawer, identity: list | tuple | None, raw: str | None, w
     """Record index in `drawer` of the part with `identity` (or, for a line with errors, `raw`).
 
     Lines holding the same part twice (a warning, not an error) are told apart by their exact
-    text; identical lines are interchangeable, and `line` picks one.  ConflictError when it is not there or still matches more than one line.
+    text; identical lines are interchangeable, and `line` picks one.  ConflictError when it is
+    not there or still matches more than one line.
     """
     if identity is not None:
         lines = [p.line for p in drawer.find(identity_key(tuple(identity)))]

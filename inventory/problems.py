@@ -22,8 +22,19 @@ class Problem:
 
     def __str__(self) -> str:
         tag = "warning: " if self.severity == "warning" else ""
-        return f"{self.path}:{self.line}:{self.column}: {tag}{self.message}"
+        return printable(f"{self.path}:{self.line}:{self.column}: {tag}{self.message}")
 
     @property
     def is_error(self) -> bool:
         return self.severity == "error"
+
+
+def printable(text: str) -> str:
+    """`text` on one line: control characters and undecodable bytes escaped (\\n, \\udce9)."""
+    return "".join(c if c.isprintable() else repr(c)[1:-1] for c in text)
+
+
+def shown(text: str) -> str:
+    """A cell quoted in a message: escaped, and cut if long."""
+    text = printable(text)
+    return f'"{text if len(text) <= 40 else text[:37] + "..."}"'

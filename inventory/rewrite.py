@@ -78,10 +78,11 @@ def check_line(txn: Txn, what: str, raw_before: str | None = None) -> None:
     part = trial.part_at(rec.line)
     if part is None:
         raise StoreError(f"{what} is empty: give at least kind, value and qty")
-    same = [p for p in trial.find(identity_key(part.identity)) if p.line != rec.line]
-    if same:
+    old = txn.fresh.part_at(txn.fresh.records[txn.edits[-1].index].line) if raw_before else None
+    key = identity_key(part.identity)
+    same = [p for p in trial.find(key) if p.line != rec.line]
+    if same and (old is None or identity_key(old.identity) != key):  # a new repeat, not an old one
         raise StoreError(f"{txn.fresh.path}:{same[0].line} already holds this part ({describe(part)}); "
                          "change its count instead")
-    old = txn.fresh.part_at(txn.fresh.records[txn.edits[-1].index].line) if raw_before else None
     txn.edits[-1].change = change_for(trial, where[-1], raw_before, rec.raw, old.qty if old else None, part.qty)
     txn.edits[-1].change.rewrite = raw_before is not None

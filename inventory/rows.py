@@ -12,7 +12,7 @@ from collections.abc import Callable
 
 from . import values
 from .parts import DIELECTRICS, KINDS, Part
-from .problems import Problem
+from .problems import Problem, shown
 
 COLUMNS = (
     "kind", "value", "qty", "tolerance", "power", "voltage", "dielectric", "part", "polarity",
@@ -61,7 +61,7 @@ class RowReader:
             self.report(name, f"{name} {exc}")
             return None
         if positive and not number > 0:
-            self.report(name, f'{name} "{self.text(name)}" must be more than 0')
+            self.report(name, f"{name} {shown(self.text(name))} must be more than 0")
             return None
         return number
 
@@ -70,12 +70,12 @@ def read_row(reader: RowReader) -> Part | None:
     """The Part on this line, or None when the line has an error (then reader.problems says why)."""
     kind = reader.text("kind").lower()
     if kind not in KINDS:
-        what = f'kind "{reader.text("kind")}" is unknown' if kind else "kind is empty"
+        what = f"kind {shown(reader.text('kind'))} is unknown" if kind else "kind is empty"
         reader.report("kind", f"{what} (expected resistor, capacitor or transistor)")
     qty_text = reader.text("qty")
     qty = int(qty_text) if _QTY.fullmatch(qty_text) else None
     if qty is None:
-        what = f'qty "{qty_text}" is not a count' if qty_text else "qty is empty"
+        what = f"qty {shown(qty_text)} is not a count" if qty_text else "qty is empty"
         reader.report("qty", f"{what} (expected a whole number, 0 or more)")
     if kind not in KINDS:
         return None
@@ -98,7 +98,7 @@ def _passive_fields(r: RowReader, kind: str) -> dict | None:
     if not r.text("value"):
         r.report("value", f"value is empty (a {kind} needs its {unit}, e.g. {example})")
     elif value is not None and value < 0:
-        r.report("value", f'value "{r.text("value")}" cannot be negative')
+        r.report("value", f"value {shown(r.text('value'))} cannot be negative")
     tolerance = r.value("tolerance", values.parse_tolerance, DEFAULT_TOLERANCE[kind])
     if kind == "resistor":
         power = r.value("power", values.parse_power, DEFAULT_POWER_W)
@@ -106,7 +106,7 @@ def _passive_fields(r: RowReader, kind: str) -> dict | None:
     voltage = r.value("voltage", values.parse_voltage)
     dielectric = r.text("dielectric").lower() or None
     if dielectric is not None and dielectric not in DIELECTRICS:
-        r.report("dielectric", f'dielectric "{r.text("dielectric")}" is unknown '
+        r.report("dielectric", f"dielectric {shown(r.text('dielectric'))} is unknown "
                  f"(expected one of {', '.join(DIELECTRICS)})")
     elif dielectric in ("electrolytic", "tantalum") and not r.text("voltage"):
         r.report("voltage", f"{dielectric} capacitor without a voltage rating: designs will not use "
@@ -117,14 +117,14 @@ def _passive_fields(r: RowReader, kind: str) -> dict | None:
 def _transistor_fields(r: RowReader) -> dict | None:
     polarity = r.text("polarity").upper() or None
     if polarity not in ("NPN", "PNP"):
-        what = f'polarity "{r.text("polarity")}" is unknown' if polarity else "polarity is empty"
+        what = f"polarity {shown(r.text('polarity'))} is unknown" if polarity else "polarity is empty"
         r.report("polarity", f"{what} (a transistor needs NPN or PNP)")
     if r.text("value"):
         r.report("value", "value is ignored for transistors (the type goes in part)", "warning")
     hfe_min = r.value("hfe_min", values.parse_number)
     hfe_max = r.value("hfe_max", values.parse_number)
     if hfe_min is not None and hfe_max is not None and hfe_min > hfe_max:
-        r.report("hfe_max", f"hfe_min {r.text('hfe_min')} is more than hfe_max {r.text('hfe_max')}")
+        r.report("hfe_max", f"hfe_min {hfe_min:g} is more than hfe_max {hfe_max:g}")
     elif not r.text("hfe_min") or not r.text("hfe_max"):
         r.report("hfe_min", "no hfe_min/hfe_max: designs need the hFE spread to use this transistor",
                  "warning")

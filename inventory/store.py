@@ -10,6 +10,7 @@ the file is kept.  Undo works on the current file by identity, so it survives ot
 
 from __future__ import annotations
 
+import os
 from collections import defaultdict
 from collections.abc import Callable, Iterable
 from pathlib import Path
@@ -34,7 +35,9 @@ class Store:
 
     def __init__(self, path: str | Path, *, lock_timeout_s: float = 10.0) -> None:
         self.path = Path(path)
-        self.journal = Journal(journal_path(self.path))
+        # Lock and journal sit beside the real file, so a symlink and its target share them.
+        self._real = Path(os.path.realpath(self.path))
+        self.journal = Journal(journal_path(self._real))
         self.lock_timeout_s = lock_timeout_s
         self._base: bytes | None = None
         self._drawer: Drawer | None = None
@@ -43,6 +46,11 @@ class Store:
         self._base = self._read()
         self._drawer = Drawer.from_bytes(self._base, str(self.path))
         return self._drawer
+
+    def base_on(self, drawer: Drawer) -> None:
+        """Treat `drawer` (read earlier, e.g. the one a design was made from) as what this Store
+        loaded, so line numbers taken from it are checked against the file as it is now."""
+        self._base, self._drawer = drawer.to_bytes(), drawer
 
     @property
     def drawer(self) -> Drawer:
@@ -61,7 +69,7 @@ class Store:
 
     def _transact(self, action: str, reason: str, plan: Callable[[Txn], None]) -> Entry:
         try:
-            with locked(self.path, self.lock_timeout_s):
+            with locked(self._real, self.lock_timeout_s):
                 return self._transact_locked(action, reason, plan)
         except LockBusy as exc:
             raise StoreError(str(exc)) from None
@@ -85,6 +93,9 @@ class Store:
                     e.change.identity, e.change.row = identity_and_row(new, pos)
         changes = [e.change for e in txn.edits if e.change is not None]  # a new file's header is not
         entry = Entry(self.journal.next_id(), now_iso(), action, reason, self.path.name, changes, txn.undoes)
+        if not os.access(self._real, os.W_OK) or not self._real.stat().st_mode & 0o222:
+            # os.replace would replace a read-only file regardless (the folder is what it checks)
+            raise StoreError(f"{self.path} is read-only; nothing was written")
         try:
             atomic_write(self.path, new_bytes)
             self.journal.append(entry)

@@ -144,7 +144,8 @@ def _initial_guess(a0, ab, ac, d0, db, dc, is_a, bf, br, vaf_v, vt):
     ln_is = np.log(is_a)
     vbc = np.minimum(d0, 0.0)
     r = ab / bf + ac * (1.0 - vbc / vaf_v)
-    w = np.log(np.maximum(a0, 1e-3) / r)
+    # Both are upper bounds of ln E (r·E ≤ a0, and VBE ≤ a0); the second is exact when r = 0.
+    w = np.minimum(np.log(np.maximum(a0, 1e-3) / r), ln_is + a0 / vt)
     e = np.exp(w)
     for _ in range(3):
         w = w + (a0 - vt * (w - ln_is) - r * e) / (vt + r * e)

@@ -131,8 +131,25 @@ class Usage(NamedTuple):
     count: np.ndarray
 
 
+class SortedByValue:
+    """Look-ups on an ascending `value` array (networks, or distinct values)."""
+
+    value: np.ndarray
+
+    def __len__(self) -> int:
+        return len(self.value)
+
+    def window(self, lo: float, hi: float) -> slice:
+        """Index slice of the entries with lo ≤ value ≤ hi."""
+        return window_slice(self.value, lo, hi)
+
+    def nearest(self, target: float, k: int = 1) -> np.ndarray:
+        """Indices of the k entries closest to target (in ratio), closest first."""
+        return nearest_positions(self.value, target, k)
+
+
 @dataclass(frozen=True)
-class Distinct:
+class Distinct(SortedByValue):
     """Distinct network values (relative rounding 1e-9), ascending.
 
     value[g]     the value of group g (that of its best realisation)
@@ -148,18 +165,8 @@ class Distinct:
     start: np.ndarray
     stop: np.ndarray
 
-    def __len__(self) -> int:
-        return len(self.value)
 
-    def window(self, lo: float, hi: float) -> slice:
-        return window_slice(self.value, lo, hi)
-
-    def nearest(self, target: float, k: int = 1) -> np.ndarray:
-        """Group numbers of the k distinct values closest to target (in ratio), closest first."""
-        return nearest_positions(self.value, target, k)
-
-
-class PartsTable:
+class PartsTable(SortedByValue):
     """Networks sorted by value.  Arrays, all of length n (the number of networks):
 
     value [n] float (Ω or F), tolerance [n] float (fraction, worst case), parts [n] int,
@@ -180,17 +187,6 @@ class PartsTable:
         self.stock_value = stock_value
         self.stock_tolerance = stock_tolerance
         self._distinct: Distinct | None = None
-
-    def __len__(self) -> int:
-        return len(self.value)
-
-    def window(self, lo: float, hi: float) -> slice:
-        """Index slice of the networks with lo ≤ value ≤ hi."""
-        return window_slice(self.value, lo, hi)
-
-    def nearest(self, target: float, k: int = 1) -> np.ndarray:
-        """Indices of the k networks closest to target (in ratio), closest first."""
-        return nearest_positions(self.value, target, k)
 
     def usage(self, i: int) -> list[tuple[int, int]]:
         """[(drawer line, count), …] of network i, by line."""

@@ -13,6 +13,7 @@ Power split (Ohm's law): in series part i takes P·Ri/R; in parallel P·R/Ri.
 
 from __future__ import annotations
 
+from collections.abc import Iterator
 from dataclasses import dataclass
 
 import numpy as np
@@ -123,8 +124,8 @@ class _Builder:
         self.lo, self.hi, self.spread = lo, hi, max_spread
         self.candidates = 0
 
-    def extend(self, base: _Nets, series: bool, ordered: bool, windowed: bool) -> list[_Nets]:
-        """Every base joined with one more part (position ≥ the base's last if `ordered`), in chunks."""
+    def extend(self, base: _Nets, series: bool, ordered: bool, windowed: bool) -> Iterator[_Nets]:
+        """Every base joined with one more part (position ≥ the base's last if `ordered`), chunk by chunk."""
         lo, hi = (self.lo, self.hi) if windowed else (0.0, np.inf)
         cmin, cmax = _third_range(base.r, series, lo, hi)
         if self.spread is not None:  # largest/smallest part ≤ spread
@@ -141,8 +142,8 @@ class _Builder:
         edges = np.unique(np.r_[0, np.searchsorted(cum, np.arange(CHUNK, total, CHUNK), "right"), len(start)])
         if len(edges) < 2:
             edges = np.zeros(2, dtype=np.int64)  # no bases: one empty chunk
-        return [self._chunk(base, series, start, stop, lo, hi, windowed, np.arange(a, b))
-                for a, b in zip(edges[:-1], edges[1:], strict=True)]
+        return (self._chunk(base, series, start, stop, lo, hi, windowed, np.arange(a, b))
+                for a, b in zip(edges[:-1], edges[1:], strict=True))
 
     def _chunk(self, base, series, start, stop, lo, hi, windowed, rows) -> _Nets:
         b, c = ragged(start[rows], stop[rows])
@@ -178,7 +179,8 @@ class _Builder:
         return out
 
 
-def _concat(chunks: list[_Nets]) -> _Nets:
+def _concat(chunks: Iterator[_Nets]) -> _Nets:
+    chunks = list(chunks)
     return _Nets(*(np.concatenate([getattr(c, k) for c in chunks]) for k in ("r", "rl", "rh", "p", "m")))
 
 

@@ -66,7 +66,8 @@ def screen(
     arrays.  Temperature laws are the transistor model's own.
 
     Returns (SI units): vb ve vc vn vce vbe ic ib ie i_supply (DC; vn is the
-    RE1–RE2 node), saturated cutoff converged (bool), iterations (int),
+    RE1–RE2 node), saturated cutoff converged (bool), iterations (0-d int: the
+    most Newton steps any candidate took),
     gm gpi gmu go re_prime ro (S, Ω), gain rin rout (midband; gain signed from
     the source EMF to the load), gain_textbook rin_textbook rout_textbook,
     swing_up swing_down swing_pp (V at the load), p_<position> and p_q (W).
@@ -129,7 +130,7 @@ def _screen_flat(topology, f, q, n):
     out.update(gm=gm, gpi=gpi, gmu=gmu, go=go, re_prime=vt / ic, ro=1.0 / go)
     bypassed = f["bypassed"] > 0
     re_ac = f["RE"] if follower else f["RE1"] + np.where(bypassed, 0.0, re2)
-    r_bias = np.inf if feedback else bias.thevenin(1.0, f["R1"], f["R2"])[1]
+    r_bias = np.inf if feedback else net.rbb  # R1‖R2
     rb = f["RB"] if feedback else np.inf
     g = smallsignal.conductance
     ss = smallsignal.midband(

@@ -101,7 +101,7 @@ def textbook(topology, *, re_prime, beta, r_bias, re_ac, rc, rb, rl, rs):
     Follower: A ≈ (RE‖RL)/(re' + RE‖RL), rin ≈ R1‖R2‖(β+1)(re' + RE‖RL),
     rout ≈ RE‖(re' + (RS‖R1‖R2)/(β+1)).
     Collector feedback: A ≈ −(RC‖RL‖RB)/(re' + RE1), rin ≈ RB/(1 + |A|) ‖ (β+1)(re' + RE1)
-    (Miller), rout ≈ RC‖RB/(1 + …) taken as RC‖RB.
+    (Miller), rout ≈ RC‖RB (the feedback lowers it further; the exact solve has it).
     Gains are from the base to the load (the source divider is not included).
     """
     if topology == "emitter-follower":

@@ -82,38 +82,49 @@ class Oracle:
         follower = self.topology == "emitter-follower"
 
         def kcl(x):
+            with np.errstate(over="ignore", invalid="ignore"):  # root may probe far-off points
+                return _kcl(x)
+
+        def _kcl(x):
             vb, vc, ve = x
             if follower:
                 vc = v
             ic, ib = self.currents(vb - ve, vb - vc)
-            i_src = (vs + q["vb"] - vb) / rs
-            if self.topology == "collector-feedback":
-                fb = (vc - vb) / r["RB"]
-                base = i_src + fb - ib
-                coll = (v - vc) / r["RC"] - fb - ic - (vc - q["vc"]) / rl + inject_a
+            fb = (vc - vb) / r["RB"] if self.topology == "collector-feedback" else 0.0
+            if rs == 0:  # the source drives the base directly
+                base = (vs + q["vb"] - vb) * 1e-3
+            elif self.topology == "collector-feedback":
+                base = (vs + q["vb"] - vb) / rs + fb - ib
             else:
-                base = i_src + (v - vb) / r["R1"] - vb / r["R2"] - ib
-                coll = (v - vc) / r["RC"] - ic - (vc - q["vc"]) / rl + inject_a if not follower else 0.0
+                base = (vs + q["vb"] - vb) / rs + (v - vb) / r["R1"] - vb / r["R2"] - ib
             if follower:
+                coll = (vc - x[1]) * 1e-3  # x[1] is unused: pin it
                 emit = ic + ib - ve / r["RE"] - (ve - q["ve"]) / rl + inject_a
             else:
-                re1, re2 = r.get("RE1", 0.0), r.get("RE2", 0.0)
+                coll = (v - vc) / r["RC"] - fb - ic - (vc - q["vc"]) / rl + inject_a
+                re1 = r.get("RE1", 0.0)
                 if re1 == 0:  # the emitter is the held RE1–RE2 node (or ground)
-                    emit = ve - q["vn"]
+                    emit = (ve - q["vn"]) * 1e-3
                 else:
                     emit = ic + ib - (ve - q["vn"]) / re1
-            return [base * 1e3, (coll if not follower else vc - x[1]) * 1e3, emit * 1e3]
+            return [base * 1e3, coll * 1e3, emit * 1e3]
+
+        def met(x):  # KCL met to 1 pA per mA flowing (at least 1 pA)
+            vb, vc, ve = x
+            ic = self.currents(vb - ve, vb - (v if follower else vc))[0]
+            return np.max(np.abs(kcl(x))) < 1e-9 * max(1.0, abs(ic) * 1e3)
 
         x0 = guess if guess is not None else [q["vb"], q["vc"], q["ve"]]
         sol = root(kcl, x0, method="hybr", options={"xtol": 1e-13})
-        if np.max(np.abs(kcl(sol.x))) >= 1e-9:
+        if not met(sol.x):
             sol = root(kcl, sol.x, method="lm", options={"xtol": 1e-15, "ftol": 1e-15})
-        assert np.max(np.abs(kcl(sol.x))) < 1e-9, sol.message  # KCL met to 1 pA
+        assert met(sol.x), sol.message
         vb, vc, ve = sol.x
         if follower:
             vc = v
         ic, ib = self.currents(vb - ve, vb - vc)
-        return {"vb": vb, "vc": vc, "ve": ve, "ic": ic, "i_src": (vs + q["vb"] - vb) / rs, "x": sol.x}
+        i_src = (vs + q["vb"] - vb) / rs if rs > 0 else np.nan
+        return {"vb": vb, "vc": vc, "ve": ve, "ic": ic, "i_src": i_src, "x": sol.x}
 
     def _hold(self):
         self.q = self.dc()

@@ -107,3 +107,21 @@ async def test_infeasible_request_shows_the_reasons(demo_drawer):
         shown = str(app.screen.query_one("#why", Static).render())
         for reason in result["why"]:
             assert reason.split("\n")[0][:40] in shown
+
+
+async def test_escape_stops_a_running_solve(demo_drawer):
+    app = make_app(demo_drawer)
+    async with app.run_test(size=(100, 32)) as pilot:
+        await pilot.press("d")
+        await pilot.pause()
+        screen = app.screen
+        await pilot.press("f5")
+        await pilot.pause(0.5)
+        assert screen.solving and app.workers  # a solve of the demo drawer takes seconds
+        await pilot.press("tab", "tab")  # the screen stays responsive while it runs
+        await pilot.press("escape")
+        assert screen.cancel.is_set()
+        await app.workers.wait_for_complete()
+        await pilot.pause()
+        assert app.screen is screen and not screen.solving
+        assert "Stopped" in str(screen.query_one("#solve-status").render())

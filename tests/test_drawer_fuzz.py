@@ -39,6 +39,8 @@ def check(data: bytes) -> Drawer:
     for p in d.problems:
         assert 1 <= p.line <= lines and p.column >= 1
         assert str(p).startswith(f"f.csv:{p.line}:{p.column}: ")
+        assert str(p).isprintable()  # one line, safe to print whatever the cell held
+        str(p).encode("utf-8")
         assert p.severity in ("error", "warning")
     assert d.to_bytes() == data  # whatever it is, it saves back unchanged
     if all(name in d.columns for name in REQUIRED):

@@ -21,11 +21,10 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from optimizer import network_tree as nt
-from optimizer.networks import resistor_networks
 from optimizer.network_table import (
-    argsort_positive,
-    PARALLEL2, PARALLEL3, PARALLEL_IN_SERIES, SERIES2, SERIES3, SERIES_IN_PARALLEL, SINGLE,
+    PARALLEL2, PARALLEL3, PARALLEL_IN_SERIES, SERIES2, SERIES3, SERIES_IN_PARALLEL, SINGLE, argsort_positive,
 )
+from optimizer.networks import resistor_networks
 
 E12 = (1.0, 1.2, 1.5, 1.8, 2.2, 2.7, 3.3, 3.9, 4.7, 5.6, 6.8, 8.2)  # IEC 60063 E12 mantissas
 
@@ -104,9 +103,23 @@ small_stock = st.integers(1, 6).flatmap(lambda n: st.tuples(
 ))
 
 
+brute_force_cases = (small_stock, st.integers(1, 3), st.floats(0.05, 50), st.floats(1, 400), st.booleans())
+
+
 @settings(derandomize=True, max_examples=60, deadline=None)
-@given(small_stock, st.integers(1, 3), st.floats(0.05, 50), st.floats(1, 400), st.booleans())
+@given(*brute_force_cases)
 def test_brute_force_same_networks_values_and_min_parts(s, depth, lo_factor, span, windowed):
+    check_against_brute_force(s, depth, lo_factor, span, windowed)
+
+
+@pytest.mark.fuzz
+@settings(derandomize=True, max_examples=1000, deadline=None)
+@given(*brute_force_cases)
+def test_brute_force_many_stocks(s, depth, lo_factor, span, windowed):
+    check_against_brute_force(s, depth, lo_factor, span, windowed)
+
+
+def check_against_brute_force(s, depth, lo_factor, span, windowed):
     mantissas, decades, qty = s
     ohms = [m * 10.0**d for m, d in zip(mantissas, decades, strict=True)]
     lo, hi = (min(ohms) * lo_factor, min(ohms) * lo_factor * span) if windowed else (0.0, math.inf)
@@ -114,7 +127,7 @@ def test_brute_force_same_networks_values_and_min_parts(s, depth, lo_factor, spa
     expect = brute_force(ohms, qty, depth, lo, hi)
     got = table_keys(table)
     # Same networks (up to values sitting within rounding of a window edge), same values.
-    edge = {k for k, v in expect.items() if min(abs(v - lo), abs(v - hi)) <= 1e-9 * float(v)}
+    edge = {k for k, v in (*expect.items(), *got.items()) if min(abs(v - lo), abs(v - hi)) <= 1e-9 * float(v)}
     assert set(got) - edge == set(expect) - edge
     for k in set(got) & set(expect):
         assert got[k] == pytest.approx(float(expect[k]), rel=1e-9)

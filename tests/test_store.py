@@ -191,6 +191,13 @@ def test_permission_bits_are_kept(path):
     assert not list(path.parent.glob(".drawer.csv.*.tmp"))
 
 
+def test_a_read_only_file_is_not_replaced(path):
+    os.chmod(path, 0o444)
+    with pytest.raises(StoreError, match="read-only"):
+        Store(path).set_qty(2, 1)
+    assert path.read_bytes() == START
+
+
 def test_a_held_lock_times_out_with_a_clear_message(path):
     import filelock
 
@@ -220,3 +227,29 @@ def test_edit_rewrites_only_the_changed_cells_in_place_and_undo_restores(path):
     assert path.read_bytes() == START
     store.edit_part(5, {"value": "1k"}, "fixed the bad line")  # a line with errors can be mended
     assert Drawer.load(path).errors == []
+
+
+def test_lines_from_an_older_read_are_checked_against_the_file_now(path):
+    seen = Drawer.load(path)  # e.g. the drawer a design was made from
+    path.write_bytes(START.replace(b"resistor,4k7,10,5%,A1,\n", b""))  # 4k7 line deleted since
+    store = Store(path)
+    store.base_on(seen)
+    with pytest.raises(ConflictError, match="4k7 5% in A1 that was on line 2 is no longer there"):
+        store.take([(2, 1)])  # without base_on this would take from the 10k now on line 2
+    store.take([(3, 1)])  # the 10k, seen on line 3, is found on line 2
+    assert qty(path, 2) == 3
+
+
+def test_saving_through_a_symlink_keeps_the_link(path):
+    link = path.parent / "link.csv"
+    link.symlink_to(path.name)
+    Store(link).set_qty(2, 1)
+    assert link.is_symlink() and qty(path, 2) == 1
+    assert len(Store(path).history()) == 1  # one journal (and one lock) for link and target
+
+
+def test_a_line_that_already_repeats_a_part_can_still_be_edited(path):
+    path.write_bytes(START + b"resistor,4700,1,5%,A1,\n")  # a repeat the user already has (a warning)
+    store = Store(path)
+    store.edit_part(6, {"notes": "second bag"})
+    assert Drawer.load(path).part_at(6).notes == "second bag"

@@ -18,11 +18,12 @@ from __future__ import annotations
 
 import functools
 import json
+import re
 import sys
 from pathlib import Path
 
 from inventory.drawer import Drawer
-from inventory.edits import ConflictError, NothingToUndo, StockError, StoreError, describe
+from inventory.edits import ConflictError, NothingToUndo, StockError, StoreError
 from inventory.journal import Entry, undone_ids
 from inventory.locate import InventoryNotFound, find_inventory
 from inventory.parts import DIELECTRICS, KINDS
@@ -210,8 +211,7 @@ def run_edit(args) -> int:
 
 def run_count(args) -> int:
     text = args.qty.strip()
-    number = text.lstrip("+-")
-    if not number.isdigit():
+    if not re.fullmatch(r"[+-]?[0-9]{1,9}", text):
         raise InputError(f"QTY: {args.qty!r} is not a count (expected e.g. 7, +3 or -2)")
     store = _store(args)
     if text[0] in "+-":
@@ -242,7 +242,8 @@ def run_history(args) -> int:
     if args.last is not None:
         entries = entries[-args.last:] if args.last > 0 else []
     if args.json:
-        print(json.dumps([e.to_json() for e in entries], indent=1, ensure_ascii=False))
+        # ASCII escapes: a journaled line may hold bytes that were not UTF-8.
+        print(json.dumps([e.to_json() for e in entries], indent=1))
         return 0
     undone = undone_ids(store.history())
     for e in entries:

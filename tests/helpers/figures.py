@@ -10,6 +10,7 @@ import time
 from pathlib import Path
 
 from tests import test_drawer_fuzz as fuzz
+from tests import test_store_model as model
 from tests.helpers.trials import decrement_trial, kill_trials
 
 
@@ -22,6 +23,9 @@ def main() -> None:
     kinds = ", ".join(f"{k}: {v}" for k, v in fuzz.CASES.items())
     print(f"fuzz cases: {sum(fuzz.CASES.values())} without a traceback ({kinds}) "
           f"in {time.perf_counter() - t0:.1f} s")
+    model.test_changes_match_the_model_and_undoing_all_restores_the_file()
+    print(f"model sequences: {model.RUNS['sequences']} random change sequences "
+          f"({model.RUNS['steps']} steps) matched the list model, each undone back to the starting bytes")
     with tempfile.TemporaryDirectory() as folder:
         k = kill_trials(Path(folder), trials=100)
     print(f"kill trials: {k['trials']} SIGKILLs, {k['torn']} torn files, {k['mid_save']} landed inside a save "
