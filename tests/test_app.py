@@ -18,7 +18,7 @@ from tui.screens.history import HistoryScreen
 from tui.screens.part_form import PartForm
 from tui.screens.request import RequestScreen
 
-from .app_fixtures import demo_drawer, steady_cursor, type_into  # noqa: F401  (fixtures)
+from .app_fixtures import demo_drawer, type_into  # noqa: F401  (fixtures)
 
 pytestmark = pytest.mark.tui
 

@@ -28,8 +28,11 @@ def main() -> None:
           f"({model.RUNS['steps']} steps) matched the list model, each undone back to the starting bytes")
     with tempfile.TemporaryDirectory() as folder:
         k = kill_trials(Path(folder), trials=100)
-    print(f"kill trials: {k['trials']} SIGKILLs, {k['torn']} torn files, {k['mid_save']} landed inside a save "
+    print(f"kill trials: {k['trials']} SIGKILLs, {k['torn']} torn files, {k['mid_save']} landed inside a write "
           f"(temporary file left), {k['journal_entries']} saves completed")
+    with tempfile.TemporaryDirectory() as folder:
+        u = kill_trials(Path(folder), trials=20, unsafe=True)
+    print(f"control, writing in place: {u['torn']} of {u['trials']} kills left a torn file")
     with tempfile.TemporaryDirectory() as folder:
         d = decrement_trial(Path(folder), processes=2, times=100)
     print(f"decrements: {d['processes']} processes x {d['takes'] // d['processes']} takes: qty "

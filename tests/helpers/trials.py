@@ -14,7 +14,8 @@ from pathlib import Path
 
 from inventory.drawer import Drawer
 from inventory.journal import Journal, journal_path
-from inventory.store import Store
+from inventory import store as store_module
+from inventory.store import Store, StoreError
 
 _FORK = multiprocessing.get_context("fork")
 
@@ -27,21 +28,36 @@ def big_drawer(rows: int = 150) -> bytes:
     return ("\r\n".join(lines) + "\r\n").encode()
 
 
-def _save_forever(path: str, ready) -> None:
+def _write_in_place(path, data: bytes) -> None:
+    """The unsafe way (truncate, then write piece by piece), to show the trial can see tearing."""
+    with open(path, "wb") as f:
+        for i in range(0, len(data), 512):
+            f.write(data[i:i + 512])
+            f.flush()
+            os.fsync(f.fileno())
+
+
+def _save_forever(path: str, ready, unsafe: bool = False) -> None:
+    if unsafe:
+        store_module.atomic_write = _write_in_place  # only in this forked child
     store = Store(path)
     store.load()
     qty = 1
     ready.set()
     while True:
-        store.set_qty(2, qty, "crash trial")
+        try:
+            store.set_qty(2, qty, "crash trial")
+        except StoreError:  # only after an unsafe writer tore the file: nothing more to show
+            return
         qty = 3 - qty  # 1, 2, 1, 2 … so the file is always one of three known contents
 
 
-def kill_trials(folder: Path, trials: int = 100, seed: int = 20261201) -> dict:
+def kill_trials(folder: Path, trials: int = 100, seed: int = 20261201, *, unsafe: bool = False) -> dict:
     """Kill a child saving in a loop with SIGKILL at random moments; check the file every time.
 
-    Returns figures: trials, torn (file not one of the known contents), mid_save (a temporary
-    file was left behind: the kill landed inside a save), journal_entries.
+    Half the kills come at a random moment, half just after a temporary file appears (inside the
+    write).  Returns figures: trials, torn (file not one of the known contents), mid_save (a
+    temporary file was left behind: the kill landed inside a write), journal_entries, save_ms.
     """
     rng = random.Random(seed)
     path = folder / "drawer.csv"
@@ -54,12 +70,20 @@ def kill_trials(folder: Path, trials: int = 100, seed: int = 20261201) -> dict:
     Store(probe).set_qty(2, 1)
     save_s = time.perf_counter() - t0
     torn = mid_save = 0
-    for _ in range(trials):
+    for trial in range(trials):
+        if unsafe:  # each control trial starts from a whole file
+            path.write_bytes(first)
         ready = _FORK.Event()
-        child = _FORK.Process(target=_save_forever, args=(str(path), ready))
+        child = _FORK.Process(target=_save_forever, args=(str(path), ready, unsafe))
         child.start()
         ready.wait(10)
-        time.sleep(rng.uniform(0.0, 3 * save_s))
+        if trial % 2:  # every other kill aims at the write itself: as soon as it shows on disk
+            deadline = time.perf_counter() + max(10 * save_s, 5.0)
+            while not _writing(folder, path, len(first), unsafe) and time.perf_counter() < deadline:
+                pass
+            time.sleep(rng.uniform(0.0, 0.0005))
+        else:
+            time.sleep(rng.uniform(0.0, 3 * save_s))
         os.kill(child.pid, signal.SIGKILL)
         child.join()
         data = path.read_bytes()
@@ -71,6 +95,16 @@ def kill_trials(folder: Path, trials: int = 100, seed: int = 20261201) -> dict:
     entries = len(Journal(journal_path(path)).read())
     return {"trials": trials, "torn": torn, "mid_save": mid_save, "journal_entries": entries,
             "save_ms": round(save_s * 1e3, 1)}
+
+
+def _writing(folder: Path, path: Path, size: int, unsafe: bool) -> bool:
+    """A write is under way: a temporary file exists, or (writing in place) the file is short."""
+    if unsafe:
+        try:
+            return path.stat().st_size != size  # every known content has the same length
+        except FileNotFoundError:
+            return True
+    return any(folder.glob(".drawer.csv.*.tmp"))
 
 
 def _take_many(path: str, line: int, times: int) -> None:

@@ -14,9 +14,9 @@ from ..widgets import figures
 def card_text(rank: int, design: dict) -> str:
     """The figures one card shows, one per line (what the solver computed, spelled out)."""
     p = design.get("predicted", {})
-    score = design.get("score", {})
+    score = design.get("score") or {}
     q1 = design.get("parts", {}).get("Q1", {})
-    spread = design.get("at_hfe", {})
+    spread = design.get("at_hfe") or {}
     lo, hi = spread.get("min", {}).get("gain"), spread.get("max", {}).get("gain")
     lines = [
         f"[b]#{rank}[/b] {design.get('topology', '')}",

@@ -39,7 +39,7 @@ def line_text(part) -> str:
 
 def part_rows(design: dict, drawer) -> list[tuple[str, str, str, str, str]]:
     """(position, value, line, location, drawer part) per physical part, Q1 last."""
-    locations = design.get("locations", {})
+    locations = design.get("locations") or {}
     rows = []
     for pos, entry in design.get("parts", {}).items():
         if pos == "Q1":
@@ -60,7 +60,7 @@ def part_rows(design: dict, drawer) -> list[tuple[str, str, str, str, str]]:
 
 
 def polarised_positions(design: dict, drawer) -> frozenset[str]:
-    out = set()
+    out = {pos for pos, entry in design.get("parts", {}).items() if entry.get("polarised")}
     for pos, entry in design.get("parts", {}).items():
         if "farads" in entry and entry.get("network") and drawer is not None:
             tree = network_tree.from_json(entry["network"], unit_key="farads")
@@ -73,7 +73,7 @@ def polarised_positions(design: dict, drawer) -> frozenset[str]:
 def meter_text(design: dict) -> str:
     """The DC voltages to check, no signal applied, with their spread over the hFE range."""
     p = design.get("predicted", {})
-    spread = design.get("at_hfe", {})
+    spread = design.get("at_hfe") or {}
     lines = ["Power up with no signal; black probe on 0 V."]
     for name, key in (("Base", "vb"), ("Emitter", "ve"), ("Collector", "vc")):
         lo = spread.get("min", {}).get(key)
@@ -85,7 +85,7 @@ def meter_text(design: dict) -> str:
 
 def figures_text(design: dict) -> str:
     rows = figures.predicted_rows(design.get("predicted", {}))
-    score = design.get("score", {})
+    score = design.get("score") or {}
     rows += [("Swing margin", figures.volts(score.get("swing_margin_v"))),
              ("Yield (Monte Carlo)", figures.percent(design.get("yield"))),
              ("Parts", str(score.get("parts", figures.DASH)))]
@@ -110,8 +110,10 @@ class SheetScreen(Screen):
         q1 = design.get("parts", {}).get("Q1", {})
         yield Header()
         with VerticalScroll(id="sheet"):
+            hfe = design.get("hfe") or {}
+            spread = f" (hFE {hfe['min']:g}…{hfe['max']:g})" if "min" in hfe and "max" in hfe else ""
             yield Label(f"Build sheet: design #{self.rank}, {design.get('topology', '')}, "
-                        f"Q1 {q1.get('part', '')}", classes="section-title")
+                        f"Q1 {q1.get('part', '')}{spread}", classes="section-title")
             yield Static(draw_stage(design, supply_v=spec.get("supply_v"), source_ohms=spec.get("source_ohms"),
                                     load_ohms=spec.get("load_ohms"),
                                     polarised=polarised_positions(design, drawer)), id="schematic")
@@ -121,10 +123,10 @@ class SheetScreen(Screen):
             yield Static(meter_text(design), id="meter")
             yield Label("Predicted", classes="section-title")
             yield Static(figures_text(design), id="predicted")
-            response = design.get("response", {})
+            response = design.get("response") or {}
             if response.get("freq_hz"):
                 yield PlotextPlot(id="response", classes="plot")
-            if design.get("mc", {}).get("gain"):
+            if (design.get("mc") or {}).get("gain"):
                 yield PlotextPlot(id="histogram", classes="plot")
             notes = list(design.get("warnings", [])) + list(design.get("cautions", []))
             yield Label("Warnings and cautions", classes="section-title problem-title")
@@ -135,13 +137,13 @@ class SheetScreen(Screen):
         table = self.query_one("#sheet-parts", DataTable)
         table.add_columns("Pos", "Value", "Line", "Place", "In the drawer as")
         table.add_rows(part_rows(self.design, self.app.drawer))
-        response = self.design.get("response", {})
+        response = self.design.get("response") or {}
         if response.get("freq_hz"):
             plt = self.query_one("#response", PlotextPlot).plt
             plt.plot(response["freq_hz"], response["gain_db"], marker="braille")
             plt.xscale("log")
             plt.title("Gain (dB) against frequency (Hz)")
-        samples = self.design.get("mc", {}).get("gain")
+        samples = (self.design.get("mc") or {}).get("gain")
         if samples:
             plt = self.query_one("#histogram", PlotextPlot).plt
             plt.hist(samples, bins=24)
