@@ -158,12 +158,12 @@ class Assignment:
             t.join()
 
     def stages(self):
-        """Consecutive levels merged into one weighted objective while the weights fit in 2^60."""
+        """Consecutive levels merged into one weighted objective while the weights stay below 2^50."""
         out, group, weight = [], [], 1
         for k in reversed(range(len(self.levels))):
             lo, hi = self.bounds[k]
             span = hi - lo + 1
-            if group and weight * span > 2**60:
+            if group and weight * span > 2**50:
                 out.append(group)
                 group, weight = [], 1
             group.insert(0, (k, weight))

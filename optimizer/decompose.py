@@ -35,35 +35,41 @@ def _root_ibe(vth, rth, re, bf, k, is_a, vt):
     Newton in ln(IBE) from the right of the root: the left side is increasing and
     convex in ln(IBE), so the iterates fall monotonically onto the root.
     """
-    a = rth / bf + re * (1.0 / bf + k)  # Ω
-    start = np.minimum(vth / a, is_a * np.expm1(np.minimum(vth / vt, 700.0)))  # each term alone reaches VTH
+    vth, rth, re, k = np.broadcast_arrays(vth, rth, re, k)
+    a = (rth / bf + re * (1.0 / bf + k)).ravel()  # Ω
+    v = vth.ravel()
+    start = np.minimum(v / a, is_a * np.expm1(np.minimum(v / vt, 700.0)))  # each term alone reaches VTH
     lx = np.log(np.maximum(start, 1e-300))
+    live = np.arange(lx.size)
     for _ in range(NEWTON_STEPS):
-        x = np.exp(lx)
-        f = a * x + vt * np.log1p(x / is_a) - vth
-        df = a * x + vt * x / (is_a + x)  # d f / d ln x
-        step = f / df
-        lx = lx - step
-        if np.all(np.abs(step) < 1e-13):
+        x = np.exp(lx[live])
+        al = a[live]
+        f = al * x + vt * np.log1p(x / is_a) - v[live]
+        step = f / (al * x + vt * x / (is_a + x))  # f / (d f / d ln x)
+        lx[live] -= step
+        live = live[np.abs(step) >= 1e-11]
+        if live.size == 0:
             break
-    return np.exp(lx)
+    return np.exp(lx).reshape(vth.shape)
 
 
 def ic_bracket(vth, rth, re, *, bf, is_a, vaf_v, vt, supply_v, vce_min):
-    """(IC_lo, IC_hi) in amperes over every RC giving VCE ≥ vce_min (V).
+    """(IC_lo, IC_hi) in amperes over every RC giving VCE ≥ vce_min (V), from one root.
 
+    x(k) (the IBE root) falls and IC(k) = k·x(k) rises with k, so with x_hi = x(k_hi):
+    IC ≤ k_hi·x_hi;  IC ≥ k_lo·x(k_lo) ≥ k_lo·x_hi;  and x(k) ≤ x_hi·k_hi/k for the VBE bound.
     When VBC could exceed REVERSE_DIODE_V the base–collector diode may carry real
     current, and no lower bound is claimed (IC_lo = 0).
     """
     vaf = float(vaf_v)
     k_hi = 1.0 + supply_v / vaf
     k_floor = 1.0 - 1.0 / vaf  # VBC ≤ 1 V: a first, safe floor for k
-    vbe_hi = vt * np.log1p(_root_ibe(vth, rth, re, bf, k_floor, is_a, vt) / is_a)
+    x_hi = _root_ibe(vth, rth, re, bf, k_hi, is_a, vt)
+    vbe_hi = vt * np.log1p(x_hi * (k_hi / k_floor) / is_a)
     vbc_max = vbe_hi - vce_min
     k_lo = 1.0 - np.maximum(vbc_max, 0.0) / vaf
-    ic_lo = np.where(vbc_max <= REVERSE_DIODE_V, k_lo * _root_ibe(vth, rth, re, bf, k_lo, is_a, vt), 0.0)
-    ic_hi = k_hi * _root_ibe(vth, rth, re, bf, k_hi, is_a, vt)
-    return ic_lo * (1 - BRACKET_SLACK), ic_hi * (1 + BRACKET_SLACK)
+    ic_lo = np.where(vbc_max <= REVERSE_DIODE_V, k_lo * x_hi, 0.0)
+    return ic_lo * (1 - BRACKET_SLACK), k_hi * x_hi * (1 + BRACKET_SLACK)
 
 
 def rc_interval(ic_lo, ic_hi, re1, re_total, spec, vt):
@@ -90,6 +96,31 @@ def ragged(start, stop):
 BLOCK = 1_000_000  # (divider pair × RE split) combinations per block
 
 
+GAIN_SAFETY = 0.03  # the gain bounds leave out ro feedback and gμ; 3 % covers them with room to spare
+
+
+def gain_bounds(ic_lo, ic_hi, beta, rc, re1, rth, spec, vt, vaf_v):
+    """(|gain| low, |gain| high, Rin high) bounds (V/V, Ω) of a common emitter with IC in [ic_lo, ic_hi].
+
+    Hybrid-π with gm = IC/Vt, rπ = β/gm:  |A| = D·gm·R'/(1 + gm·(1 + 1/β)·RE1),
+    D = Rin/(Rin + RS), Rin = RTH ‖ (rπ + (β + 1)·RE1), R' = RC‖RL (‖ ro ≥ VAF/IC for the low bound).
+    Each factor is monotone in gm, so the IC ends bound it; GAIN_SAFETY covers the terms left out.
+    """
+    rcl = rc * spec.load_ohms / (rc + spec.load_ohms)
+    gm_lo, gm_hi = ic_lo / vt * (1 - BRACKET_SLACK), ic_hi / vt * (1 + BRACKET_SLACK)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        rin_hi = 1.0 / (1.0 / rth + 1.0 / (beta / gm_lo + (beta + 1.0) * re1))
+        rin_lo = 1.0 / (1.0 / rth + 1.0 / (beta / gm_hi + (beta + 1.0) * re1))
+        rs = spec.source_ohms
+        d_hi, d_lo = rin_hi / (rin_hi + rs), rin_lo / (rin_lo + rs)
+        ro = vaf_v / ic_hi if np.isfinite(vaf_v) else np.inf
+        r_lo = 1.0 / (1.0 / rcl + 1.0 / ro)
+        k = 1.0 + 1.0 / beta
+        a_hi = d_hi * gm_hi * rcl / (1.0 + gm_hi * re1)
+        a_lo = d_lo * gm_lo * r_lo / (1.0 + gm_lo * k * re1)
+    return a_lo * (1 - GAIN_SAFETY), a_hi * (1 + GAIN_SAFETY), rin_hi * (1 + GAIN_SAFETY)
+
+
 def ce_tuples(g: dict, spec, transistor, betas, emit):
     """Common-emitter value tuples of the groups `g` (position → sorted ohms) that survive the bracket.
 
@@ -101,6 +132,13 @@ def ce_tuples(g: dict, spec, transistor, betas, emit):
     keep = r1 * r2 / (r1 + r2) >= spec.min_rin_ohms * (1 - 1e-12)  # Rin ≤ R1‖R2
     r1, r2 = r1[keep], r2[keep]
     re1, re2 = (m.ravel() for m in np.meshgrid(g["RE1"], g["RE2"], indexing="ij"))
+    # |gain| < (RC‖RL)/RE1 < RL/RE1; and IC ≥ swing/(2·RL) (swing up ≤ IC·(RC‖RL)) with
+    # VE ≥ IC·(RE1 + RE2) ≤ VCC − VCE_min.
+    vce_min = loadline.VCE_SAT_V + spec.swing_pp / 2.0
+    fit = re1 * spec.gain * (1 - spec.gain_tol) * (1 - BRACKET_SLACK) < spec.load_ohms
+    if spec.swing_pp > 0:
+        fit &= (re1 + re2) * spec.swing_pp / (2 * spec.load_ohms) <= spec.supply_v - vce_min
+    re1, re2 = re1[fit], re2[fit]
     u = re1 + re2
     uu, inv = np.unique(u, return_inverse=True)
     rc = g["RC"]
@@ -108,23 +146,39 @@ def ce_tuples(g: dict, spec, transistor, betas, emit):
         return
     vth, rth = thevenin(spec.supply_v, r1, r2)
     is_a, _, _, vt = transistor.at(27.0)
-    vce_min = loadline.VCE_SAT_V + spec.swing_pp / 2.0
+    vt = float(vt)
+    g_min, g_max = spec.gain * (1 - spec.gain_tol), spec.gain * (1 + spec.gain_tol)
     step = max(1, BLOCK // len(u))
     for s in range(0, len(r1), step):
         b = slice(s, min(len(r1), s + step))
         lo = np.full((b.stop - b.start, len(u)), -np.inf)
         hi = np.full_like(lo, np.inf)
+        brackets = []
         for beta in betas:
             ic_lo, ic_hi = ic_bracket(vth[b, None], rth[b, None], uu[None, :], bf=beta, is_a=float(is_a),
-                                      vaf_v=transistor.vaf_v, vt=float(vt), supply_v=spec.supply_v,
+                                      vaf_v=transistor.vaf_v, vt=vt, supply_v=spec.supply_v,
                                       vce_min=vce_min)
-            a, z = rc_interval(ic_lo[:, inv], ic_hi[:, inv], re1[None, :], u[None, :], spec, float(vt))
+            ic_lo, ic_hi = ic_lo[:, inv], ic_hi[:, inv]
+            a, z = rc_interval(ic_lo, ic_hi, re1[None, :], u[None, :], spec, vt)
+            # Rin cannot exceed its high bound (RC does not enter it).
+            _, _, rin_hi = gain_bounds(ic_lo, ic_hi, beta, 1.0, re1[None, :], rth[b, None], spec, vt,
+                                       transistor.vaf_v)
+            z = np.where(rin_hi >= spec.min_rin_ohms, z, -np.inf)
             lo = np.maximum(lo, a)
             hi = np.minimum(hi, z)
+            brackets.append((beta, ic_lo, ic_hi))
         start = np.searchsorted(rc, lo.ravel(), "left")
         stop = np.searchsorted(rc, hi.ravel(), "right")
         owner, idx = ragged(start, stop)
         if len(idx) == 0:
             continue
-        d, k = owner // len(u) + s, owner % len(u)
-        emit({"R1": r1[d], "R2": r2[d], "RC": rc[idx], "RE1": re1[k], "RE2": re2[k]})
+        dl, k = owner // len(u), owner % len(u)
+        ok = np.ones(len(idx), dtype=bool)
+        for beta, ic_lo, ic_hi in brackets:
+            a_lo, a_hi, _ = gain_bounds(ic_lo[dl, k], ic_hi[dl, k], beta, rc[idx], re1[k], rth[b][dl], spec, vt,
+                                        transistor.vaf_v)
+            ok &= (a_lo <= g_max) & (a_hi >= g_min)
+        d = dl[ok] + s
+        k, idx = k[ok], idx[ok]
+        if len(idx):
+            emit({"R1": r1[d], "R2": r2[d], "RC": rc[idx], "RE1": re1[k], "RE2": re2[k]})

@@ -24,6 +24,7 @@ from .capacitors import capacitor_options
 from .feasible import Near, check, concat
 
 MIN_CAPS = 2  # CIN and COUT are always fitted
+ROWS_FIRST = 48  # rows handed to CP-SAT first (more follow while an excluded row could compete)
 MAX_SCREENED = 60_000_000  # a safety stop; reported in `why` when it ends the search
 
 
@@ -54,11 +55,12 @@ def _row_dict(rows, i):
     return {k: (v[i] if np.ndim(v) else v) for k, v in rows.items()}
 
 
-def _add_caps(topology, rows, spec, options, cap_qty, q, sol):
+def _add_caps(topology, rows, spec, options, cap_qty, q_unused, sol):
     keep, extra = [], {k: [] for k in ("pc", "ec", "fc", "nf", "opt_CIN", "opt_COUT", "opt_CE")}
     n = len(rows["ge"])
     for i in range(n):
         row = _row_dict(rows, i)
+        q = sol.qlines[int(row["q"])]
         c = capchoice.choose(topology, row, spec, options, cap_qty) if len(options) else None
         if c is None:
             if len(sol.cap_failures) < 50:
@@ -76,8 +78,12 @@ def _add_caps(topology, rows, spec, options, cap_qty, q, sol):
     return out
 
 
-def search(rstock, cstock, qlines, spec, *, top=3, depth=3, progress=None, cancel=None) -> Solution:
-    """The top `top` distinct designs (value tuples + transistor part) for `spec`; see the module docstring."""
+def search(rstock, cstock, qlines, spec, *, top=3, depth=3, progress=None, cancel=None, accept=None) -> Solution:
+    """The top `top` distinct designs (value tuples + transistor part) for `spec`; see the module docstring.
+
+    accept(solution, choice, row) -> bool, if given, is one more constraint (e.g. the Monte Carlo yield):
+    a design it rejects is excluded and the next best taken in its place.
+    """
     t0 = time.perf_counter()
     topology = spec.topology
     positions = POSITIONS[topology]
@@ -95,23 +101,27 @@ def search(rstock, cstock, qlines, spec, *, top=3, depth=3, progress=None, cance
     b_max = len(positions) * depth
     rows_all = []
     last_rows = 0
+    models = {}
+    for qi, q in enumerate(qlines):
+        models.setdefault(q.transistor, []).append(qi)
     for budget in range(n_min, b_max + 1):
         sol.budget = budget
         level = min(depth, budget - n_min + 1)
         if sol.pool is None or sol.pool.depth < level:
             sol.pool = Pool(rstock, level)
         for profile in profiles(topology, budget, level):
-            for qi, q in enumerate(qlines):
+            for model, members in models.items():
+                q = qlines[members[0]]
                 for chunk in tuples(topology, profile, sol.pool, spec, q):
                     if cancel is not None and cancel.is_set():
                         raise Cancelled()
                     rows = check(topology, chunk, q, spec, sol.near)
-                    if len(rows["ge"]):
-                        rows["q"] = np.full(len(rows["ge"]), qi, dtype=np.int64)
-                        rows["nsm"] = -rows["sm"]
-                        rows = _add_caps(topology, rows, spec, options, cap_qty, q, sol)
-                        if len(rows["ge"]):
-                            rows_all.append(rows)
+                    if not len(rows["ge"]):
+                        continue
+                    rows["nsm"] = -rows["sm"]
+                    rows["parts_lb"] = _parts_lb(sol.pool, rows, positions)
+                    for qi in members:  # lines of one transistor type share the physics
+                        rows_all.append(dict(rows, q=np.full(len(rows["ge"]), qi, dtype=np.int64)))
             if sol.near.screened > MAX_SCREENED:
                 sol.exhaustive = False
                 break
@@ -120,7 +130,8 @@ def search(rstock, cstock, qlines, spec, *, top=3, depth=3, progress=None, cance
         n_rows = sum(len(r["ge"]) for r in rows_all)
         if n_rows and n_rows != last_rows:
             last_rows = n_rows
-            sol.designs = _top(positions, concat(rows_all), sol, spec, top, cancel)
+            sol.designs = _top(positions, concat(rows_all), sol, spec, top, cancel, accept,
+                               lambda r, _: _add_caps(topology, r, spec, options, cap_qty, None, sol))
         if len(sol.designs) >= top and sol.designs[-1][0].score.parts <= budget + MIN_CAPS + 1:
             break
         if not sol.exhaustive:
@@ -133,7 +144,51 @@ def search(rstock, cstock, qlines, spec, *, top=3, depth=3, progress=None, cance
     return sol
 
 
-def _top(positions, rows, sol, spec, top, cancel):
+def _parts_lb(pool, rows, positions):
+    """Fewest parts a row can be built with: Σ fewest parts per value + its capacitors (≥ 1 each) + Q1."""
+    d = pool.distinct
+    lb = np.ones(len(rows["ge"]), dtype=np.int64)
+    for p in positions:
+        v = rows[p]
+        g = np.clip(np.searchsorted(d.value, v * (1 - 1e-10)), 0, len(d) - 1)
+        lb += np.where(v > 0, d.min_parts[g], 0)
+    has_ce = rows["RE2"] > 0 if "RE2" in rows else np.zeros(len(lb), dtype=bool)
+    return lb + MIN_CAPS + has_ce
+
+
+def _top(positions, rows, sol, spec, top, cancel, accept, add_caps):
+    """The top designs; rows enter CP-SAT in order of their lower bound until no excluded row can compete.
+
+    A row's bound (fewest parts, its exact gain error and swing margin, then 0) is ≤ the score of any
+    design built on it, so once the top-th design scores ≤ the best excluded bound the list is final.
+    """
+    order = np.lexsort((rows["nsm"], rows["ge"], rows["parts_lb"]))
+    done = np.zeros(0, dtype=np.int64)
+    chosen = {k: v[:0] for k, v in rows.items()}
+    keep = None
+    k = ROWS_FIRST
+    while True:
+        new = order[len(done):k]
+        done = order[:k]
+        if len(new):
+            part = add_caps({key: v[new] for key, v in rows.items()}, None)
+            chosen = {key: np.concatenate([chosen[key], part[key]]) if key in chosen else part[key]
+                      for key in part}
+        out = _solve_top(positions, chosen, sol, top, cancel, accept) if len(chosen["ge"]) else []
+        if k >= len(order):
+            return out
+        nxt = order[k]
+        bound = (int(rows["parts_lb"][nxt]), int(rows["ge"][nxt]), int(rows["nsm"][nxt]))
+        if len(out) >= top and _key(out[-1][0].score) <= bound:
+            return out
+        k *= 4
+
+
+def _key(score):
+    return (score.parts, score.gain_error, score.neg_swing_margin)
+
+
+def _solve_top(positions, rows, sol, top, cancel, accept):
     qty = _stock_qty(sol.pool)
     a = Assignment(positions, rows, sol.pool, qty, sol.qlines, cancel=cancel)
     out = []
@@ -144,7 +199,9 @@ def _top(positions, rows, sol, spec, top, cancel):
             if a.stopped:
                 raise Cancelled()
             break
-        out.append((c, _row_dict(rows, c.row)))
+        row = _row_dict(rows, c.row)
+        if accept is None or accept(sol, c, row):
+            out.append((c, row))
         # Forbid every row with the same values and the same transistor part (any line of it).
         same = np.ones(len(rows["q"]), dtype=bool)
         for p in positions:
@@ -160,3 +217,53 @@ def _stock_qty(pool) -> np.ndarray:
 
 def optional_positions(topology):
     return OPTIONAL[topology]
+
+
+def find_designs(drawer, spec, *, top=3, depth=3, min_yield=None, progress=None, cancel=None,
+                 hints=True, seed=None) -> dict:
+    """The design result document (DEVELOPERS.md) for `spec` from an inventory Drawer."""
+    from . import explain, result
+    from .hints import shopping_hints
+
+    doc = {"designs": [], "why": [], "hints": [], "spec": result.spec_json(spec),
+           "inventory": str(getattr(drawer, "path", "") or "")}
+    problems = spec.problems()
+    if problems:
+        doc["why"] = problems
+        doc["error"] = "spec"
+        return doc
+    rstock, cstock = drawer.resistor_stock(), drawer.capacitor_stock()
+    qlines, notes = usable_transistors(drawer.transistors())
+    locations = {p.line: p.location for p in drawer.parts}
+    mc_seed = result.MC_SEED if seed is None else int(seed)
+    yields = {}
+
+    def accept(sol, choice, row):
+        y, mc = result.yield_of(sol, choice, spec, seed=mc_seed)
+        yields[id(choice)] = (y, mc)
+        return min_yield is None or y >= min_yield
+
+    try:
+        sol = search(rstock, cstock, qlines, spec, top=top, depth=depth, progress=progress, cancel=cancel,
+                     accept=accept)
+    except Cancelled:
+        doc["why"] = ["cancelled"]
+        doc["cancelled"] = True
+        return doc
+    doc["search"] = {"resistor_part_budget": sol.budget, "tuples_screened": sol.near.screened,
+                     "seconds": round(sol.seconds, 3), "exhaustive": sol.exhaustive, "depth": depth}
+    for choice, row in sol.designs:
+        y, mc = yields.get(id(choice)) or result.yield_of(sol, choice, spec, seed=mc_seed)
+        doc["designs"].append(result.design_json(sol, choice, row, spec, locations=locations, mc=mc, yld=y))
+    doc["why"] = notes + (sol.notes if sol.designs else [])
+    if not sol.designs:
+        doc["why"] = explain.reasons(sol, spec) + notes
+        if min_yield is not None and sol.designs == [] and yields:
+            best = max(y for y, _ in yields.values())
+            doc["why"].append(f"--min-yield {min_yield:g}: the best Monte Carlo yield among designs meeting "
+                              f"the spec is {best:.1%}")
+        if hints and qlines:
+            doc["hints"] = shopping_hints(rstock, cstock, qlines, spec, sol, depth=depth, search=search)
+    if progress:
+        progress(1.0, "done")
+    return doc

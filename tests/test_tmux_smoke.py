@@ -76,8 +76,16 @@ def test_app_starts_navigates_and_quits_cleanly(tmux, demo_drawer: Path, tmp_pat
         term.keys("d")
         shown = term.wait_for("f5 Solve")
         assert "Topology" in shown and "Minimum Rin" in shown
-        term.keys("Escape")
-        term.wait_for("lines")
+        term.keys("F5")
+        shown = term.wait_for("best first", timeout_s=120)
+        assert "#1 common-emitter" in shown
+        term.keys("Enter")
+        shown = term.wait_for("b Build")
+        assert "Build sheet: design #1" in shown and "+12 V" in shown and "load 22k" in shown
+        (tmp_path / "sheet-screen.txt").write_text(shown)  # kept for a look when the test fails
+        for _ in range(3):  # sheet → designs → request → drawer
+            term.keys("Escape")
+        term.wait_for("d Design")
         term.keys("C-q")
         deadline = time.monotonic() + 20
         while not status.exists() and time.monotonic() < deadline:

@@ -78,6 +78,8 @@ class ResultsScreen(Screen):
                 with Horizontal(id="cards"):
                     for rank, design in enumerate(self.designs, 1):
                         yield DesignCard(rank, design)
+                if self.result.get("why"):  # solver notes, e.g. transistor lines it could not use
+                    yield Static("\n".join(f"• {w}" for w in self.result["why"]), id="notes")
             else:
                 yield Label("No design meets this request with the parts in the drawer.",
                             classes="section-title problem-title")

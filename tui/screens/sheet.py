@@ -19,14 +19,12 @@ from ..schematic import draw_stage, position_text
 from ..widgets import figures
 from ..widgets.part_text import rating_text, tolerance_text, type_text, value_text
 
+# Shown only when a design carries no cautions of its own (the solver normally words them).
 SAFETY = (
-    "Work with the supply switched off while fitting parts; check the rail voltage before connecting it.",
-    "Electrolytic and tantalum capacitors are polarised: fit the + lead toward the higher DC voltage "
-    "(marked + on the drawing); reversed, they can vent or fail short.",
-    "Keep every part within its rated voltage and power; hot parts burn.",
-    "These notes do not replace local electrical codes or licensed practice: follow those where they apply.",
+    "Check the supply voltage and polarity before connecting it; keep every part within its ratings.",
+    "Fit polarised capacitors with + toward the higher DC voltage; reversed, they can vent or fail short.",
+    "Local electrical codes and licensed practice take precedence over these notes.",
 )
-
 
 def line_text(part) -> str:
     """The drawer line as stocked: "4k7 5% 0.25 W", "BC547B hFE 200-450 45 V"."""
@@ -130,7 +128,7 @@ class SheetScreen(Screen):
                 yield PlotextPlot(id="histogram", classes="plot")
             notes = list(design.get("warnings", [])) + list(design.get("cautions", []))
             yield Label("Warnings and cautions", classes="section-title problem-title")
-            yield Static("\n".join(f"• {n}" for n in [*notes, *SAFETY]), id="cautions")
+            yield Static("\n".join(f"• {n}" for n in (notes or SAFETY)), id="cautions")
         yield Footer(compact=True, show_command_palette=False)
 
     def on_mount(self) -> None:
@@ -148,7 +146,7 @@ class SheetScreen(Screen):
             plt = self.query_one("#histogram", PlotextPlot).plt
             plt.hist(samples, bins=24)
             n = self.design["mc"].get("n", len(samples))
-            plt.title(f"Gain over {n} simulated builds (part tolerances)")
+            plt.title(f"Gain of {len(samples)} of {n} simulated builds (Monte Carlo)")
         self.query_one("#sheet").focus()
 
     def action_back(self) -> None:

@@ -1,0 +1,85 @@
+"""Why no design meets the spec: which constraint binds, and what is nearest.
+
+Built from the search's own records: per constraint, the tuples that failed only
+that one and the best figure among them (feasible.Near), the rows that met
+everything but found no capacitors, and rows that met everything but could not
+all be built from the counts on hand.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from inventory.values import format_capacitance
+
+from . import capchoice
+from .analysis import analyze
+from .stage import Stage
+
+
+def reasons(sol, spec) -> list[str]:
+    out = list(sol.why)
+    near = sol.near
+    if sol.why:
+        return out
+    g_lo, g_hi = spec.gain * (1 - spec.gain_tol), spec.gain * (1 + spec.gain_tol)
+    if near.screened == 0:
+        out.append(f"no combination of the resistors on hand passes the first checks for a {spec.topology} "
+                   f"with Rin ≥ {spec.min_rin_ohms:g} Ω, gain {spec.gain:g} and {spec.swing_pp:g} V p-p on "
+                   f"{spec.supply_v:g} V (the divider, gain and headroom bounds rule every one out)")
+    b = near.best
+    if "gain_low" in b:
+        out.append(f"gain binds: meeting everything else, the highest gain reachable at both hFE ends is "
+                   f"{b['gain_low']:.3g} (asked ≥ {g_lo:.3g})")
+    if "gain_high" in b and "gain_low" not in b:
+        out.append(f"gain binds: meeting everything else, the lowest gain reachable is {b['gain_high']:.3g} "
+                   f"(asked ≤ {g_hi:.3g})")
+    if "swing" in b:
+        out.append(f"swing binds: on {spec.supply_v:g} V the most clip-free swing at both hFE ends with everything "
+                   f"else met is {b['swing']:.3g} V p-p (asked {spec.swing_pp:g})")
+    if "rin" in b:
+        out.append(f"input resistance binds: the highest Rin with everything else met is {b['rin']:.4g} Ω "
+                   f"(asked ≥ {spec.min_rin_ohms:g})")
+    if "current" in b:
+        out.append(f"supply current binds: the least with everything else met is {b['current'] * 1e3:.3g} mA "
+                   f"(asked ≤ {spec.max_supply_a * 1e3:.3g} mA)")
+    if "ratings" in b:
+        out.append("the transistor ratings bind (dissipation above 50 % of PD(max), IC(max) or VCEO below the supply)")
+    if sol.cap_failures:
+        out.append(_capacitor_reason(sol, spec))
+    if sol.stock_bound:
+        out.append("value combinations that meet the spec exist, but not enough parts are on hand to build "
+                   "any of them at once (the same line would be needed at several positions)")
+    if not out:
+        out.append("no value combination meets every part of the spec at both ends of the hFE range")
+    if not sol.exhaustive:
+        out.extend(sol.notes)
+    return out
+
+
+def _capacitor_reason(sol, spec) -> str:
+    row, q = sol.cap_failures[0]
+    opts = sol.options
+    vdc = capchoice.dc_across(spec.topology, row)
+    pos = capchoice.positions_for(row)
+    best, missing = {}, []
+    for p in pos:
+        idx = capchoice.usable(opts, vdc[p])
+        if len(idx) == 0:
+            missing.append(f"no capacitor on hand is rated for the {vdc[p]:.2g} V DC across {p} "
+                           f"(with margin {capchoice.CAP_VOLTAGE_MARGIN:g}×)")
+        else:
+            best[p] = float(opts.value[idx].max())
+    if missing:
+        return "; ".join(missing)
+    res = {k: float(row[k]) for k in ("R1", "R2", "RC", "RE1", "RE2", "RE", "RB") if k in row and row[k] > 0}
+    stage = Stage(spec.topology, res, best, spec.supply_v, spec.source_ohms, spec.load_ohms,
+                  q.transistor.with_beta(q.transistor.hfe_min))
+    f_low = analyze(stage).predicted["f_low"]
+    parts = ", ".join(f"{p} {format_capacitance(v)}" for p, v in best.items())
+    return (f"low cut-off binds: even with the largest suitable capacitors on hand ({parts}) f_low = "
+            f"{f_low:.3g} Hz at hFE min (asked ≤ {spec.low_cut_hz:g} Hz)")
+
+
+def finite(x) -> bool:
+    return x is not None and bool(np.isfinite(x))

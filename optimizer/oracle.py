@@ -1,0 +1,126 @@
+"""The exhaustive oracle: every assignment of physical networks to positions, every capacitor
+combination and every transistor line, checked with the same physics and scored with the same
+objective as select.py — without its budget order, pruning, capacitor shortcuts or CP-SAT.
+
+Only for small drawers (the tests and the benchmark); `max_combos` guards against a blow-up.
+"""
+
+from __future__ import annotations
+
+import itertools
+
+import numpy as np
+
+from . import capchoice, objective
+from .candidates import OPTIONAL, POSITIONS, WINDOW_OHMS
+from .capacitors import capacitor_options
+from .feasible import check
+from .networks import resistor_networks
+
+
+class TooBig(Exception):
+    pass
+
+
+def _dense_usage(table, n_stock):
+    u = np.zeros((len(table) + 1, n_stock), dtype=np.int64)  # last row: the absent position
+    for c in range(table.members.shape[1]):
+        m = table.members[:, c]
+        ok = m >= 0
+        np.add.at(u, (np.flatnonzero(ok), m[ok]), 1)
+    return u
+
+
+def _best_caps(topology, row, spec, opts, qty, weights):
+    """Lexicographic minimum (parts, emptied, Σ used·weight, nF) over every capacitor combination."""
+    pos = capchoice.positions_for(row)
+    vdc = capchoice.dc_across(topology, row)
+    idx = [np.arange(len(opts))] * len(pos)
+    mesh = [m.ravel() for m in np.meshgrid(*idx, indexing="ij")]
+    ok = np.ones(len(mesh[0]), dtype=bool)
+    use = np.zeros((len(ok), len(qty)), dtype=np.int64)
+    for p, m in zip(pos, mesh, strict=True):
+        need = vdc[p] * capchoice.CAP_VOLTAGE_MARGIN
+        if need > 0:
+            ok &= opts.voltage_v[m] >= need
+        for c in range(opts.members.shape[1]):
+            r = opts.members[m, c]
+            has = r >= 0
+            np.add.at(use, (np.flatnonzero(has), r[has]), 1)
+    ok &= (use <= qty).all(axis=1)
+    vals = {p: opts.value[m] for p, m in zip(pos, mesh, strict=True)}
+    ok &= capchoice.meets_low_cut(topology, row, spec, *(vals.get(q, np.inf) for q in capchoice.CAP_POSITIONS))
+    if not ok.any():
+        return None
+    parts = sum(opts.parts[m].astype(np.int64) for m in mesh)
+    emptied = ((use >= qty) & (use > 0)).sum(axis=1)
+    frac = use @ weights
+    nf = np.rint(sum(vals.values()) / objective.NF).astype(np.int64)
+    f = np.flatnonzero(ok)
+    keys = sorted(zip(parts[f], emptied[f], frac[f], nf[f], strict=True))
+    return tuple(int(x) for x in keys[0])
+
+
+def oracle(rstock, cstock, qlines, spec, *, depth=3, top=3, max_combos=2_000_000):
+    """Sorted list of the best objective.Score per distinct design (values + transistor part), best `top`."""
+    topology = spec.topology
+    positions = POSITIONS[topology]
+    table = resistor_networks(rstock, depth, *WINDOW_OHMS)
+    rqty = np.asarray(rstock.qty, dtype=np.int64)
+    usage = _dense_usage(table, len(rqty))
+    n = len(table)
+    choices = [np.arange(n + 1) if p in OPTIONAL[topology] else np.arange(n) for p in positions]
+    total = int(np.prod([len(c) for c in choices], dtype=float))
+    if total > max_combos:
+        raise TooBig(f"{total} network assignments")
+    mesh = [m.ravel() for m in np.meshgrid(*choices, indexing="ij")]
+    use = sum(usage[m] for m in mesh)
+    fits = (use <= rqty).all(axis=1)
+    mesh = [m[fits] for m in mesh]
+    use = use[fits]
+    value = np.append(table.value, 0.0)
+    parts = np.append(table.parts.astype(np.int64), 0)
+    cap_uw = np.append(objective.power_capacity_uw(table.power_w), 0)
+    vals = {p: value[m] for p, m in zip(positions, mesh, strict=True)}
+    rparts = sum(parts[m] for m in mesh)
+    rweights = np.array([objective.line_weight(q) if q > 0 else 0 for q in rqty])
+    r_emptied = ((use >= rqty) & (use > 0)).sum(axis=1)
+    r_frac = use @ rweights
+    opts = capacitor_options(cstock, 0.0, depth=2)
+    cqty = np.asarray(cstock.qty, dtype=np.int64)
+    cweights = np.array([objective.line_weight(q) if q > 0 else 0 for q in cqty])
+    best = {}
+    tuples_, inverse = np.unique(np.column_stack([vals[p] for p in positions]), axis=0, return_inverse=True)
+    inverse = np.ravel(inverse)
+    for qi, q in enumerate(qlines):
+        chunk = {p: tuples_[:, k] for k, p in enumerate(positions)}
+        rows = check(topology, chunk, q, spec)
+        if not len(rows["ge"]):
+            continue
+        # Map feasible value tuples back to the assignments that realise them.
+        rkeys = {tuple(float(rows[p][i]) for p in positions): i for i in range(len(rows["ge"]))}
+        for t_idx, tup in enumerate(tuples_):
+            i = rkeys.get(tuple(float(x) for x in tup))
+            if i is None:
+                continue
+            row = {k: v[i] for k, v in rows.items()}
+            caps = _best_caps(topology, row, spec, opts, cqty, cweights) if len(opts) else None
+            if caps is None:
+                continue
+            pc, ec, fc, nf = caps
+            sel = np.flatnonzero(inverse == t_idx)
+            ok = np.ones(len(sel), dtype=bool)
+            for p, m in zip(positions, mesh, strict=True):
+                ok &= cap_uw[m[sel]] >= row[f"need_{p}"]
+            for j in sel[ok]:
+                score = objective.Score(int(rparts[j]) + pc + 1, int(row["ge"]), -int(row["sm"]),
+                                        int(r_emptied[j]) + ec + (1 if q.qty <= 1 else 0),
+                                        int(r_frac[j]) + fc + objective.line_weight(q.qty), nf)
+                key = (tuple(float(x) for x in tup), q.name)
+                if key not in best or score < best[key]:
+                    best[key] = score
+    return sorted(best.values())[:top]
+
+
+def all_profiles(topology, depth):
+    return list(itertools.product(range(depth + 1), repeat=len(POSITIONS[topology])))

@@ -1,0 +1,68 @@
+"""Infeasible specs: the reasons name what binds, and the shopping hint really fixes it.
+
+The check is independent of the hint code: the suggested part is added to the
+stock here and the whole search run again.
+"""
+
+from __future__ import annotations
+
+from types import SimpleNamespace as NS
+
+import numpy as np
+
+from optimizer.explain import reasons
+from optimizer.hints import shopping_hints
+from optimizer.select import search
+from optimizer.spec import Spec
+from tests.test_select_oracle import CAPS, QS, capacitors, resistors
+
+SPEC = Spec(gain=10, gain_tol=0.05, supply_v=12, load_ohms=22e3, source_ohms=1e3, swing_pp=5, low_cut_hz=30,
+            min_rin_ohms=8e3)
+GOOD = [(2, 220e3, 2), (3, 20e3, 1), (4, 12.1e3, 2), (5, 680.0, 2), (6, 1e3, 1), (7, 27e3, 1)]
+
+
+def _add(stock, row: dict):
+    return NS(**{k: np.append(np.asarray(getattr(stock, k)), row[k]) for k in row})
+
+
+def _apply(hint, rs, cs):
+    if "Ω" in hint["buy"] or "resistor" in hint["buy"]:
+        rs = _add(rs, {"line": hint["line_added"], "ohms": hint["value"], "tolerance": 0.05, "power_w": 0.25,
+                       "qty": 5})
+    else:
+        cs = _add(cs, {"line": hint["line_added"], "farads": hint["value"], "tolerance": 0.2,
+                       "voltage_v": 25.0, "polarised": True, "qty": 2})
+    return rs, cs
+
+
+def test_low_cut_binds_and_a_capacitor_fixes_it():
+    rs = resistors(GOOD)
+    cs = capacitors([(40, 1e-6, 50.0, False, 2)])  # 1 µ only: f_low ≈ 10 Hz, asked 5 Hz
+    spec = Spec(**{**SPEC.__dict__, "low_cut_hz": 5.0})
+    sol = search(rs, cs, QS, spec, top=1, depth=1)
+    assert sol.designs == []
+    why = reasons(sol, spec)
+    assert any("low cut-off binds" in w and "f_low" in w for w in why), why
+    hints = shopping_hints(rs, cs, QS, spec, sol, depth=1, search=search)
+    assert hints and hints[0]["buy"] and "electrolytic" in hints[0]["buy"]
+    rs2, cs2 = _apply(hints[0], rs, cs)
+    assert search(rs2, cs2, QS, spec, top=1, depth=1).designs  # the purchase really makes it feasible
+
+
+def test_missing_emitter_resistor_is_bought():
+    rs = resistors([x for x in GOOD if x[1] not in (680.0, 1e3)])  # no value near 680 Ω for RE1
+    sol = search(rs, CAPS, QS, SPEC, top=1, depth=1)
+    assert sol.designs == []
+    assert reasons(sol, SPEC)
+    hints = shopping_hints(rs, CAPS, QS, SPEC, sol, depth=1, search=search, budget_s=60)
+    assert hints and hints[0]["buy"], hints
+    rs2, cs2 = _apply(hints[0], rs, CAPS)
+    assert search(rs2, cs2, QS, SPEC, top=1, depth=1).designs
+
+
+def test_swing_beyond_a_low_supply_is_explained():
+    rs = resistors(GOOD)
+    spec = Spec(**{**SPEC.__dict__, "supply_v": 5.0, "swing_pp": 4.5})
+    sol = search(rs, CAPS, QS, spec, top=1, depth=1)
+    assert sol.designs == []
+    assert reasons(sol, spec)

@@ -1,0 +1,131 @@
+"""The solver against the exhaustive oracle (optimizer/oracle.py) on small drawers.
+
+The oracle is plain enumeration: every network per position, every capacitor
+combination, every transistor line, the same physics and objective, no pruning,
+no budget order and no CP-SAT.  Equal objective values (not equal designs: ties
+may come back either way) show the decomposition and the CP-SAT model are exact.
+"""
+
+from __future__ import annotations
+
+from types import SimpleNamespace as NS
+
+import numpy as np
+import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
+
+from inventory.parts import Part
+from optimizer.candidates import QLine, transistor_of
+from optimizer.oracle import TooBig, oracle
+from optimizer.select import search
+from optimizer.spec import Spec
+
+# E12 values near what a gain-of-10 stage on 12 V wants; the drawers are drawn from these.
+POOL = (680.0, 1e3, 1.2e3, 2.2e3, 4.7e3, 10e3, 12e3, 12.1e3, 15e3, 20e3, 22e3, 27e3, 47e3, 100e3, 110e3, 150e3, 220e3)
+SPEC = Spec(gain=10, gain_tol=0.05, supply_v=12, load_ohms=22e3, source_ohms=1e3, swing_pp=5, low_cut_hz=30,
+            min_rin_ohms=8e3)
+
+
+def resistors(lines):
+    """lines: [(drawer line, ohms, qty)] → stock arrays (5 %, 1/4 W)."""
+    return NS(line=np.array([x[0] for x in lines]), ohms=np.array([x[1] for x in lines], dtype=float),
+              tolerance=np.full(len(lines), 0.05), power_w=np.full(len(lines), 0.25),
+              qty=np.array([x[2] for x in lines]))
+
+
+def capacitors(lines):
+    """lines: [(line, farads, volts, polarised, qty)]."""
+    return NS(line=np.array([x[0] for x in lines]), farads=np.array([x[1] for x in lines], dtype=float),
+              tolerance=np.full(len(lines), 0.2), voltage_v=np.array([x[2] for x in lines], dtype=float),
+              polarised=np.array([x[3] for x in lines], dtype=bool), qty=np.array([x[4] for x in lines]))
+
+
+def qline(line, name, lo, hi, qty=5):
+    part = Part(line, "transistor", None, qty, part=name, polarity="NPN", hfe_min=lo, hfe_max=hi,
+                vceo_v=40.0, ic_max_a=0.1, pd_max_w=0.5)
+    return QLine(line, qty, transistor_of(part), name)
+
+
+CAPS = capacitors([(40, 10e-6, 25.0, True, 3), (41, 1e-6, 50.0, False, 2), (42, 100e-6, 16.0, True, 1)])
+QS = [qline(50, "BC547B", 200, 450), qline(51, "2N3904", 100, 300, qty=1)]
+
+
+def solver_scores(rs, cs, qs, spec, depth, top=3):
+    sol = search(rs, cs, qs, spec, top=top, depth=depth)
+    return [c.score for c, _ in sol.designs], sol
+
+
+def check_stock(sol, rs, cs, qs):
+    """Every returned design takes no line beyond its count, across all positions together."""
+    from optimizer.result import uses_of
+
+    qty = {int(a): int(b) for a, b in zip(rs.line, rs.qty, strict=True)}
+    qty.update({int(a): int(b) for a, b in zip(cs.line, cs.qty, strict=True)})
+    qty.update({q.line: q.qty for q in qs})
+    for choice, row in sol.designs:
+        for use in uses_of(sol, choice, row):
+            assert use["qty"] <= qty[use["line"]], (use, qty[use["line"]])
+
+
+@pytest.mark.parametrize("lines,depth", [
+    ([(2, 220e3, 2), (3, 20e3, 1), (4, 12.1e3, 2), (5, 680.0, 2), (6, 1e3, 1), (7, 27e3, 1), (8, 150e3, 1),
+      (9, 12e3, 1)], 1),
+    ([(2, 110e3, 2), (3, 10e3, 2), (4, 680.0, 3)], 2),  # 10k + 10k = 20k etc. only as networks
+    ([(2, 22e3, 1), (3, 22e3, 1), (4, 10e3, 1)], 2),  # infeasible: both sides must agree on "none"
+])
+def test_solver_matches_oracle(lines, depth):
+    rs = resistors(lines)
+    got, sol = solver_scores(rs, CAPS, QS, SPEC, depth)
+    want = oracle(rs, CAPS, QS, SPEC, depth=depth, top=3)
+    assert got == want
+    check_stock(sol, rs, CAPS, QS)
+
+
+def test_shared_stock_forces_a_network():
+    # One of each line: no value can serve two positions, so counts decide which tuples survive.
+    rs = resistors([(2, 100e3, 1), (3, 10e3, 1), (4, 20e3, 1), (5, 1e3, 1), (6, 680.0, 1), (7, 12e3, 1),
+                    (8, 27e3, 1), (9, 12.1e3, 1)])
+    spec = SPEC
+    got, sol = solver_scores(rs, CAPS, QS, spec, 1)
+    want = oracle(rs, CAPS, QS, spec, depth=1, top=3)
+    assert got == want
+    check_stock(sol, rs, CAPS, QS)
+
+
+drawer = st.lists(st.tuples(st.sampled_from(POOL), st.integers(1, 3)), min_size=2, max_size=6)
+
+
+def _run_case(entries, depth, spec):
+    rs = resistors([(i + 2, v, q) for i, (v, q) in enumerate(entries)])
+    try:
+        want = oracle(rs, CAPS, QS, spec, depth=depth, top=3, max_combos=1_500_000)
+    except TooBig:
+        return
+    got, sol = solver_scores(rs, CAPS, QS, spec, depth)
+    assert got == want
+    check_stock(sol, rs, CAPS, QS)
+
+
+@settings(max_examples=6, deadline=None, derandomize=True, suppress_health_check=[HealthCheck.too_slow])
+@given(drawer)
+def test_random_drawers_depth1_quick(entries):
+    _run_case(entries, 1, SPEC)
+
+
+@pytest.mark.fuzz
+@settings(max_examples=60, deadline=None, derandomize=True, suppress_health_check=[HealthCheck.too_slow])
+@given(drawer, st.sampled_from([1, 2]), st.sampled_from([3.0, 5.0]), st.sampled_from([0.05, 0.1]))
+def test_random_drawers_fuzz(entries, depth, swing, tol):
+    spec = Spec(gain=10, gain_tol=tol, supply_v=12, load_ohms=22e3, source_ohms=1e3, swing_pp=swing,
+                low_cut_hz=30, min_rin_ohms=8e3)
+    _run_case(entries, depth, spec)
+
+
+@pytest.mark.fuzz
+@settings(max_examples=25, deadline=None, derandomize=True, suppress_health_check=[HealthCheck.too_slow])
+@given(st.lists(st.tuples(st.sampled_from(POOL), st.integers(1, 3)), min_size=2, max_size=7))
+def test_random_followers_fuzz(entries):
+    spec = Spec(topology="emitter-follower", gain=0.9, gain_tol=0.08, supply_v=12, load_ohms=10e3,
+                source_ohms=1e3, swing_pp=3, low_cut_hz=30, min_rin_ohms=5e3)
+    _run_case(entries, 1, spec)
