@@ -52,7 +52,7 @@ class Assignment:
         self.cap = {}
         self.v, self.x = {}, {}
         table = self.pool.table
-        parts_terms, frac_terms, cap_terms = [], [], []
+        parts_terms, cap_terms = [], []
         usage = {}
         for p in positions:
             vals = np.unique(rows[p])
@@ -123,7 +123,6 @@ class Assignment:
             (int(rows["nf"].min()), int(rows["nf"].max())),
         ]
         self.n_rows = n
-        self._forbidden = []
 
     def forbid(self, rows_idx):
         """Exclude these rows' (values, transistor) combinations from later solves."""
@@ -173,7 +172,11 @@ class Assignment:
 
     def solve(self) -> Choice | None:
         """The lexicographic optimum, or None when no row can be realised from the stock."""
-        model = self.model.clone()  # the stage constraints stay on the copy
+        # Each stage's optimum is held by a constraint enforced through an assumption literal,
+        # so the next design (assumptions cleared) starts from the full problem again.
+        model = self.model
+        model.clear_assumptions()
+        held = []
         solver = None
         for group in self.stages():
             expr = sum(w * (self.levels[k] - self.bounds[k][0]) for k, w in group)
@@ -182,11 +185,18 @@ class Assignment:
             solver = self._solver()
             status = self._run(solver, model)
             if self.stopped or status not in (cp_model.OPTIMAL, cp_model.FEASIBLE):
+                model.clear_assumptions()
                 return None
-            model.add(expr <= int(round(solver.objective_value)))
+            lit = model.new_bool_var(f"stage[{len(held)}]")
+            model.add(expr <= int(round(solver.objective_value))).only_enforce_if(lit)
+            held.append(lit)
+            model.clear_assumptions()
+            model.add_assumptions(held)
             model.clear_hints()
             for b in self.x.values():
                 model.add_hint(b, solver.boolean_value(b))
+        model.clear_assumptions()
+        model.clear_hints()
         values = [int(solver.value(level)) for level in self.levels]
         nets = {}
         for (p, net), b in self.x.items():

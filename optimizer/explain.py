@@ -8,8 +8,6 @@ all be built from the counts on hand.
 
 from __future__ import annotations
 
-import numpy as np
-
 from inventory.values import format_capacitance
 
 from . import capchoice
@@ -79,7 +77,3 @@ def _capacitor_reason(sol, spec) -> str:
     parts = ", ".join(f"{p} {format_capacitance(v)}" for p, v in best.items())
     return (f"low cut-off binds: even with the largest suitable capacitors on hand ({parts}) f_low = "
             f"{f_low:.3g} Hz at hFE min (asked ≤ {spec.low_cut_hz:g} Hz)")
-
-
-def finite(x) -> bool:
-    return x is not None and bool(np.isfinite(x))

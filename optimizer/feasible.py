@@ -78,6 +78,7 @@ def check(topology, r, q, spec, near: Near | None = None):
         _note_near(near, ok, lo, hi, spec)
     idx = np.flatnonzero(allok)
     out = {p: np.asarray(v)[idx] for p, v in r.items()}
+    out["idx"] = idx  # position in the chunk
     out["ge"] = objective.gain_error_steps(lo["gain"][idx], hi["gain"][idx], spec.gain)
     out["sm"] = objective.swing_margin_mv(lo["swing_pp"][idx], hi["swing_pp"][idx], spec.swing_pp)
     for p in r:

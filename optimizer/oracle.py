@@ -7,8 +7,6 @@ Only for small drawers (the tests and the benchmark); `max_combos` guards agains
 
 from __future__ import annotations
 
-import itertools
-
 import numpy as np
 
 from . import capchoice, objective
@@ -16,6 +14,9 @@ from .candidates import OPTIONAL, POSITIONS, WINDOW_OHMS
 from .capacitors import capacitor_options
 from .feasible import check
 from .networks import resistor_networks
+
+
+CHUNK = 400_000
 
 
 class TooBig(Exception):
@@ -73,38 +74,49 @@ def oracle(rstock, cstock, qlines, spec, *, depth=3, top=3, max_combos=2_000_000
     total = int(np.prod([len(c) for c in choices], dtype=float))
     if total > max_combos:
         raise TooBig(f"{total} network assignments")
+    opts = capacitor_options(cstock, 0.0, depth=2)
+    cqty = np.asarray(cstock.qty, dtype=np.int64)
+    cweights = np.array([objective.line_weight(q) if q > 0 else 0 for q in cqty])
+    rweights = np.array([objective.line_weight(q) if q > 0 else 0 for q in rqty])
+    best, caps_seen = {}, {}
+    step = max(1, CHUNK // max(1, total // len(choices[0])))
+    for s0 in range(0, len(choices[0]), step):  # in slices of the first position, to bound memory
+        sub = [choices[0][s0:s0 + step]] + choices[1:]
+        _enumerate(topology, positions, sub, table, usage, rqty, rweights, spec, qlines, opts, cqty, cweights,
+                   best, caps_seen)
+    return sorted(best.values())[:top]
+
+
+def _enumerate(topology, positions, choices, table, usage, rqty, rweights, spec, qlines, opts, cqty, cweights,
+               best, caps_seen):
     mesh = [m.ravel() for m in np.meshgrid(*choices, indexing="ij")]
     use = sum(usage[m] for m in mesh)
     fits = (use <= rqty).all(axis=1)
     mesh = [m[fits] for m in mesh]
     use = use[fits]
+    if not len(use):
+        return
     value = np.append(table.value, 0.0)
     parts = np.append(table.parts.astype(np.int64), 0)
     cap_uw = np.append(objective.power_capacity_uw(table.power_w), 0)
     vals = {p: value[m] for p, m in zip(positions, mesh, strict=True)}
     rparts = sum(parts[m] for m in mesh)
-    rweights = np.array([objective.line_weight(q) if q > 0 else 0 for q in rqty])
     r_emptied = ((use >= rqty) & (use > 0)).sum(axis=1)
     r_frac = use @ rweights
-    opts = capacitor_options(cstock, 0.0, depth=2)
-    cqty = np.asarray(cstock.qty, dtype=np.int64)
-    cweights = np.array([objective.line_weight(q) if q > 0 else 0 for q in cqty])
-    best = {}
     tuples_, inverse = np.unique(np.column_stack([vals[p] for p in positions]), axis=0, return_inverse=True)
     inverse = np.ravel(inverse)
-    for qi, q in enumerate(qlines):
+    for q in qlines:
         chunk = {p: tuples_[:, k] for k, p in enumerate(positions)}
         rows = check(topology, chunk, q, spec)
         if not len(rows["ge"]):
             continue
-        # Map feasible value tuples back to the assignments that realise them.
-        rkeys = {tuple(float(rows[p][i]) for p in positions): i for i in range(len(rows["ge"]))}
-        for t_idx, tup in enumerate(tuples_):
-            i = rkeys.get(tuple(float(x) for x in tup))
-            if i is None:
-                continue
+        for i, t_idx in enumerate(rows["idx"]):
+            tup = tuples_[t_idx]
             row = {k: v[i] for k, v in rows.items()}
-            caps = _best_caps(topology, row, spec, opts, cqty, cweights) if len(opts) else None
+            ckey = (tuple(float(x) for x in tup), q.transistor)
+            if ckey not in caps_seen:
+                caps_seen[ckey] = _best_caps(topology, row, spec, opts, cqty, cweights) if len(opts) else None
+            caps = caps_seen[ckey]
             if caps is None:
                 continue
             pc, ec, fc, nf = caps
@@ -119,8 +131,3 @@ def oracle(rstock, cstock, qlines, spec, *, depth=3, top=3, max_combos=2_000_000
                 key = (tuple(float(x) for x in tup), q.name)
                 if key not in best or score < best[key]:
                     best[key] = score
-    return sorted(best.values())[:top]
-
-
-def all_profiles(topology, depth):
-    return list(itertools.product(range(depth + 1), repeat=len(POSITIONS[topology])))

@@ -9,7 +9,7 @@ spec's gain, swing, Rin and current (montecarlo.MonteCarlo.meeting).
 
 from __future__ import annotations
 
-from dataclasses import asdict, replace
+from dataclasses import asdict
 
 import numpy as np
 
@@ -121,7 +121,3 @@ def spec_json(spec) -> dict:
     d = asdict(spec)
     d["temp_range_c"] = list(spec.temp_range_c)
     return d
-
-
-def with_typical(q, bf):
-    return replace(q, bf=bf)

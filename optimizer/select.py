@@ -19,7 +19,7 @@ import numpy as np
 
 from . import capchoice, objective
 from .assign import Assignment
-from .candidates import OPTIONAL, POSITIONS, Pool, min_positions, profiles, tuples, usable_transistors
+from .candidates import POSITIONS, Pool, min_positions, profiles, tuples, usable_transistors
 from .capacitors import capacitor_options
 from .feasible import Near, check, concat
 
@@ -214,9 +214,6 @@ def _solve_top(positions, rows, sol, top, cancel, accept):
 def _stock_qty(pool) -> np.ndarray:
     return np.asarray(pool.stock.qty, dtype=np.int64)
 
-
-def optional_positions(topology):
-    return OPTIONAL[topology]
 
 
 def find_designs(drawer, spec, *, top=3, depth=3, min_yield=None, progress=None, cancel=None,

@@ -30,6 +30,14 @@ def table_lines(app) -> list[int]:
     return [int(key.value) for key in table.rows]
 
 
+async def only_line(pilot, text: str, path):
+    """Filter the table down to the one line matching `text`; that line's Part as on disk."""
+    await pilot.press("slash", *text, "enter")
+    await pilot.pause()
+    (line,) = table_lines(pilot.app)
+    return Drawer.load(path).part_at(line)
+
+
 async def test_filter_shows_exactly_the_matching_lines(demo_drawer):
     app = make_app(demo_drawer)
     async with app.run_test(size=SIZE) as pilot:
@@ -111,10 +119,8 @@ async def test_good_part_is_added_then_undone(demo_drawer):
 async def test_count_change_and_removal(demo_drawer):
     app = make_app(demo_drawer)
     async with app.run_test(size=SIZE) as pilot:
-        await pilot.press("slash", *"2N3904", "enter")
-        await pilot.pause()
-        (line,) = table_lines(app)
-        before = Drawer.load(demo_drawer).part_at(line).qty
+        part = await only_line(pilot, "2N3904", demo_drawer)
+        line, before = part.line, part.qty
         await pilot.press("c")
         await pilot.pause()
         assert isinstance(app.screen, CountDialog)
@@ -195,3 +201,22 @@ def test_missing_drawer_file_is_an_error_not_a_traceback(tmp_path, capsys):
     assert main(["--inventory", str(tmp_path / "nowhere.csv")]) == 2
     err = capsys.readouterr().err
     assert "nowhere.csv" in err and "does not exist" in err and "Traceback" not in err
+
+
+async def test_edit_changes_the_line_and_keeps_the_rest(demo_drawer):
+    app = make_app(demo_drawer)
+    async with app.run_test(size=SIZE) as pilot:
+        old = await only_line(pilot, "2N3904", demo_drawer)
+        await pilot.press("e")
+        await pilot.pause()
+        assert isinstance(app.screen, PartForm)
+        assert app.screen.query_one("#f-hfe_min", Input).value == "100"  # the cells as typed in the file
+        await type_into(pilot, "#f-location", "D9")
+        await pilot.press("ctrl+s")
+        await pilot.pause()
+        assert isinstance(app.screen, DrawerScreen)
+    now = [p for p in Drawer.load(demo_drawer).parts if p.part == "2N3904"]
+    assert len(now) == 1 and now[0].location == "D9"
+    assert now[0].line == old.line  # edited in place, not moved to the end
+    assert (now[0].qty, now[0].hfe_min, now[0].hfe_max, now[0].vceo_v) == (old.qty, old.hfe_min, old.hfe_max,
+                                                                            old.vceo_v)

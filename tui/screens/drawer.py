@@ -10,7 +10,6 @@ from textual.screen import Screen
 from textual.widgets import DataTable, Footer, Header, Input, Label, Static
 
 from inventory.parts import Part
-from inventory.store import StoreError
 
 from ..widgets.part_text import COLUMNS, describe, row_cells, sort_key
 
@@ -191,22 +190,16 @@ class DrawerScreen(Screen):
         return {name: record.cells[i].strip() for name, i in drawer.columns.items() if i < len(record.cells)}
 
     def replace(self, part: Part, fields: dict[str, str]) -> None:
-        """Save an edited line: a new count alone is a count; anything else replaces the line.
+        """Save an edited line in place: a new count alone is a count, anything else an edit.
 
-        The store journals a replacement as a removal and an addition; if the addition
-        is refused the removal is undone, so a refused edit leaves the file as it was.
+        The store rewrites only the cells whose text changed, as one journal entry.
         """
         store = self.app.store
         before = {k: v for k, v in self.cells_of(part).items() if v}
-        if {k: v for k, v in before.items() if k != "qty"} == {k: v for k, v in fields.items() if k != "qty"}:
+        if {k: v for k, v in before.items() if k != "qty"} == {k: v for k, v in fields.items() if k != "qty" and v}:
             store.set_qty(part.line, int(fields["qty"]), reason=f"counted {describe(part)}")
             return
-        removed = store.remove_part(part.line, reason=f"edit of {describe(part)}: old line out")
-        try:
-            store.add_part(fields, reason=f"edit of {describe(part)}: new line in")
-        except (StoreError, ValueError):
-            store.undo(removed.id, reason="edit refused")
-            raise
+        store.edit_part(part.line, fields, reason=f"edited {describe(part)}")
 
     def action_count(self) -> None:
         from .dialogs import CountDialog

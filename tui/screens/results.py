@@ -40,10 +40,13 @@ def card_text(rank: int, design: dict) -> str:
 
 
 def hint_text(hint: dict) -> str:
-    buy = hint.get("buy") or hint.get("value") or ""
+    """One shopping hint as a line: "• buy 5k1 for RC: gain within 1 %", or just its effect."""
+    buy = str(hint.get("buy") or "").strip()
+    effect = str(hint.get("effect") or "").strip()
+    if not buy:
+        return f"• {effect}"
     where = f" for {hint['position']}" if hint.get("position") else ""
-    effect = f": {hint['effect']}" if hint.get("effect") else ""
-    return f"• buy {buy}{where}{effect}"
+    return f"• buy {buy}{where}" + (f": {effect}" if effect else "")
 
 
 class DesignCard(Static, can_focus=True):

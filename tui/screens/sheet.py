@@ -26,6 +26,7 @@ SAFETY = (
     "Local electrical codes and licensed practice take precedence over these notes.",
 )
 
+
 def line_text(part) -> str:
     """The drawer line as stocked: "4k7 5% 0.25 W", "BC547B hFE 200-450 45 V"."""
     if part is None:
