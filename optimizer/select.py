@@ -25,7 +25,8 @@ from .feasible import Near, check, concat
 
 MIN_CAPS = 2  # CIN and COUT are always fitted
 ROWS_FIRST = 48  # rows handed to CP-SAT first (more follow while an excluded row could compete)
-MAX_SCREENED = 60_000_000  # a safety stop; reported in `why` when it ends the search
+MAX_SCREENED = 60_000_000
+MAX_REJECTED = 30  # designs the yield constraint may turn down before the search gives up  # a safety stop; reported in `why` when it ends the search
 
 
 class Cancelled(Exception):
@@ -192,8 +193,9 @@ def _solve_top(positions, rows, sol, top, cancel, accept):
     qty = _stock_qty(sol.pool)
     a = Assignment(positions, rows, sol.pool, qty, sol.qlines, cancel=cancel)
     out = []
+    rejected = 0
     names = np.array([q.name for q in sol.qlines])
-    while len(out) < top:
+    while len(out) < top and rejected <= MAX_REJECTED:
         c = a.solve()
         if c is None:
             if a.stopped:
@@ -202,6 +204,10 @@ def _solve_top(positions, rows, sol, top, cancel, accept):
         row = _row_dict(rows, c.row)
         if accept is None or accept(sol, c, row):
             out.append((c, row))
+        else:
+            rejected += 1
+            if rejected > MAX_REJECTED:
+                sol.notes.append(f"--min-yield: stopped after {MAX_REJECTED} designs below the yield asked for")
         # Forbid every row with the same values and the same transistor part (any line of it).
         same = np.ones(len(rows["q"]), dtype=bool)
         for p in positions:
