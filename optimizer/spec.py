@@ -27,7 +27,6 @@ class Spec:
     max_supply_a: float | None = None
     temp_range_c: tuple[float, float] = (0.0, 50.0)
     max_parts_per_position: int = 3
-    prefer_tight: bool = False
 
     def problems(self) -> list[str]:
         """Every reason the spec cannot be meant, as messages naming the option."""

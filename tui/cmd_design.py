@@ -3,7 +3,7 @@
     drawerfit [--inventory F] design --topology T --gain G [--gain-tol 0.05] --supply V --load R
               [--source R] [--swing V] [--low-cut HZ] [--min-rin R] [--max-current A]
               [--temp-range LO..HI] [--depth 1-3] [--top N] [--min-yield F] [--seed S]
-              [--prefer-tight] [--no-hints] [--json] [--save FILE]
+              [--no-hints] [--json] [--save FILE]
     drawerfit [--inventory F] build FILE [--pick N] [--reason TEXT]
 
 Exit codes (design): 0 designs found, 3 no design meets the spec, 2 bad input.
@@ -25,7 +25,6 @@ from inventory.locate import InventoryNotFound, find_inventory
 from inventory.rows import identity_key
 from inventory.store import Store
 from inventory.values import ValueFormatError, parse_current, parse_number, parse_resistance, parse_voltage
-from optimizer.select import find_designs
 from optimizer.spec import Spec
 from optimizer.stage import TOPOLOGIES
 
@@ -55,7 +54,6 @@ def register(sub) -> None:
     p.add_argument("--top", default="3", help="how many distinct designs (default 3)")
     p.add_argument("--min-yield", metavar="F", help="least Monte Carlo yield a design must have (0..1)")
     p.add_argument("--seed", default="1", help="Monte Carlo seed (default 1)")
-    p.add_argument("--prefer-tight", action="store_true", help="recorded in the spec")
     p.add_argument("--no-hints", action="store_true", help="skip the shopping hints when nothing fits")
     p.add_argument("--json", action="store_true", help="print the result document as JSON")
     p.add_argument("--save", metavar="FILE", help="also write the result (with spec and stock fingerprint) here")
@@ -109,7 +107,6 @@ def spec_from(args) -> Spec:
         max_supply_a=None if args.max_current is None else _num(args, "max_current", parse_current, "max-current"),
         temp_range_c=temp,
         max_parts_per_position=_int(args, "depth", "depth", 1, 3),
-        prefer_tight=bool(args.prefer_tight),
     )
 
 
@@ -124,6 +121,8 @@ def fingerprint(drawer: Drawer, lines) -> dict:
 
 
 def run_design(args) -> int:
+    from optimizer.select import find_designs  # OR-Tools and scipy load only for a design
+
     try:
         spec = spec_from(args)
         top = _int(args, "top", "top", 1, 20)
