@@ -2,29 +2,13 @@
 
 from __future__ import annotations
 
-from collections import defaultdict
-
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Vertical
 from textual.screen import ModalScreen
 from textual.widgets import DataTable, Footer, Label
 
-from inventory.parts import KINDS, Part
-
-
-def per_location(parts: list[Part]) -> list[tuple[str, int, int, str]]:
-    """(location, lines, pieces, pieces per kind) sorted by location; "" becomes "(none)"."""
-    lines: dict[str, int] = defaultdict(int)
-    pieces: dict[str, dict[str, int]] = defaultdict(lambda: defaultdict(int))
-    for p in parts:
-        lines[p.location] += 1
-        pieces[p.location][p.kind] += p.qty
-    out = []
-    for loc in sorted(lines):
-        kinds = ", ".join(f"{pieces[loc][k]} {k}s" for k in KINDS if k in pieces[loc])
-        out.append((loc or "(none)", lines[loc], sum(pieces[loc].values()), kinds))
-    return out
+from inventory.summary import per_location
 
 
 class LocationsScreen(ModalScreen[None]):
