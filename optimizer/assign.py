@@ -107,9 +107,9 @@ class Assignment:
             sum(parts_terms) + cols["pc"] + 1,
             cols["ge"],
             cols["nsm"],
+            cols["nf"],
             sum(emptied),
             sum(frac),
-            cols["nf"],
         ]
         max_parts = sum(max((int(table.parts[net]) for (q_, net) in self.x if q_ == p and net is not None),
                             default=0) for p in positions)
@@ -118,9 +118,9 @@ class Assignment:
             (0, max_parts + int(rows["pc"].max()) + 1),
             (int(rows["ge"].min()), int(rows["ge"].max())),
             (int(rows["nsm"].min()), int(rows["nsm"].max())),
+            (int(rows["nf"].min()), int(rows["nf"].max())),
             (0, len(usage) + int(rows["ec"].max())),
             (0, frac_hi + int(rows["fc"].max())),
-            (int(rows["nf"].min()), int(rows["nf"].max())),
         ]
         self.n_rows = n
 

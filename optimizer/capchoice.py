@@ -10,7 +10,7 @@ option too small even with the other positions at their largest is dropped.
 
 Among the combinations that pass at hFE min and max, within stock, with every
 part rated ≥ CAP_VOLTAGE_MARGIN × the DC across it, the choice is the lexicographic
-minimum of (parts, lines emptied, Σ used/qty, total nF): the capacitor share of the
+minimum of (parts, total nF, lines emptied, Σ used/qty): the capacitor share of the
 design objective, which is separable because capacitors never share drawer lines
 with resistors or transistors.
 """
@@ -104,7 +104,7 @@ class CapChoice:
 
     @property
     def key(self):
-        return (self.parts, self.emptied, self.frac, self.nf)
+        return (self.parts, self.nf, self.emptied, self.frac)
 
 
 def positions_for(row) -> tuple[str, ...]:
@@ -162,7 +162,7 @@ def choose(topology, row, spec, options, stock_qty: np.ndarray) -> CapChoice | N
             frac = use @ weights
             nf = np.rint(sum(vals.values()) / objective.NF).astype(np.int64)
             f = np.flatnonzero(fit)
-            k = f[np.lexsort((nf[f], frac[f], emptied[f]))[0]]
+            k = f[np.lexsort((frac[f], emptied[f], nf[f]))[0]]
             c = CapChoice({p: int(m[k]) for p, m in zip(pos, mesh, strict=True)}, total,
                           int(emptied[k]), int(frac[k]), int(nf[k]))
             if best is None or c.key < best.key:

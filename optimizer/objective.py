@@ -8,9 +8,10 @@ Lexicographic, smaller is better (the README quotes this):
      in whole steps of 0.1 % (rounded to the nearest step);
   4. largest worst-case clip-free swing margin (swing the stage can give minus the
      swing asked for, the smaller over hFE min/max), in whole mV (rounded down);
-  5. leaves the most stock: fewest drawer lines emptied, then the least
+  5. smallest total capacitance (whole nF, rounded): of the capacitors that are
+     enough, the smallest (coupling and bypass need at least a value, not more);
+  6. leaves the most stock: fewest drawer lines emptied, then the least
      Σ over lines of used/qty (in steps of 1/10 000 per part, rounded);
-  6. smallest total capacitance (whole nF, rounded), i.e. the smallest adequate capacitors;
   then the solver's own deterministic tie-break (one worker, fixed seed).
 
 Every quantity here is an exact integer function of the screened physics, so the
@@ -78,9 +79,9 @@ class Score:
     parts: int
     gain_error: int  # 0.1 % steps
     neg_swing_margin: int  # −mV
+    cap_nf: int
     emptied: int
     used_frac: int
-    cap_nf: int
 
     def to_json(self) -> dict:
         return {"parts": self.parts, "gain_error": self.gain_error * GAIN_STEP,

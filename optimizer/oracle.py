@@ -33,7 +33,7 @@ def _dense_usage(table, n_stock):
 
 
 def _best_caps(topology, row, spec, opts, qty, weights):
-    """Lexicographic minimum (parts, emptied, Σ used·weight, nF) over every capacitor combination."""
+    """(parts, emptied, Σ used·weight, nF) of the lexicographic minimum (parts, nF, emptied, Σ used·weight)."""
     pos = capchoice.positions_for(row)
     vdc = capchoice.dc_across(topology, row)
     idx = [np.arange(len(opts))] * len(pos)
@@ -58,8 +58,8 @@ def _best_caps(topology, row, spec, opts, qty, weights):
     frac = use @ weights
     nf = np.rint(sum(vals.values()) / objective.NF).astype(np.int64)
     f = np.flatnonzero(ok)
-    keys = sorted(zip(parts[f], emptied[f], frac[f], nf[f], strict=True))
-    return tuple(int(x) for x in keys[0])
+    n_parts, n_nf, n_emptied, n_frac = sorted(zip(parts[f], nf[f], emptied[f], frac[f], strict=True))[0]
+    return int(n_parts), int(n_emptied), int(n_frac), int(n_nf)
 
 
 def oracle(rstock, cstock, qlines, spec, *, depth=3, top=3, max_combos=2_000_000):
@@ -125,9 +125,10 @@ def _enumerate(topology, positions, choices, table, usage, rqty, rweights, spec,
             for p, m in zip(positions, mesh, strict=True):
                 ok &= cap_uw[m[sel]] >= row[f"need_{p}"]
             for j in sel[ok]:
-                score = objective.Score(int(rparts[j]) + pc + 1, int(row["ge"]), -int(row["sm"]),
-                                        int(r_emptied[j]) + ec + (1 if q.qty <= 1 else 0),
-                                        int(r_frac[j]) + fc + objective.line_weight(q.qty), nf)
+                score = objective.Score(parts=int(rparts[j]) + pc + 1, gain_error=int(row["ge"]),
+                                        neg_swing_margin=-int(row["sm"]), cap_nf=nf,
+                                        emptied=int(r_emptied[j]) + ec + (1 if q.qty <= 1 else 0),
+                                        used_frac=int(r_frac[j]) + fc + objective.line_weight(q.qty))
                 key = (tuple(float(x) for x in tup), q.name)
                 if key not in best or score < best[key]:
                     best[key] = score
