@@ -126,24 +126,41 @@ def ce_tuples(g: dict, spec, transistor, betas, emit):
 
     `emit(chunk)` receives dicts position → ohms arrays.  betas: the hFE corners (at 27 °C).
     """
-    from .bias import thevenin
-
-    r1, r2 = (m.ravel() for m in np.meshgrid(g["R1"], g["R2"], indexing="ij"))
-    keep = r1 * r2 / (r1 + r2) >= spec.min_rin_ohms * (1 - 1e-12)  # Rin ≤ R1‖R2
-    r1, r2 = r1[keep], r2[keep]
-    re1, re2 = (m.ravel() for m in np.meshgrid(g["RE1"], g["RE2"], indexing="ij"))
+    if not all(len(g[p]) for p in ("R1", "R2", "RC", "RE1", "RE2")):
+        return
     # |gain| < (RC‖RL)/RE1 < RL/RE1; and IC ≥ swing/(2·RL) (swing up ≤ IC·(RC‖RL)) with
     # VE ≥ IC·(RE1 + RE2) ≤ VCC − VCE_min.
     vce_min = loadline.VCE_SAT_V + spec.swing_pp / 2.0
-    fit = re1 * spec.gain * (1 - spec.gain_tol) * (1 - BRACKET_SLACK) < spec.load_ohms
-    if spec.swing_pp > 0:
-        fit &= (re1 + re2) * spec.swing_pp / (2 * spec.load_ohms) <= spec.supply_v - vce_min
-    re1, re2 = re1[fit], re2[fit]
+    re1_all = g["RE1"][g["RE1"] * spec.gain * (1 - spec.gain_tol) * (1 - BRACKET_SLACK) < spec.load_ohms]
+    for r1, r2 in _mesh_slices(g["R1"], g["R2"]):
+        keep = r1 * r2 / (r1 + r2) >= spec.min_rin_ohms * (1 - 1e-12)  # Rin ≤ R1‖R2
+        r1, r2 = r1[keep], r2[keep]
+        if not len(r1):
+            continue
+        for re1, re2 in _mesh_slices(re1_all, g["RE2"]):
+            if spec.swing_pp > 0:
+                fit = (re1 + re2) * spec.swing_pp / (2 * spec.load_ohms) <= spec.supply_v - vce_min
+                re1, re2 = re1[fit], re2[fit]
+            if len(re1):
+                _ce_block(r1, r2, re1, re2, g["RC"], spec, transistor, betas, vce_min, emit)
+
+
+def _mesh_slices(a, b):
+    """Every pair of a × b (flattened, a-major), in slices of at most about BLOCK pairs.
+
+    3-part networks can give 10^5 values per position; a whole mesh would not fit in memory.
+    """
+    per = max(1, BLOCK // max(1, len(b)))
+    for c in range(0, len(a), per):
+        yield (m.ravel() for m in np.meshgrid(a[c:c + per], b, indexing="ij"))
+
+
+def _ce_block(r1, r2, re1, re2, rc, spec, transistor, betas, vce_min, emit):
+    """ce_tuples for one slice of emitter pairs (re1[i], re2[i]) against every divider pair."""
+    from .bias import thevenin
+
     u = re1 + re2
     uu, inv = np.unique(u, return_inverse=True)
-    rc = g["RC"]
-    if not (len(r1) and len(u) and len(rc)):
-        return
     vth, rth = thevenin(spec.supply_v, r1, r2)
     is_a, _, _, vt = transistor.at(27.0)
     vt = float(vt)
