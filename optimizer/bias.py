@@ -24,6 +24,8 @@ from .transistor import terminal_currents
 
 TOLERANCE_V = 1e-9  # Newton stops when both junction steps are below this
 MAX_ITERATIONS = 200
+GUESS_STEPS = 5  # Newton steps of the forward-active estimate
+SAT_PASSES = 3  # extra fixed-point passes of the saturated estimate
 
 
 class Network(NamedTuple):
@@ -132,43 +134,82 @@ def _take(x, k):
 
 
 def _initial_guess(a0, ab, ac, d0, db, dc, is_a, bf, br, vaf_v, vt):
-    """Start close enough that Newton needs two or three full steps.
+    """Start close enough that most candidates settle in Newton's first step.
 
-    Forward active (BC junction off, Early effect kept): with E = IS·e^(VBE/Vt),
-    IB = E/BF and IC ≈ E·(1 − VBC/VAF), f1 becomes a0 − VBE − R·E = 0, solved by a
-    few Newton steps in ln E from above, where it converges monotonically.
-    Candidates that this puts below VCE = 0.25 V are started as saturated
-    instead: VCE = 0.1 V and VBE as found give IB and IC linearly, and the
-    transport equations give the two junction voltages.
+    Forward active (BC junction reverse biased, Early effect kept): with
+    E = IS·e^(VBE/Vt), f1 becomes a0 − VBE − R(E)·E = 0, solved by a few Newton
+    steps in ln E from above, where it converges monotonically.  Candidates
+    that this puts below VCE = 0.25 V are started as saturated instead: from
+    VCE = 0.1 V and VBE as found, IB and IC follow linearly and the transport
+    equations give the two junction voltages, repeated `SAT_PASSES` times.
     """
     ln_is = np.log(is_a)
     vbc = np.minimum(d0, 0.0)
     r = ab / bf + ac * (1.0 - vbc / vaf_v)
     # Both are upper bounds of ln E (r·E ≤ a0, and VBE ≤ a0); the second is exact when r = 0.
     w = np.minimum(np.log(np.maximum(a0, 1e-3) / r), ln_is + a0 / vt)
-    e = np.exp(w)
-    for _ in range(4):
-        w = w + (a0 - vt * (w - ln_is) - r * e) / (vt + r * e)
+    # With the BC junction reverse biased (IBC = −IS) the forward-active model is exact:
+    # IB = E/BF − IS/BF − IS/BR and IC = E·q + IS/BR, the IS terms folded into a0 and d0;
+    # the Early factor q = 1 − VBC/VAF is solved with VBC, q = (A + B·E)/(1 − C·E), and
+    # its slope enters the step, so Newton stays quadratic.
+    ab_bf, db_bf, inv_vaf = ab / bf, db / bf, 1.0 / vaf_v
+    a0x = a0 + is_a * (ab_bf + (ab - ac) / br) + vt * ln_is
+    d0x = d0 + is_a * (db_bf + (db - dc) / br)
+    # dc = rbc − rcc ≤ 0 in a passive network; clamped so 1 − C·E never reaches 0.
+    qa, qb, qc = 1.0 - d0x * inv_vaf, db_bf * inv_vaf, np.minimum(dc, 0.0) * inv_vaf
+    ac_qd = ac * (qb + qa * qc)
+    for step in range(GUESS_STEPS + 1):  # in place where it spares a temporary
         e = np.exp(w)
-        q = 1.0 - np.minimum(vbc, 0.0) / vaf_v  # the Early factor only matters while active
-        vbc = d0 - (db / bf + dc * q) * e
-        r = ab / bf + ac * q
+        den = qc * e
+        np.subtract(1.0, den, out=den)
+        np.divide(1.0, den, out=den)
+        q = qb * e
+        q += qa
+        q *= den
+        active = q > 1.0  # VBC < 0; beyond that (saturation) no Early effect, as before
+        np.maximum(q, 1.0, out=q)
+        if step == GUESS_STEPS:
+            break
+        r = ac * q
+        r += ab_bf
+        slope = ac_qd * e
+        slope *= den
+        slope *= den
+        slope *= active
+        slope += r
+        slope *= e
+        slope += vt
+        f = vt * w
+        np.subtract(a0x, f, out=f)
+        r *= e
+        f -= r
+        f /= slope
+        w = w + f
     vbe = vt * (w - ln_is)
+    vbc = d0x - (db_bf + dc * q) * e
     sat = vbe - vbc < 0.25
     if np.any(sat):
         k = np.flatnonzero(sat)
-        ab_, ac_, a0_, bf_, br_, is_, vt_ = (_take(x, k) for x in (ab, ac, a0, bf, br, is_a, vt))
-        s0 = a0_ - d0[k] - 0.1
-        p0 = a0_ - vbe[k]
+        ab_, ac_, a0_, bf_, br_, is_, vt_, iv_ = (_take(x, k) for x in (ab, ac, a0, bf, br, is_a, vt, inv_vaf))
         mb, mc = ab_ - db[k], ac_ - dc[k]
-        det = ab_ * mc - ac_ * mb
-        ib = (p0 * mc - ac_ * s0) / det
-        ic = (ab_ * s0 - mb * p0) / det
-        ibc = (bf_ * ib - ic) / (bf_ / br_ + 1.0 + 1.0 / br_)
-        ibe = bf_ * (ib - ibc / br_)
-        ok = (ibc > 0) & (ibe > 0)
-        vbe[k] = np.where(ok, vt_ * np.log(np.where(ok, ibe, 1.0) / is_ + 1.0), vbe[k])
-        vbc[k] = np.where(ok, vt_ * np.log(np.where(ok, ibc, 1.0) / is_ + 1.0), vbe[k] - 0.1)
+        inv_det = 1.0 / (ab_ * mc - ac_ * mb)
+        s_k = a0_ - d0[k]
+        be, bc = vbe[k], vbe[k] - 0.1
+        # Fixed point: junction voltages → IB, IC (linear) → junction voltages (transport
+        # equations, Early factor at the last VBC); each pass shrinks the error about
+        # Vt/(I·R)-fold, so a few passes leave Newton one or two steps.
+        for _ in range(1 + SAT_PASSES):
+            s0 = s_k - (be - bc)
+            p0 = a0_ - be
+            ib = (p0 * mc - ac_ * s0) * inv_det
+            ic = (ab_ * s0 - mb * p0) * inv_det
+            q = 1.0 - bc * iv_
+            ibc = (q * bf_ * ib - ic) / (q * bf_ / br_ + q + 1.0 / br_)
+            ibe = bf_ * (ib - ibc / br_)
+            ok = (ibc > 0) & (ibe > 0)
+            be = np.where(ok, vt_ * np.log(np.where(ok, ibe, 1.0) / is_ + 1.0), be)
+            bc = np.where(ok, vt_ * np.log(np.where(ok, ibc, 1.0) / is_ + 1.0), bc)
+        vbe[k], vbc[k] = be, bc
     return vbe, vbc
 
 
