@@ -8,7 +8,7 @@ from pathlib import Path
 import pytest
 from textual.widgets import Input
 
-DEMO = Path(__file__).resolve().parent.parent / "inventory" / "demo" / "drawer.csv"
+from tests.demo_job import DEMO
 
 
 @pytest.fixture

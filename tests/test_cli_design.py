@@ -6,11 +6,10 @@ import json
 import shutil
 import subprocess
 import sys
-from pathlib import Path
 
 import pytest
+from tests.demo_job import DEMO
 
-DEMO = Path(__file__).resolve().parents[1] / "inventory" / "demo" / "drawer.csv"
 JOB = ["design", "--topology", "common-emitter", "--gain", "10", "--gain-tol", "0.05", "--supply", "12",
        "--load", "22k", "--source", "1k", "--swing", "5", "--low-cut", "30", "--min-rin", "8k", "--top", "3",
        "--depth", "1"]

@@ -8,21 +8,17 @@ within 1 % and the DC node voltages within 10 mV.
 
 from __future__ import annotations
 
-from pathlib import Path
 
 import pytest
 
 from inventory.drawer import Drawer
 from optimizer.netlist import node_names, to_netlist
 from optimizer.select import find_designs
-from optimizer.spec import Spec
 from optimizer.stage import Stage
 from optimizer.transistor import Transistor
 from tests import spice
+from tests.demo_job import DEMO, JOB
 
-DEMO = Path(__file__).resolve().parents[1] / "inventory" / "demo" / "drawer.csv"
-JOB = Spec(topology="common-emitter", gain=10, gain_tol=0.05, supply_v=12, load_ohms=22e3, source_ohms=1e3,
-           swing_pp=5, low_cut_hz=30, min_rin_ohms=8e3)
 
 
 @pytest.fixture(scope="module")

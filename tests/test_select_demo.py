@@ -8,7 +8,6 @@ here is a check of the solver's physics, not a restatement of it.
 from __future__ import annotations
 
 import time
-from pathlib import Path
 
 import pytest
 
@@ -18,10 +17,8 @@ from optimizer.select import find_designs
 from optimizer.spec import Spec
 from optimizer.stage import Stage
 from optimizer.transistor import Transistor
+from tests.demo_job import DEMO, JOB
 
-DEMO = Path(__file__).resolve().parents[1] / "inventory" / "demo" / "drawer.csv"
-JOB = Spec(topology="common-emitter", gain=10, gain_tol=0.05, supply_v=12, load_ohms=22e3, source_ohms=1e3,
-           swing_pp=5, low_cut_hz=30, min_rin_ohms=8e3)
 
 
 @pytest.fixture(scope="module")

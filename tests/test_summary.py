@@ -3,12 +3,11 @@
 from __future__ import annotations
 
 from collections import Counter
-from pathlib import Path
 
 from inventory.drawer import Drawer
 from inventory.summary import parts_frame, per_location
+from tests.demo_job import DEMO
 
-DEMO = Path(__file__).resolve().parents[1] / "inventory" / "demo" / "drawer.csv"
 
 
 def test_per_location_matches_a_plain_count_of_the_demo_drawer():
