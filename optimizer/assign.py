@@ -24,6 +24,8 @@ from ortools.sat.python import cp_model
 from . import objective
 
 SEED = 20261201
+# The row column each objective level equals, when the level is a property of the row alone.
+ROW_COLUMNS = (None, "ge", "nsm", "nf", None, None)
 MAX_TIME_S = 20.0
 
 
@@ -35,6 +37,10 @@ class Choice:
     q: int
     row: int
     score: objective.Score
+
+    @property
+    def score_levels(self) -> tuple[int, ...]:
+        return tuple(self.score.__dict__.values())
 
 
 class Assignment:
@@ -123,9 +129,13 @@ class Assignment:
             (0, frac_hi + int(rows["fc"].max())),
         ]
         self.n_rows = n
+        self.allowed = np.ones(n, dtype=bool)
+        self.stock_qty = stock_qty
+        self.qlines = qlines
 
     def forbid(self, rows_idx):
         """Exclude these rows' (values, transistor) combinations from later solves."""
+        self.allowed[np.asarray(rows_idx, dtype=np.int64)] = False
         tuples = [[int(self._vidx[p][i]) for p in self.positions] + [int(self.rows["q"][i])] for i in rows_idx]
         self.model.add_forbidden_assignments(self.vars, tuples)
 
@@ -157,28 +167,64 @@ class Assignment:
             t.join()
 
     def stages(self):
-        """Consecutive levels merged into one weighted objective while the weights stay below 2^50."""
-        out, group, weight = [], [], 1
-        for k in reversed(range(len(self.levels))):
+        """Consecutive levels merged into weighted objectives, from the first level on, while the
+        weights stay below 2^50: [(level, weight), …] per stage.  Leading levels first keeps the
+        row-level terms in the first stage, which `solve` relies on to shrink the later ones."""
+        out, group, prod = [], [], 1
+        for k in range(len(self.levels)):
             lo, hi = self.bounds[k]
             span = hi - lo + 1
-            if group and weight * span > 2**50:
+            if group and prod * span > 2**50:
                 out.append(group)
-                group, weight = [], 1
-            group.insert(0, (k, weight))
-            weight *= span
+                group, prod = [], 1
+            group.append(k)
+            prod *= span
         out.append(group)
-        return list(reversed(out))
+        staged = []
+        for group in out:
+            weights, w = {}, 1
+            for k in reversed(group):
+                weights[k] = w
+                w *= self.bounds[k][1] - self.bounds[k][0] + 1
+            staged.append([(k, weights[k]) for k in group])
+        return staged
 
     def solve(self) -> Choice | None:
-        """The lexicographic optimum, or None when no row can be realised from the stock."""
-        # Each stage's optimum is held by a constraint enforced through an assumption literal,
-        # so the next design (assumptions cleared) starts from the full problem again.
+        """The lexicographic optimum, or None when no row can be realised from the stock.
+
+        The first stage runs on the whole model.  Its optimum fixes the row-level terms
+        (gain error, swing margin, capacitance), so the later stages run on a fresh model
+        of only the rows that share them, held at the first stage's values: the same
+        optimum over far fewer rows, which is what keeps the stock terms quick.
+        """
+        groups = self.stages()
+        got = self._solve_stages(groups[:1])
+        if got is None or len(groups) == 1:
+            return got
+        values = {k: got.score_levels[k] for k, _ in groups[0]}
+        mask = self.allowed.copy()
+        for k, v in values.items():
+            if ROW_COLUMNS[k] is not None:
+                mask &= self.rows[ROW_COLUMNS[k]] == v
+        idx = np.flatnonzero(mask)
+        sub = Assignment(self.positions, {k: v[idx] for k, v in self.rows.items()}, self.pool, self.stock_qty,
+                         self.qlines, cancel=self.cancel)
+        for k, v in values.items():
+            sub.model.add(sub.levels[k] == v)
+        c = sub._solve_stages(sub.stages())
+        self.stopped = sub.stopped
+        if c is None:  # cannot happen unless cancelled: the first stage's design is in the sub-model
+            return None
+        return Choice(c.networks, c.q, int(idx[c.row]), c.score)
+
+    def _solve_stages(self, groups) -> Choice | None:
+        # Each stage's optimum is held through an assumption literal, so the model
+        # (assumptions cleared) can serve the next design from the full problem again.
         model = self.model
         model.clear_assumptions()
         held = []
         solver = None
-        for group in self.stages():
+        for group in groups:
             expr = sum(w * (self.levels[k] - self.bounds[k][0]) for k, w in group)
             model.clear_objective()
             model.minimize(expr)
@@ -187,8 +233,11 @@ class Assignment:
             if self.stopped or status not in (cp_model.OPTIMAL, cp_model.FEASIBLE):
                 model.clear_assumptions()
                 return None
+            # Each level of the stage is held at its value (not only their weighted sum):
+            # equalities propagate to the row and network choices.
             lit = model.new_bool_var(f"stage[{len(held)}]")
-            model.add(expr <= int(round(solver.objective_value))).only_enforce_if(lit)
+            for k, _ in group:
+                model.add(self.levels[k] == int(solver.value(self.levels[k]))).only_enforce_if(lit)
             held.append(lit)
             model.clear_assumptions()
             model.add_assumptions(held)

@@ -1,18 +1,23 @@
 """Coupling and bypass capacitors: the exact, cheap choice for one resistor tuple and transistor.
 
-The low cut-off test is vectorised: the midband nodal solve of smallsignal.py
-takes complex conductances, so CIN in series with RS, COUT in series with RL and
-CE across RE2 enter as impedances 1/(jωC) and |H(j·2π·f_cut)| is evaluated for
-many capacitor combinations at once.  f_low ≤ f_cut exactly when
-|H(f_cut)| ≥ |H_mid|/√2, the response of these high-pass networks rising
-monotonically with frequency; and f_low falls as any capacitance grows, so an
-option too small even with the other positions at their largest is dropped.
+Among the combinations (one option of capacitors.py per position) that meet the
+low cut-off at hFE min and max (lowcut.py), within stock, with every part rated
+≥ CAP_VOLTAGE_MARGIN × the DC across it, the choice is the lexicographic minimum
+of (parts, total nF, lines emptied, Σ used/qty), ties to the first profile and
+the lowest option indices: the capacitor share of the design objective, which is
+separable because capacitors never share drawer lines with resistors or
+transistors.
 
-Among the combinations that pass at hFE min and max, within stock, with every
-part rated ≥ CAP_VOLTAGE_MARGIN × the DC across it, the choice is the lexicographic
-minimum of (parts, total nF, lines emptied, Σ used/qty): the capacitor share of the
-design objective, which is separable because capacitors never share drawer lines
-with resistors or transistors.
+How it stays cheap and exact:
+  * f_low falls as any capacitance grows, so an option too small even with the
+    other positions at their largest cannot serve (dropped first);
+  * the search runs by total parts, then per part-count profile over *distinct
+    values*, not options (many lines share a value);
+  * a greedy feasible tuple (each position in turn at its smallest value that
+    passes with the later ones at their largest) bounds the total capacitance,
+    so a value that would push any tuple past the bound is left out;
+  * the bound comes from values alone, so when stock rules out every tuple
+    within it the profile is searched again without it.
 """
 
 from __future__ import annotations
@@ -22,69 +27,13 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from . import objective, smallsignal
-from .bias import thevenin
-from .stage import COLLECTOR_FEEDBACK, EMITTER_FOLLOWER
+from . import objective
+from .lowcut import LowCut
+from .stage import EMITTER_FOLLOWER
 
 CAP_VOLTAGE_MARGIN = 1.5  # rating ≥ 1.5 × the DC across the part (common practice, no source)
 CAP_POSITIONS = ("CIN", "COUT", "CE")
-SHORT = smallsignal.SHORT_S
-HALF_POWER = 0.5
-
-
-def _y(row, corner):
-    gm, gpi, gmu, go = (np.asarray(row[f"{corner}_{k}"]) for k in ("gm", "gpi", "gmu", "go"))
-    return gpi, gmu, gm + go, -go - gmu  # inverse of smallsignal.hybrid_pi
-
-
-def _inv(z):
-    z = np.asarray(z, dtype=complex)
-    return np.where(z == 0, SHORT, 1.0 / np.where(z == 0, 1.0, z))
-
-
-def transfer(topology, r, y, rs, rl, omega, cin, cout, ce):
-    """Complex gain load voltage / source EMF (broadcast arrays); C = inf is a short, ω in rad/s."""
-    def zc(c):
-        c = np.asarray(c, dtype=float)
-        return np.where(np.isinf(c), 0.0, 1.0 / (1j * omega * np.where(np.isinf(c), 1.0, c)))
-
-    r = {k: np.asarray(v, dtype=float) for k, v in r.items()}
-    g_source = _inv(rs + zc(cin))
-    if topology == COLLECTOR_FEEDBACK:
-        g_bias, g_fb = 0.0, 1.0 / r["RB"]
-    else:
-        g_bias, g_fb = 1.0 / thevenin(1.0, r["R1"], r["R2"])[1], 0.0
-    if topology == EMITTER_FOLLOWER:
-        g_coll, g_emit, out = SHORT, 1.0 / r["RE"], "e"
-    else:
-        re2 = r["RE2"]
-        zce = _parallel_rc(re2, ce, omega)
-        g_coll, g_emit, out = 1.0 / r["RC"], _inv(r["RE1"] + zce), "c"
-    g_load = 1.0 / (rl + zc(cout))
-    ss = smallsignal.midband(y, g_source=g_source, g_bias=g_bias, g_feedback=g_fb, g_collector=g_coll,
-                             g_emitter=g_emit, g_load=g_load, output=out)
-    return ss["gain"] * rl * g_load
-
-
-def _parallel_rc(r, c, omega):
-    """R ‖ C impedance (Ω); C = inf → 0 (bypassed), R = 0 → 0."""
-    c = np.asarray(c, dtype=float)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        z = r / (1.0 + 1j * omega * r * np.where(np.isinf(c), 1.0, c))
-    return np.where(np.isinf(c) | (r == 0), 0.0, z)
-
-
-def meets_low_cut(topology, row, spec, cin, cout, ce):
-    """Bool array: f_low ≤ spec.low_cut_hz at both hFE corners for the capacitor arrays given."""
-    r = {k: row[k] for k in ("R1", "R2", "RC", "RE1", "RE2", "RE", "RB") if k in row}
-    w = 2 * np.pi * spec.low_cut_hz
-    ok = True
-    for corner in ("min", "max"):
-        y = _y(row, corner)
-        h = transfer(topology, r, y, spec.source_ohms, spec.load_ohms, w, cin, cout, ce)
-        hm = transfer(topology, r, y, spec.source_ohms, spec.load_ohms, w, np.inf, np.inf, np.inf)
-        ok = ok & (np.abs(h) ** 2 >= HALF_POWER * np.abs(hm) ** 2)
-    return np.asarray(ok)
+GRID_CHUNK = 200_000  # value combinations tested per call
 
 
 def dc_across(topology, row) -> dict[str, float]:
@@ -126,47 +75,182 @@ def option_usage(options, idx: np.ndarray, n_stock: int) -> np.ndarray:
     return u
 
 
+def _distinct_values(options):
+    """(distinct capacitances F, index of each option's value in them); options are sorted by value."""
+    got = getattr(options, "_distinct_cache", None)
+    if got is None:
+        v = options.value
+        new = np.ones(len(v), dtype=bool)
+        new[1:] = v[1:] != v[:-1]
+        got = (v[new], np.cumsum(new) - 1)
+        options._distinct_cache = got
+    return got
+
+
+class _Row:
+    """One row's capacitor problem: candidate options per position and the low cut-off test."""
+
+    def __init__(self, topology, row, spec, options, stock_qty):
+        self.pos = positions_for(row)
+        self.options = options
+        self.qty = np.asarray(stock_qty, dtype=np.int64)
+        # objective.line_weight, vectorised (np.rint and round() both round half to even)
+        self.weights = np.where(self.qty > 0, np.rint(objective.FRAC_SCALE / np.maximum(self.qty, 1)), 0
+                                ).astype(np.int64)
+        self.test = LowCut(topology, row, spec)
+        self.dv, self.vidx = _distinct_values(options)
+        vdc = dc_across(topology, row)
+        self.cand = {p: usable(options, vdc[p]) for p in self.pos}
+
+    def passes(self, vals: dict) -> np.ndarray:
+        return self.test(*(vals.get(q, np.inf) for q in CAP_POSITIONS))
+
+    def smallest(self, p, values, others) -> int | None:
+        """Index into sorted `values` of the smallest that passes at p with the others fixed, or None."""
+        ok = self.passes({**others, p: values})
+        return int(np.argmax(ok)) if ok.any() else None
+
+    def values(self, p, parts: int) -> np.ndarray:
+        """Sorted distinct values of p's candidates made of `parts` parts."""
+        c = self.cand[p]
+        present = np.zeros(len(self.dv), dtype=bool)
+        present[self.vidx[c[self.options.parts[c] == parts]]] = True
+        return self.dv[present]
+
+    def drop_too_small(self) -> bool:
+        """Keep the options that pass with every other position at its largest; False if one runs out."""
+        big = {p: self.options.value[self.cand[p]].max() for p in self.pos}
+        for p in self.pos:
+            present = np.zeros(len(self.dv), dtype=bool)
+            present[self.vidx[self.cand[p]]] = True
+            idx = np.flatnonzero(present)
+            ok = np.zeros(len(self.dv), dtype=bool)
+            ok[idx] = self.passes({**big, p: self.dv[idx]})
+            self.cand[p] = self.cand[p][ok[self.vidx[self.cand[p]]]]
+            if len(self.cand[p]) == 0:
+                return False
+        return True
+
+
+def _grid_under(vals, bound):
+    """Chunks [n, P] of the value mesh (first position major) whose total is ≤ bound."""
+    rest = int(np.prod([len(v) for v in vals[1:]]))
+    step = max(1, GRID_CHUNK // max(1, rest))
+    for s in range(0, len(vals[0]), step):
+        mesh = np.stack([m.ravel() for m in np.meshgrid(vals[0][s:s + step], *vals[1:], indexing="ij")], axis=1)
+        mesh = mesh[mesh.sum(axis=1) <= bound]
+        if len(mesh):
+            yield mesh
+
+
+def _profile_tuples(cr: _Row, prof, scale: float):
+    """Passing distinct-value tuples of one part-count profile with total ≤ the bound.
+
+    Returns (values [n, P], totals F [n], bound F, complete) or None.  The bound is
+    scale × the greedy tuple's total, plus 1 nF so the greedy tuple's own nF level is
+    whole; complete: the bound reaches every tuple of the profile.
+    """
+    vals = [cr.values(p, k) for p, k in zip(cr.pos, prof, strict=True)]
+    if any(len(v) == 0 for v in vals):
+        return None
+    top = {p: v[-1] for p, v in zip(cr.pos, vals, strict=True)}
+    fixed = dict(top)
+    for i, p in enumerate(cr.pos):  # greedy; feasible by construction once the first step is
+        k = cr.smallest(p, vals[i], fixed)
+        if k is None:
+            return None
+        fixed[p] = vals[i][k]
+    lo = [vals[i][cr.smallest(p, vals[i], top)] for i, p in enumerate(cr.pos)]
+    bound = scale * sum(fixed.values()) + objective.NF
+    complete = bound >= sum(top.values())
+    # Every passing tuple has each value ≥ its lo, so within the bound value i ≤ bound − Σ other lo.
+    vals = [v[(v >= lo[i]) & (v <= bound - (sum(lo) - lo[i]))] for i, v in enumerate(vals)]
+    found, totals = [], []
+    for mesh in _grid_under(vals, bound):
+        ok = cr.passes({p: mesh[:, i] for i, p in enumerate(cr.pos)})
+        found.append(mesh[ok])
+        totals.append(mesh[ok].sum(axis=1))
+    if not found:
+        return np.zeros((0, len(vals))), np.zeros(0), bound, complete
+    return np.concatenate(found), np.concatenate(totals), bound, complete
+
+
+def _lines(cr: _Row, prof, values):
+    """The best (emptied, frac, options) realising one value tuple within stock, or None.
+
+    Among ties the first in option order (the mesh is position-major over sorted indices).
+    """
+    opts = cr.options
+    sets = []
+    for p, k, v in zip(cr.pos, prof, values, strict=True):
+        c = cr.cand[p]
+        sets.append(c[(opts.parts[c] == k) & (opts.value[c] == v)])
+    mesh = [m.ravel() for m in np.meshgrid(*sets, indexing="ij")]
+    members = np.concatenate([opts.members[m] for m in mesh], axis=1)  # [n, 2·P] stock rows, −1 padding
+    rows, local = np.unique(members, return_inverse=True)
+    local = local.reshape(members.shape)
+    use = np.zeros((len(mesh[0]), len(rows)), dtype=np.int64)
+    for c in range(members.shape[1]):
+        np.add.at(use, (np.arange(len(use)), local[:, c]), 1)
+    if rows[0] < 0:  # the padding column
+        rows, use = rows[1:], use[:, 1:]
+    qty, w = cr.qty[rows], cr.weights[rows]
+    fit = np.flatnonzero((use <= qty).all(axis=1))
+    if not len(fit):
+        return None
+    emptied = ((use[fit] >= qty) & (use[fit] > 0)).sum(axis=1)
+    frac = use[fit] @ w
+    j = np.lexsort((frac, emptied))[0]
+    k = fit[j]
+    return int(emptied[j]), int(frac[j]), {p: int(m[k]) for p, m in zip(cr.pos, mesh, strict=True)}
+
+
+def _best_of_total(cr: _Row, profs):
+    """The best CapChoice whose parts number sum(profile) for the profiles given, or None.
+
+    Levels of total nF are taken in order while every profile's bound covers them;
+    when stock rules out all of those, the bounds grow fourfold and the search repeats.
+    """
+    scale = 1.0
+    while True:
+        found, limit, complete = [], np.inf, True
+        for rank, prof in enumerate(profs):
+            got = _profile_tuples(cr, prof, scale)
+            if got is None:
+                continue
+            mesh, total, bound, whole = got
+            limit, complete = min(limit, bound), complete and whole
+            nf = np.rint(total / objective.NF).astype(np.int64)
+            found += [(int(n), rank, prof, tuple(v)) for n, v in zip(nf, mesh, strict=True)]
+        found.sort(key=lambda f: (f[0], f[1]))
+        best = None
+        for nf, rank, prof, values in found:
+            if best is not None and nf > best[0][0]:
+                break
+            if not complete and (nf + 0.5) * objective.NF > limit:
+                break  # this nF level may have tuples beyond a bound
+            got = _lines(cr, prof, values)
+            if got is None:
+                continue
+            emptied, frac, opt = got
+            key = (nf, emptied, frac, rank, tuple(opt[p] for p in cr.pos))
+            if best is None or key < best[0]:
+                best = (key, CapChoice(opt, sum(prof), emptied, frac, nf))
+        if best is not None:
+            return best[1]
+        if complete:
+            return None
+        scale *= 4.0
+
+
 def choose(topology, row, spec, options, stock_qty: np.ndarray) -> CapChoice | None:
     """The best capacitor combination for one row (dict of scalars), or None when none fits."""
-    pos = positions_for(row)
-    vdc = dc_across(topology, row)
-    cand = {p: usable(options, vdc[p]) for p in pos}
-    if any(len(c) == 0 for c in cand.values()):
+    cr = _Row(topology, row, spec, options, stock_qty)
+    if any(len(c) == 0 for c in cr.cand.values()) or not cr.drop_too_small():
         return None
-    big = {p: options.value[cand[p]].max() for p in pos}
-    args = {"CIN": np.inf, "COUT": np.inf, "CE": np.inf}
-    for p in pos:  # monotone: drop options too small even with the rest at their largest
-        trial = {q: (options.value[cand[q]] if q == p else big[q]) for q in pos}
-        ok = meets_low_cut(topology, row, spec, *(trial.get(q, args[q]) for q in ("CIN", "COUT", "CE")))
-        cand[p] = cand[p][np.broadcast_to(ok, cand[p].shape)]
-        if len(cand[p]) == 0:
-            return None
-    n_stock = len(stock_qty)
-    weights = np.array([objective.line_weight(q) if q > 0 else 0 for q in stock_qty])
-    by_parts = {p: {k: cand[p][options.parts[cand[p]] == k] for k in (1, 2)} for p in pos}
-    profiles = sorted(itertools.product((1, 2), repeat=len(pos)), key=sum)
-    for total, group in itertools.groupby(profiles, key=sum):
-        best = None
-        for prof in group:
-            sets = [by_parts[p][k] for p, k in zip(pos, prof, strict=True)]
-            if any(len(s) == 0 for s in sets):
-                continue
-            mesh = [m.ravel() for m in np.meshgrid(*sets, indexing="ij")]
-            use = sum(option_usage(options, m, n_stock) for m in mesh)
-            fit = (use <= stock_qty).all(axis=1)
-            vals = {p: options.value[m] for p, m in zip(pos, mesh, strict=True)}
-            fit &= meets_low_cut(topology, row, spec, *(vals.get(q, np.inf) for q in ("CIN", "COUT", "CE")))
-            if not fit.any():
-                continue
-            emptied = ((use >= stock_qty) & (use > 0)).sum(axis=1)
-            frac = use @ weights
-            nf = np.rint(sum(vals.values()) / objective.NF).astype(np.int64)
-            f = np.flatnonzero(fit)
-            k = f[np.lexsort((frac[f], emptied[f], nf[f]))[0]]
-            c = CapChoice({p: int(m[k]) for p, m in zip(pos, mesh, strict=True)}, total,
-                          int(emptied[k]), int(frac[k]), int(nf[k]))
-            if best is None or c.key < best.key:
-                best = c
-        if best is not None:
-            return best
+    profiles = sorted(itertools.product((1, 2), repeat=len(cr.pos)), key=sum)
+    for _, group in itertools.groupby(profiles, key=sum):
+        got = _best_of_total(cr, list(group))
+        if got is not None:
+            return got
     return None

@@ -26,49 +26,70 @@ from . import swing as loadline
 
 BRACKET_SLACK = 0.01  # widen [IC_lo, IC_hi] by 1 % each way: rounding, reverse-diode terms, gm ≈ IC/Vt
 NEWTON_STEPS = 60
+CONTRACTIONS = 3  # bound pairs from the resistor map; each shrinks a bracket by (Vt / resistor drop)²
 REVERSE_DIODE_V = 0.25  # IS·exp(0.25/Vt) is ~1e-10 of a milliamp collector current
 
 
-def _root_ibe(vth, rth, re, bf, k, is_a, vt):
-    """IBE (A) solving RTH·IBE/BF + Vt·ln(1 + IBE/IS) + RE·IBE·(1/BF + k) = VTH (vectorised).
+def ibe_bracket(vth, rth, re, bf, k, is_a, vt, steps=CONTRACTIONS):
+    """(low, high) bounds (A) on the IBE solving RTH·IBE/BF + Vt·ln(1 + IBE/IS) + RE·IBE·(1/BF + k) = VTH.
 
-    Newton in ln(IBE) from the right of the root: the left side is increasing and
-    convex in ln(IBE), so the iterates fall monotonically onto the root.
+    With a = RTH/BF + RE·(1/BF + k) the root is the fixed point of the decreasing map
+    T(x) = (VTH − Vt·ln(1 + x/IS))/a, which turns a bound from above into one from below
+    and back; VBE ≥ 0 gives the first upper bound VTH/a.  T contracts by Vt/(a·x), so a
+    few steps close the bracket wherever the resistors drop more than a few Vt; the rest
+    (starved stages) are closed by Newton from above.  Every iterate is a true bound.
     """
     vth, rth, re, k = np.broadcast_arrays(vth, rth, re, k)
-    a = (rth / bf + re * (1.0 / bf + k)).ravel()  # Ω
-    v = vth.ravel()
-    start = np.minimum(v / a, is_a * np.expm1(np.minimum(v / vt, 700.0)))  # each term alone reaches VTH
-    lx = np.log(np.maximum(start, 1e-300))
-    live = np.arange(lx.size)
+    a = rth / bf + re * (1.0 / bf + k)  # Ω
+    hi = np.minimum(vth / a, is_a * np.expm1(np.minimum(vth / vt, 700.0)))  # each term alone reaches VTH
+    lo = np.zeros_like(hi)
+    for _ in range(steps):
+        lo = np.maximum(lo, (vth - vt * np.log1p(hi / is_a)) / a)
+        hi = np.minimum(hi, (vth - vt * np.log1p(lo / is_a)) / a)
+    _newton_from_above(lo, hi, a, vth, is_a, vt)
+    return lo, hi
+
+
+def _newton_from_above(lo, hi, a, vth, is_a, vt):
+    """Close the brackets still open (resistor drop ≈ Vt), in place.
+
+    f(L) = a·e^L + Vt·ln(1 + e^L/IS) − VTH is increasing and convex in L = ln x, so
+    Newton steps from an upper bound stay upper bounds and fall onto the root; the
+    contracting map of the last one gives the lower bound.
+    """
+    live = np.flatnonzero(hi - lo > 1e-9 * hi)
+    if not len(live):
+        return
+    av, v = a.ravel()[live], vth.ravel()[live]
+    x = hi.ravel()[live]
     for _ in range(NEWTON_STEPS):
-        x = np.exp(lx[live])
-        al = a[live]
-        f = al * x + vt * np.log1p(x / is_a) - v[live]
-        step = f / (al * x + vt * x / (is_a + x))  # f / (d f / d ln x)
-        lx[live] -= step
-        live = live[np.abs(step) >= 1e-11]
-        if live.size == 0:
+        f = av * x + vt * np.log1p(x / is_a) - v
+        step = f / (av * x + vt * x / (is_a + x))  # f / (df/dL) ≥ 0 from above
+        x = x * np.exp(-np.maximum(step, 0.0))
+        if np.all(np.abs(step) < 1e-12):
             break
-    return np.exp(lx).reshape(vth.shape)
+    by_t = av * (is_a + x) >= vt
+    low = np.where(by_t, (v - vt * np.log1p(x / is_a)) / av, is_a * np.expm1(np.minimum((v - av * x) / vt, 700.0)))
+    hi.ravel()[live] = np.minimum(hi.ravel()[live], x)
+    lo.ravel()[live] = np.maximum(lo.ravel()[live], low)
 
 
 def ic_bracket(vth, rth, re, *, bf, is_a, vaf_v, vt, supply_v, vce_min):
-    """(IC_lo, IC_hi) in amperes over every RC giving VCE ≥ vce_min (V), from one root.
+    """(IC_lo, IC_hi) in amperes over every RC giving VCE ≥ vce_min (V).
 
-    x(k) (the IBE root) falls and IC(k) = k·x(k) rises with k, so with x_hi = x(k_hi):
-    IC ≤ k_hi·x_hi;  IC ≥ k_lo·x(k_lo) ≥ k_lo·x_hi;  and x(k) ≤ x_hi·k_hi/k for the VBE bound.
-    When VBC could exceed REVERSE_DIODE_V the base–collector diode may carry real
-    current, and no lower bound is claimed (IC_lo = 0).
+    The IBE root x(k) falls and IC(k) = k·x(k) rises with the Early factor k, so with
+    [x_lo, x_hi] bracketing x(k_hi): IC ≤ k_hi·x_hi;  IC ≥ k_lo·x(k_lo) ≥ k_lo·x_lo;  and
+    x(k) ≤ x_hi·k_hi/k for the VBE bound.  When VBC could exceed REVERSE_DIODE_V the
+    base–collector diode may carry real current, and no lower bound is claimed (IC_lo = 0).
     """
     vaf = float(vaf_v)
     k_hi = 1.0 + supply_v / vaf
     k_floor = 1.0 - 1.0 / vaf  # VBC ≤ 1 V: a first, safe floor for k
-    x_hi = _root_ibe(vth, rth, re, bf, k_hi, is_a, vt)
+    x_lo, x_hi = ibe_bracket(vth, rth, re, bf, k_hi, is_a, vt)
     vbe_hi = vt * np.log1p(x_hi * (k_hi / k_floor) / is_a)
     vbc_max = vbe_hi - vce_min
     k_lo = 1.0 - np.maximum(vbc_max, 0.0) / vaf
-    ic_lo = np.where(vbc_max <= REVERSE_DIODE_V, k_lo * x_hi, 0.0)
+    ic_lo = np.where(vbc_max <= REVERSE_DIODE_V, k_lo * x_lo, 0.0)
     return ic_lo * (1 - BRACKET_SLACK), k_hi * x_hi * (1 + BRACKET_SLACK)
 
 

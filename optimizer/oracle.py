@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from . import capchoice, objective
+from . import capchoice, lowcut, objective
 from .candidates import OPTIONAL, POSITIONS, WINDOW_OHMS
 from .capacitors import capacitor_options
 from .feasible import check
@@ -50,7 +50,7 @@ def _best_caps(topology, row, spec, opts, qty, weights):
             np.add.at(use, (np.flatnonzero(has), r[has]), 1)
     ok &= (use <= qty).all(axis=1)
     vals = {p: opts.value[m] for p, m in zip(pos, mesh, strict=True)}
-    ok &= capchoice.meets_low_cut(topology, row, spec, *(vals.get(q, np.inf) for q in capchoice.CAP_POSITIONS))
+    ok &= lowcut.meets_low_cut(topology, row, spec, *(vals.get(q, np.inf) for q in capchoice.CAP_POSITIONS))
     if not ok.any():
         return None
     parts = sum(opts.parts[m].astype(np.int64) for m in mesh)

@@ -46,6 +46,7 @@ class Solution:
     options: object = None
     qlines: list = field(default_factory=list)
     cap_failures: list = field(default_factory=list)  # rows that met the rest but found no capacitors
+    cap_cache: dict = field(default_factory=dict)  # (values, transistor model) → capchoice.CapChoice | None
     stock_bound: bool = False
     exhaustive: bool = True
     budget: int = 0
@@ -56,13 +57,17 @@ def _row_dict(rows, i):
     return {k: (v[i] if np.ndim(v) else v) for k, v in rows.items()}
 
 
-def _add_caps(topology, rows, spec, options, cap_qty, q_unused, sol):
+def _add_caps(topology, rows, spec, options, cap_qty, positions, sol):
     keep, extra = [], {k: [] for k in ("pc", "ec", "fc", "nf", "opt_CIN", "opt_COUT", "opt_CE")}
     n = len(rows["ge"])
     for i in range(n):
         row = _row_dict(rows, i)
         q = sol.qlines[int(row["q"])]
-        c = capchoice.choose(topology, row, spec, options, cap_qty) if len(options) else None
+        # Lines of one transistor type share the physics, so their rows share the capacitors.
+        key = (tuple(float(row[p]) for p in positions), q.transistor)
+        if key not in sol.cap_cache:
+            sol.cap_cache[key] = capchoice.choose(topology, row, spec, options, cap_qty) if len(options) else None
+        c = sol.cap_cache[key]
         if c is None:
             if len(sol.cap_failures) < 50:
                 sol.cap_failures.append((row, q))
@@ -132,7 +137,7 @@ def search(rstock, cstock, qlines, spec, *, top=3, depth=3, progress=None, cance
         if n_rows and n_rows != last_rows:
             last_rows = n_rows
             sol.designs = _top(positions, concat(rows_all), sol, spec, top, cancel, accept,
-                               lambda r, _: _add_caps(topology, r, spec, options, cap_qty, None, sol))
+                               lambda r, _: _add_caps(topology, r, spec, options, cap_qty, positions, sol))
         if len(sol.designs) >= top and sol.designs[-1][0].score.parts <= budget + MIN_CAPS + 1:
             break
         if not sol.exhaustive:

@@ -74,11 +74,8 @@ def midband(y, *, g_source, g_bias, g_feedback, g_collector, g_emitter, g_load, 
     while the off-diagonal cofactor C_bo does not contain either diagonal.
     """
     o = {"c": 1, "e": 2}[output]
-    k = 3 - o  # the node that is neither base nor output
     a = _matrix(y, g_bias, g_feedback, g_collector, g_emitter)
-    det0 = _det(a)
-    c_bb, c_oo, c_bo = _cofactor(a, 0, 0), _cofactor(a, o, o), _cofactor(a, 0, o)
-    a_kk = a[k][k]
+    det0, c_bb, c_oo, c_bo, a_kk = _terms(a, o)
     gs, gl = g_source, g_load
     det_full = det0 + gs * c_bb + gl * c_oo + gs * gl * a_kk
     gain = gs * c_bo / det_full
@@ -87,6 +84,23 @@ def midband(y, *, g_source, g_bias, g_feedback, g_collector, g_emitter, g_load, 
     # Base-to-collector gain vc/vb with the source driving the base (collector output only).
     a_bc = _cofactor(a, 0, 1) / (c_bb + gl * a_kk) if o == 1 else np.nan
     return {"gain": gain, "rin": rin, "rout": rout, "gain_base_to_collector": a_bc}
+
+
+def _terms(a, o):
+    k = 3 - o  # the node that is neither base nor output
+    return _det(a), _cofactor(a, 0, 0), _cofactor(a, o, o), _cofactor(a, 0, o), a[k][k]
+
+
+def source_load_terms(y, *, g_bias, g_feedback, g_collector, g_emitter, output):
+    """(det0, C_bb, C_oo, C_bo, a_kk) of the stage without source and load (see `midband`).
+
+    With them the gain for any source and load conductances gs, gl is
+    gs·C_bo / (det0 + gs·C_bb + gl·C_oo + gs·gl·a_kk): a few products, so a
+    search over coupling capacitors (which enter only gs and gl) needs one solve
+    per emitter conductance, not one per combination.
+    """
+    a = _matrix(y, g_bias, g_feedback, g_collector, g_emitter)
+    return _terms(a, {"c": 1, "e": 2}[output])
 
 
 def parallel(*ohms):
