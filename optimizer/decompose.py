@@ -27,10 +27,11 @@ from . import swing as loadline
 BRACKET_SLACK = 0.01  # widen [IC_lo, IC_hi] by 1 % each way: rounding, reverse-diode terms, gm ≈ IC/Vt
 NEWTON_STEPS = 60
 CONTRACTIONS = 3  # bound pairs from the resistor map; each shrinks a bracket by (Vt / resistor drop)²
+BRACKET_WIDTH = 1e-4  # relative width the IBE bracket is closed to (BRACKET_SLACK dwarfs it)
 REVERSE_DIODE_V = 0.25  # IS·exp(0.25/Vt) is ~1e-10 of a milliamp collector current
 
 
-def ibe_bracket(vth, rth, re, bf, k, is_a, vt, steps=CONTRACTIONS):
+def ibe_bracket(vth, rth, re, bf, k, is_a, vt, steps=CONTRACTIONS, close=True):
     """(low, high) bounds (A) on the IBE solving RTH·IBE/BF + Vt·ln(1 + IBE/IS) + RE·IBE·(1/BF + k) = VTH.
 
     With a = RTH/BF + RE·(1/BF + k) the root is the fixed point of the decreasing map
@@ -46,7 +47,8 @@ def ibe_bracket(vth, rth, re, bf, k, is_a, vt, steps=CONTRACTIONS):
     for _ in range(steps):
         lo = np.maximum(lo, (vth - vt * np.log1p(hi / is_a)) / a)
         hi = np.minimum(hi, (vth - vt * np.log1p(lo / is_a)) / a)
-    _newton_from_above(lo, hi, a, vth, is_a, vt)
+    if close:
+        _newton_from_above(lo, hi, a, vth, is_a, vt)
     return lo, hi
 
 
@@ -57,7 +59,7 @@ def _newton_from_above(lo, hi, a, vth, is_a, vt):
     Newton steps from an upper bound stay upper bounds and fall onto the root; the
     contracting map of the last one gives the lower bound.
     """
-    live = np.flatnonzero(hi - lo > 1e-9 * hi)
+    live = np.flatnonzero(hi - lo > BRACKET_WIDTH * hi)
     if not len(live):
         return
     av, v = a.ravel()[live], vth.ravel()[live]
@@ -74,8 +76,11 @@ def _newton_from_above(lo, hi, a, vth, is_a, vt):
     lo.ravel()[live] = np.maximum(lo.ravel()[live], low)
 
 
-def ic_bracket(vth, rth, re, *, bf, is_a, vaf_v, vt, supply_v, vce_min):
+def ic_bracket(vth, rth, re, *, bf, is_a, vaf_v, vt, supply_v, vce_min, steps=None):
     """(IC_lo, IC_hi) in amperes over every RC giving VCE ≥ vce_min (V).
+
+    steps: contraction steps of ibe_bracket; given, the bracket is left as they leave it
+    (true, cheaper, looser); by default it is closed to BRACKET_WIDTH.
 
     The IBE root x(k) falls and IC(k) = k·x(k) rises with the Early factor k, so with
     [x_lo, x_hi] bracketing x(k_hi): IC ≤ k_hi·x_hi;  IC ≥ k_lo·x(k_lo) ≥ k_lo·x_lo;  and
@@ -85,7 +90,8 @@ def ic_bracket(vth, rth, re, *, bf, is_a, vaf_v, vt, supply_v, vce_min):
     vaf = float(vaf_v)
     k_hi = 1.0 + supply_v / vaf
     k_floor = 1.0 - 1.0 / vaf  # VBC ≤ 1 V: a first, safe floor for k
-    x_lo, x_hi = ibe_bracket(vth, rth, re, bf, k_hi, is_a, vt)
+    x_lo, x_hi = (ibe_bracket(vth, rth, re, bf, k_hi, is_a, vt) if steps is None else
+                  ibe_bracket(vth, rth, re, bf, k_hi, is_a, vt, steps=steps, close=False))
     vbe_hi = vt * np.log1p(x_hi * (k_hi / k_floor) / is_a)
     vbc_max = vbe_hi - vce_min
     k_lo = 1.0 - np.maximum(vbc_max, 0.0) / vaf
@@ -120,6 +126,17 @@ BLOCK = 1_000_000  # (divider pair × RE split) combinations per block
 GAIN_SAFETY = 0.03  # the gain bounds leave out ro feedback and gμ; 3 % covers them with room to spare
 
 
+def _rin(gm, beta, re1, rth):
+    """RTH ‖ (rπ + (β + 1)·RE1) with rπ = β/gm (Ω)."""
+    return 1.0 / (1.0 / rth + 1.0 / (beta / gm + (beta + 1.0) * re1))
+
+
+def rin_high(ic_lo, beta, re1, rth, vt):
+    """The Rin high bound of gain_bounds alone (Ω), for tests that need nothing else."""
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return _rin(ic_lo / vt * (1 - BRACKET_SLACK), beta, re1, rth) * (1 + GAIN_SAFETY)
+
+
 def gain_bounds(ic_lo, ic_hi, beta, rc, re1, rth, spec, vt, vaf_v):
     """(|gain| low, |gain| high, Rin high) bounds (V/V, Ω) of a common emitter with IC in [ic_lo, ic_hi].
 
@@ -130,7 +147,7 @@ def gain_bounds(ic_lo, ic_hi, beta, rc, re1, rth, spec, vt, vaf_v):
     rcl = rc * spec.load_ohms / (rc + spec.load_ohms)
     gm_lo, gm_hi = ic_lo / vt * (1 - BRACKET_SLACK), ic_hi / vt * (1 + BRACKET_SLACK)
     with np.errstate(divide="ignore", invalid="ignore"):
-        rin_hi = 1.0 / (1.0 / rth + 1.0 / (beta / gm_lo + (beta + 1.0) * re1))
+        rin_hi = _rin(gm_lo, beta, re1, rth)
         rin_lo = 1.0 / (1.0 / rth + 1.0 / (beta / gm_hi + (beta + 1.0) * re1))
         rs = spec.source_ohms
         d_hi, d_lo = rin_hi / (rin_hi + rs), rin_lo / (rin_lo + rs)
@@ -176,47 +193,67 @@ def _mesh_slices(a, b):
         yield (m.ravel() for m in np.meshgrid(a[c:c + per], b, indexing="ij"))
 
 
+def _rc_window(brackets, betas, re1_lo, re1_hi, u, rth, spec, vt):
+    """[RC_lo, RC_hi] (Ω) for IC brackets at each hFE corner, an empty window where Rin must fall short.
+
+    re1_lo/re1_hi bound RE1 among the splits considered: the RC need grows with RE1 and the
+    Rin bound too, so the least RE1 gives the widest window and the largest one the best Rin.
+    """
+    lo = np.full(np.shape(brackets[0][0]), -np.inf)
+    hi = np.full_like(lo, np.inf)
+    for beta, (ic_lo, ic_hi) in zip(betas, brackets, strict=True):
+        a, z = rc_interval(ic_lo, ic_hi, re1_lo, u, spec, vt)
+        # Rin cannot exceed its high bound (RC does not enter it).
+        rin_hi = rin_high(ic_lo, beta, re1_hi, rth, vt)
+        lo = np.maximum(lo, a)
+        hi = np.minimum(hi, np.where(rin_hi >= spec.min_rin_ohms, z, -np.inf))
+    return lo, hi
+
+
 def _ce_block(r1, r2, re1, re2, rc, spec, transistor, betas, vce_min, emit):
     """ce_tuples for one slice of emitter pairs (re1[i], re2[i]) against every divider pair."""
     from .bias import thevenin
 
     u = re1 + re2
     uu, inv = np.unique(u, return_inverse=True)
+    by_u = np.argsort(inv, kind="stable")  # u entries grouped by their distinct total
+    u_start = np.searchsorted(inv[by_u], np.arange(len(uu)), "left")
+    u_stop = np.searchsorted(inv[by_u], np.arange(len(uu)), "right")
+    re1_min = np.minimum.reduceat(re1[by_u], u_start)
+    re1_max = np.maximum.reduceat(re1[by_u], u_start)
     vth, rth = thevenin(spec.supply_v, r1, r2)
-    is_a, _, _, vt = transistor.at(27.0)
-    vt = float(vt)
+    is_a, _, _, vt = (float(x) for x in transistor.at(27.0))
     g_min, g_max = spec.gain * (1 - spec.gain_tol), spec.gain * (1 + spec.gain_tol)
-    step = max(1, BLOCK // len(u))
+    kw = {"is_a": is_a, "vaf_v": transistor.vaf_v, "vt": vt, "supply_v": spec.supply_v, "vce_min": vce_min}
+    step = max(1, BLOCK // len(uu))
     for s in range(0, len(r1), step):
         b = slice(s, min(len(r1), s + step))
-        lo = np.full((b.stop - b.start, len(u)), -np.inf)
-        hi = np.full_like(lo, np.inf)
-        brackets = []
-        for beta in betas:
-            ic_lo, ic_hi = ic_bracket(vth[b, None], rth[b, None], uu[None, :], bf=beta, is_a=float(is_a),
-                                      vaf_v=transistor.vaf_v, vt=vt, supply_v=spec.supply_v,
-                                      vce_min=vce_min)
-            ic_lo, ic_hi = ic_lo[:, inv], ic_hi[:, inv]
-            a, z = rc_interval(ic_lo, ic_hi, re1[None, :], u[None, :], spec, vt)
-            # Rin cannot exceed its high bound (RC does not enter it).
-            _, _, rin_hi = gain_bounds(ic_lo, ic_hi, beta, 1.0, re1[None, :], rth[b, None], spec, vt,
-                                       transistor.vaf_v)
-            z = np.where(rin_hi >= spec.min_rin_ohms, z, -np.inf)
-            lo = np.maximum(lo, a)
-            hi = np.minimum(hi, z)
-            brackets.append((beta, ic_lo, ic_hi))
-        start = np.searchsorted(rc, lo.ravel(), "left")
-        stop = np.searchsorted(rc, hi.ravel(), "right")
+        # Coarse pass over every (divider, total): one contraction step gives true but looser
+        # brackets, and an RC window with no RC in it rules the pair out for every split.
+        coarse = [ic_bracket(vth[b, None], rth[b, None], uu[None, :], bf=beta, steps=1, **kw) for beta in betas]
+        lo, hi = _rc_window(coarse, betas, re1_min[None, :], re1_max[None, :], uu[None, :], rth[b, None], spec,
+                            vt)
+        d, ku = np.nonzero(np.searchsorted(rc, lo, "left") < np.searchsorted(rc, hi, "right"))
+        if not len(d):
+            continue
+        d = d + s
+        # Exact brackets on the pairs left, then out to every split with that total.
+        brackets = [ic_bracket(vth[d], rth[d], uu[ku], bf=beta, **kw) for beta in betas]
+        owner, j = ragged(u_start[ku], u_stop[ku])
+        d, k = d[owner], by_u[j]
+        brackets = [(lo_[owner], hi_[owner]) for lo_, hi_ in brackets]
+        lo, hi = _rc_window(brackets, betas, re1[k], re1[k], u[k], rth[d], spec, vt)
+        start = np.searchsorted(rc, lo, "left")
+        stop = np.searchsorted(rc, hi, "right")
         owner, idx = ragged(start, stop)
         if len(idx) == 0:
             continue
-        dl, k = owner // len(u), owner % len(u)
-        ok = np.ones(len(idx), dtype=bool)
-        for beta, ic_lo, ic_hi in brackets:
-            a_lo, a_hi, _ = gain_bounds(ic_lo[dl, k], ic_hi[dl, k], beta, rc[idx], re1[k], rth[b][dl], spec, vt,
-                                        transistor.vaf_v)
-            ok &= (a_lo <= g_max) & (a_hi >= g_min)
-        d = dl[ok] + s
-        k, idx = k[ok], idx[ok]
+        keep = np.ones(len(idx), dtype=bool)
+        for beta, (ic_lo, ic_hi) in zip(betas, brackets, strict=True):
+            a_lo, a_hi, _ = gain_bounds(ic_lo[owner], ic_hi[owner], beta, rc[idx], re1[k[owner]], rth[d[owner]],
+                                        spec, vt, transistor.vaf_v)
+            keep &= (a_lo <= g_max) & (a_hi >= g_min)
+        owner, idx = owner[keep], idx[keep]
         if len(idx):
-            emit({"R1": r1[d], "R2": r2[d], "RC": rc[idx], "RE1": re1[k], "RE2": re2[k]})
+            dd, kk = d[owner], k[owner]
+            emit({"R1": r1[dd], "R2": r2[dd], "RC": rc[idx], "RE1": re1[kk], "RE2": re2[kk]})

@@ -45,7 +45,7 @@ def test_ibe_bracket_contains_the_root():
         x = _root(vth[i], a)
         assert lo[i] <= x * (1 + 1e-9) and hi[i] >= x * (1 - 1e-9), (vth[i], rth[i], re[i], lo[i], x, hi[i])
         width.append((hi[i] - lo[i]) / x)
-    assert np.max(width) < 1e-6  # tight as well as sound: a loose bracket prunes nothing
+    assert np.max(width) <= 1.0001e-4  # tight as well as sound (BRACKET_WIDTH): a loose bracket prunes nothing
 
 
 @pytest.mark.parametrize("beta", [T.hfe_min, T.hfe_max])
