@@ -25,7 +25,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from . import decompose
+from . import ce_boxes
 from .networks import NetworkTable, resistor_networks
 from .stage import COLLECTOR_FEEDBACK, COMMON_EMITTER, EMITTER_FOLLOWER
 from .transistor import Transistor
@@ -98,7 +98,10 @@ class Pool:
         """Values (ohms) whose fewest realising parts is exactly k (k = 0: the absent position)."""
         if k == 0:
             return np.zeros(1)
-        return self.distinct.value[self.distinct.min_parts == k]
+        cache = self.__dict__.setdefault("_groups", {})
+        if k not in cache:
+            cache[k] = self.distinct.value[self.distinct.min_parts == k]
+        return cache[k]
 
     def networks_of(self, ohms: float) -> np.ndarray:
         """Table indices of every network realising `ohms`."""
@@ -146,7 +149,7 @@ def tuples(topology: str, profile: dict, pool: Pool, spec, q: QLine):
     if topology == COMMON_EMITTER:
         out = []
         betas = (q.transistor.hfe_min, q.transistor.hfe_max)
-        decompose.ce_tuples(g, spec, q.transistor, betas, out.append)
+        ce_boxes.ce_tuples(g, spec, q.transistor, betas, out.append)
         for chunk in out:
             yield from _split(chunk)
         return

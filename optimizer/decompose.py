@@ -76,11 +76,13 @@ def _newton_from_above(lo, hi, a, vth, is_a, vt):
     lo.ravel()[live] = np.maximum(lo.ravel()[live], low)
 
 
-def ic_bracket(vth, rth, re, *, bf, is_a, vaf_v, vt, supply_v, vce_min, steps=None):
+def ic_bracket(vth, rth, re, *, bf, is_a, vaf_v, vt, supply_v, vce_min, steps=None, upper=None):
     """(IC_lo, IC_hi) in amperes over every RC giving VCE ≥ vce_min (V).
 
     steps: contraction steps of ibe_bracket; given, the bracket is left as they leave it
     (true, cheaper, looser); by default it is closed to BRACKET_WIDTH.
+    upper: (vth, rth, re) of a second point whose IBE root is at least the first's; the
+    bracket then covers both points and every point between (ce_boxes.py).
 
     The IBE root x(k) falls and IC(k) = k·x(k) rises with the Early factor k, so with
     [x_lo, x_hi] bracketing x(k_hi): IC ≤ k_hi·x_hi;  IC ≥ k_lo·x(k_lo) ≥ k_lo·x_lo;  and
@@ -90,8 +92,10 @@ def ic_bracket(vth, rth, re, *, bf, is_a, vaf_v, vt, supply_v, vce_min, steps=No
     vaf = float(vaf_v)
     k_hi = 1.0 + supply_v / vaf
     k_floor = 1.0 - 1.0 / vaf  # VBC ≤ 1 V: a first, safe floor for k
-    x_lo, x_hi = (ibe_bracket(vth, rth, re, bf, k_hi, is_a, vt) if steps is None else
-                  ibe_bracket(vth, rth, re, bf, k_hi, is_a, vt, steps=steps, close=False))
+    kw = {} if steps is None else {"steps": steps, "close": False}
+    x_lo, x_hi = ibe_bracket(vth, rth, re, bf, k_hi, is_a, vt, **kw)
+    if upper is not None:
+        x_hi = ibe_bracket(*upper, bf, k_hi, is_a, vt, **kw)[1]
     vbe_hi = vt * np.log1p(x_hi * (k_hi / k_floor) / is_a)
     vbc_max = vbe_hi - vce_min
     k_lo = 1.0 - np.maximum(vbc_max, 0.0) / vaf
@@ -118,9 +122,6 @@ def ragged(start, stop):
     offset = np.cumsum(n) - n
     idx = np.arange(int(n.sum()), dtype=np.int64) - np.repeat(offset - start, n)
     return owner, idx
-
-
-BLOCK = 1_000_000  # (divider pair × RE split) combinations per block
 
 
 GAIN_SAFETY = 0.03  # the gain bounds leave out ro feedback and gμ; 3 % covers them with room to spare
@@ -159,101 +160,80 @@ def gain_bounds(ic_lo, ic_hi, beta, rc, re1, rth, spec, vt, vaf_v):
     return a_lo * (1 - GAIN_SAFETY), a_hi * (1 + GAIN_SAFETY), rin_hi * (1 + GAIN_SAFETY)
 
 
-def ce_tuples(g: dict, spec, transistor, betas, emit):
-    """Common-emitter value tuples of the groups `g` (position → sorted ohms) that survive the bracket.
-
-    `emit(chunk)` receives dicts position → ohms arrays.  betas: the hFE corners (at 27 °C).
-    """
-    if not all(len(g[p]) for p in ("R1", "R2", "RC", "RE1", "RE2")):
-        return
-    # |gain| < (RC‖RL)/RE1 < RL/RE1; and IC ≥ swing/(2·RL) (swing up ≤ IC·(RC‖RL)) with
-    # VE ≥ IC·(RE1 + RE2) ≤ VCC − VCE_min.
-    vce_min = loadline.VCE_SAT_V + spec.swing_pp / 2.0
-    re1_all = g["RE1"][g["RE1"] * spec.gain * (1 - spec.gain_tol) * (1 - BRACKET_SLACK) < spec.load_ohms]
-    for r1, r2 in _mesh_slices(g["R1"], g["R2"]):
-        keep = r1 * r2 / (r1 + r2) >= spec.min_rin_ohms * (1 - 1e-12)  # Rin ≤ R1‖R2
-        r1, r2 = r1[keep], r2[keep]
-        if not len(r1):
-            continue
-        for re1, re2 in _mesh_slices(re1_all, g["RE2"]):
-            if spec.swing_pp > 0:
-                fit = (re1 + re2) * spec.swing_pp / (2 * spec.load_ohms) <= spec.supply_v - vce_min
-                re1, re2 = re1[fit], re2[fit]
-            if len(re1):
-                _ce_block(r1, r2, re1, re2, g["RC"], spec, transistor, betas, vce_min, emit)
-
-
-def _mesh_slices(a, b):
-    """Every pair of a × b (flattened, a-major), in slices of at most about BLOCK pairs.
-
-    3-part networks can give 10^5 values per position; a whole mesh would not fit in memory.
-    """
-    per = max(1, BLOCK // max(1, len(b)))
-    for c in range(0, len(a), per):
-        yield (m.ravel() for m in np.meshgrid(a[c:c + per], b, indexing="ij"))
-
-
-def _rc_window(brackets, betas, re1_lo, re1_hi, u, rth, spec, vt):
+def rc_window(brackets, betas, re1_lo, re1_hi, u, rth, spec, vt):
     """[RC_lo, RC_hi] (Ω) for IC brackets at each hFE corner, an empty window where Rin must fall short.
 
-    re1_lo/re1_hi bound RE1 among the splits considered: the RC need grows with RE1 and the
-    Rin bound too, so the least RE1 gives the widest window and the largest one the best Rin.
+    re1_lo/re1_hi bound RE1 over the tuples considered: the RC need grows with RE1 and the Rin
+    bound too, so the least RE1 gives the widest window and the largest one the best Rin.
+    rth: the largest RTH (Rin grows with it).
     """
     lo = np.full(np.shape(brackets[0][0]), -np.inf)
     hi = np.full_like(lo, np.inf)
+    cap = ic_cap(re1_lo, u, spec, vt)
     for beta, (ic_lo, ic_hi) in zip(betas, brackets, strict=True):
         a, z = rc_interval(ic_lo, ic_hi, re1_lo, u, spec, vt)
-        # Rin cannot exceed its high bound (RC does not enter it).
-        rin_hi = rin_high(ic_lo, beta, re1_hi, rth, vt)
+        rin_hi = rin_high(ic_lo, beta, re1_hi, rth, vt)  # RC does not enter it
         lo = np.maximum(lo, a)
-        hi = np.minimum(hi, np.where(rin_hi >= spec.min_rin_ohms, z, -np.inf))
+        hi = np.minimum(hi, np.where((rin_hi >= spec.min_rin_ohms) & (cap > 0) & (ic_lo <= cap), z, -np.inf))
     return lo, hi
 
 
-def _ce_block(r1, r2, re1, re2, rc, spec, transistor, betas, vce_min, emit):
-    """ce_tuples for one slice of emitter pairs (re1[i], re2[i]) against every divider pair."""
+def ic_cap(re1, u, spec, vt):
+    """The most collector current (A) any RC allows with RE1 ≥ re1 and RE ≥ u; −1 when none can do.
+
+    The gain needs RC ≥ RC‖RL ≥ G·(RE1 + Vt/IC) and the swing down VCE ≥ vce_min, so
+    RC ≤ H/IC − RE (H = VCC − vce_min, IE ≥ IC); together IC·(G·RE1 + RE) ≤ H − G·Vt, which
+    no IC > 0 meets once G·Vt ≥ H (too much gain for the supply).  The supply current
+    (given a limit) is at least IC.  When the cap falls below the least IC the swing and
+    gain need, nothing fits.  G = G_min less BRACKET_SLACK, as in rc_interval.
+    """
+    g = spec.gain * (1 - spec.gain_tol) * (1 - BRACKET_SLACK)
+    room = spec.supply_v - loadline.VCE_SAT_V - spec.swing_pp / 2.0 - g * vt
+    re1 = np.asarray(re1)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        cap = np.where(room > 0, room / (g * re1 + u), -1.0) * (1 + BRACKET_SLACK)
+        # and the least IC: swing up ≤ IC·(RC‖RL) < IC·RL; RL > RC‖RL ≥ G·(RE1 + Vt/IC)
+        rl = spec.load_ohms
+        need = np.maximum(spec.swing_pp / (2 * rl), np.where(g * re1 < rl, g * vt / (rl - g * re1), np.inf))
+    if spec.max_supply_a is not None:
+        cap = np.minimum(cap, spec.max_supply_a * (1 + BRACKET_SLACK))
+    return np.where(cap >= need * (1 - BRACKET_SLACK), cap, -1.0)
+
+
+def exact_tuples(r1, r2, re1, re2, rc, spec, transistor, betas, vce_min, emit):
+    """Value tuples from aligned bias arrays (R1, R2, RE1, RE2 per entry) and the sorted RC group.
+
+    Per entry: Rin ≤ R1‖R2, the emitter headroom, the IC bracket at each hFE corner and the RC
+    window (module docstring); then per (entry, RC in the window) the gain bounds.
+    """
+    keep = r1 * r2 / (r1 + r2) >= spec.min_rin_ohms * (1 - 1e-12)
+    u = re1 + re2
+    if spec.swing_pp > 0:
+        keep &= u * spec.swing_pp / (2 * spec.load_ohms) <= spec.supply_v - vce_min
+    r1, r2, re1, re2, u = r1[keep], r2[keep], re1[keep], re2[keep], u[keep]
+    if not len(r1):
+        return
     from .bias import thevenin
 
-    u = re1 + re2
-    uu, inv = np.unique(u, return_inverse=True)
-    by_u = np.argsort(inv, kind="stable")  # u entries grouped by their distinct total
-    u_start = np.searchsorted(inv[by_u], np.arange(len(uu)), "left")
-    u_stop = np.searchsorted(inv[by_u], np.arange(len(uu)), "right")
-    re1_min = np.minimum.reduceat(re1[by_u], u_start)
-    re1_max = np.maximum.reduceat(re1[by_u], u_start)
     vth, rth = thevenin(spec.supply_v, r1, r2)
     is_a, _, _, vt = (float(x) for x in transistor.at(27.0))
-    g_min, g_max = spec.gain * (1 - spec.gain_tol), spec.gain * (1 + spec.gain_tol)
     kw = {"is_a": is_a, "vaf_v": transistor.vaf_v, "vt": vt, "supply_v": spec.supply_v, "vce_min": vce_min}
-    step = max(1, BLOCK // len(uu))
-    for s in range(0, len(r1), step):
-        b = slice(s, min(len(r1), s + step))
-        # Coarse pass over every (divider, total): one contraction step gives true but looser
-        # brackets, and an RC window with no RC in it rules the pair out for every split.
-        coarse = [ic_bracket(vth[b, None], rth[b, None], uu[None, :], bf=beta, steps=1, **kw) for beta in betas]
-        lo, hi = _rc_window(coarse, betas, re1_min[None, :], re1_max[None, :], uu[None, :], rth[b, None], spec,
-                            vt)
-        d, ku = np.nonzero(np.searchsorted(rc, lo, "left") < np.searchsorted(rc, hi, "right"))
-        if not len(d):
-            continue
-        d = d + s
-        # Exact brackets on the pairs left, then out to every split with that total.
-        brackets = [ic_bracket(vth[d], rth[d], uu[ku], bf=beta, **kw) for beta in betas]
-        owner, j = ragged(u_start[ku], u_stop[ku])
-        d, k = d[owner], by_u[j]
-        brackets = [(lo_[owner], hi_[owner]) for lo_, hi_ in brackets]
-        lo, hi = _rc_window(brackets, betas, re1[k], re1[k], u[k], rth[d], spec, vt)
-        start = np.searchsorted(rc, lo, "left")
-        stop = np.searchsorted(rc, hi, "right")
-        owner, idx = ragged(start, stop)
-        if len(idx) == 0:
-            continue
-        keep = np.ones(len(idx), dtype=bool)
-        for beta, (ic_lo, ic_hi) in zip(betas, brackets, strict=True):
-            a_lo, a_hi, _ = gain_bounds(ic_lo[owner], ic_hi[owner], beta, rc[idx], re1[k[owner]], rth[d[owner]],
-                                        spec, vt, transistor.vaf_v)
-            keep &= (a_lo <= g_max) & (a_hi >= g_min)
-        owner, idx = owner[keep], idx[keep]
-        if len(idx):
-            dd, kk = d[owner], k[owner]
-            emit({"R1": r1[dd], "R2": r2[dd], "RC": rc[idx], "RE1": re1[kk], "RE2": re2[kk]})
+    # A coarse pass first (one contraction step: true, looser, cheaper brackets) drops most entries.
+    coarse = [ic_bracket(vth, rth, u, bf=beta, steps=1, **kw) for beta in betas]
+    lo, hi = rc_window(coarse, betas, re1, re1, u, rth, spec, vt)
+    live = np.searchsorted(rc, lo, "left") < np.searchsorted(rc, hi, "right")
+    r1, r2, re1, re2, u, vth, rth = (x[live] for x in (r1, r2, re1, re2, u, vth, rth))
+    brackets = [ic_bracket(vth, rth, u, bf=beta, **kw) for beta in betas]
+    lo, hi = rc_window(brackets, betas, re1, re1, u, rth, spec, vt)
+    owner, idx = ragged(np.searchsorted(rc, lo, "left"), np.searchsorted(rc, hi, "right"))
+    if len(idx) == 0:
+        return
+    g_min, g_max = spec.gain * (1 - spec.gain_tol), spec.gain * (1 + spec.gain_tol)
+    ok = np.ones(len(idx), dtype=bool)
+    for beta, (ic_lo, ic_hi) in zip(betas, brackets, strict=True):
+        a_lo, a_hi, _ = gain_bounds(ic_lo[owner], ic_hi[owner], beta, rc[idx], re1[owner], rth[owner], spec, vt,
+                                    transistor.vaf_v)
+        ok &= (a_lo <= g_max) & (a_hi >= g_min)
+    owner, idx = owner[ok], idx[ok]
+    if len(idx):
+        emit({"R1": r1[owner], "R2": r2[owner], "RC": rc[idx], "RE1": re1[owner], "RE2": re2[owner]})
