@@ -8,9 +8,10 @@ all be built from the counts on hand.
 
 from __future__ import annotations
 
-from inventory.values import format_capacitance
+from inventory.values import format_capacitance, format_resistance
 
 from . import capchoice
+from . import swing as loadline
 from .analysis import analyze
 from .stage import Stage
 
@@ -22,9 +23,10 @@ def reasons(sol, spec) -> list[str]:
         return out
     g_lo, g_hi = spec.gain * (1 - spec.gain_tol), spec.gain * (1 + spec.gain_tol)
     if near.screened == 0:
-        out.append(f"no combination of the resistors on hand passes the first checks for a {spec.topology} "
-                   f"with Rin ≥ {spec.min_rin_ohms:g} Ω, gain {spec.gain:g} and {spec.swing_pp:g} V p-p on "
-                   f"{spec.supply_v:g} V (the divider, gain and headroom bounds rule every one out)")
+        out.extend(_bound_reasons(sol, spec) or [
+            f"no combination of the resistors on hand passes the first checks for a {spec.topology} "
+            f"with Rin ≥ {spec.min_rin_ohms:g} Ω, gain {spec.gain:g} and {spec.swing_pp:g} V p-p on "
+            f"{spec.supply_v:g} V (the divider, gain and headroom bounds rule every one out)"])
     b = near.best
     if "gain_low" in b:
         out.append(f"gain binds: meeting everything else, the highest gain reachable at both hFE ends is "
@@ -52,6 +54,31 @@ def reasons(sol, spec) -> list[str]:
         out.append("no value combination meets every part of the spec at both ends of the hFE range")
     if not sol.exhaustive:
         out.extend(sol.notes)
+    return out
+
+
+def _bound_reasons(sol, spec) -> list[str]:
+    """The spec-level bounds that rule out every common-emitter value tuple at once, in words."""
+    if spec.topology != "common-emitter":
+        return []
+    out = []
+    vt = 0.02585  # kT/q at 27 °C (V); the search itself takes it from scipy.constants
+    headroom = spec.supply_v - loadline.VCE_SAT_V - spec.swing_pp / 2
+    g_min = spec.gain * (1 - spec.gain_tol)
+    if headroom <= g_min * vt:
+        out.append(f"gain binds: with {spec.swing_pp:g} V p-p on {spec.supply_v:g} V no common emitter reaches "
+                   f"{g_min:.3g}: |gain| < gm·RC ≤ (VCC − VCE(sat) − swing/2)/Vt = {headroom / vt:.3g}")
+    i_need = spec.swing_pp / (2 * spec.load_ohms)
+    if spec.max_supply_a is not None and spec.max_supply_a < i_need:
+        out.append(f"supply current binds: {spec.swing_pp:g} V p-p into {format_resistance(spec.load_ohms)} needs "
+                   f"IC ≥ swing/(2·RL) = {i_need * 1e3:.3g} mA (asked ≤ {spec.max_supply_a * 1e3:.3g} mA)")
+    pool = sol.pool
+    if pool is not None and len(pool.distinct):
+        top = float(pool.distinct.value[-1])
+        if spec.min_rin_ohms > top / 2:
+            out.append(f"input resistance binds: Rin ≤ R1‖R2, at most {format_resistance(top / 2)} from the "
+                       f"resistors on hand (largest network {format_resistance(top)}; asked ≥ "
+                       f"{format_resistance(spec.min_rin_ohms)})")
     return out
 
 

@@ -66,3 +66,35 @@ def test_swing_beyond_a_low_supply_is_explained():
     sol = search(rs, CAPS, QS, spec, top=1, depth=1)
     assert sol.designs == []
     assert reasons(sol, spec)
+
+
+def _why(spec, depth=3):
+    # The demo-style drawer of GOOD plus a 3 M line, at depth 3: the groups hold thousands of values, so
+    # these reasons must come from the bounds that rule out whole boxes, not from enumeration.
+    rs = resistors(GOOD + [(8, 3e6, 2)])
+    return reasons(search(rs, CAPS, QS, spec, depth=depth), spec)
+
+
+def test_gain_beyond_the_supply_is_explained_by_gm_rc():
+    # Handbook bound: |A| ≤ gm·RC = IC·RC/VT, and IC·RC ≤ VCC − VCE(sat) − swing/2; on 12 V with 5 V p-p,
+    # (12 − 0.2 − 2.5)/0.02585 ≈ 360 (VCE(sat) 0.2 V: common practice, no source).
+    spec = Spec(gain=500, gain_tol=0.05, supply_v=12, load_ohms=22e3, source_ohms=1e3, swing_pp=5, low_cut_hz=30)
+    why = _why(spec)
+    assert any(w.startswith("gain binds") and "= 360" in w for w in why), why
+
+
+def test_supply_current_below_what_the_swing_needs_is_explained():
+    # A 5 V p-p swing into 22 kΩ needs a 2.5 V / 22 kΩ = 0.114 mA peak (Ohm's law), so IC ≥ 0.114 mA.
+    spec = Spec(gain=10, gain_tol=0.05, supply_v=12, load_ohms=22e3, source_ohms=1e3, swing_pp=5, low_cut_hz=30,
+                max_supply_a=20e-6)
+    why = _why(spec)
+    assert any(w.startswith("supply current binds") and "0.114 mA" in w for w in why), why
+
+
+def test_input_resistance_beyond_the_divider_is_explained():
+    # Rin ≤ R1‖R2 (the bias divider is in parallel with the base); with 6 M at most per position
+    # (two 3 M in series), R1‖R2 ≤ 3 M.
+    spec = Spec(gain=10, gain_tol=0.05, supply_v=12, load_ohms=22e3, source_ohms=1e3, swing_pp=5, low_cut_hz=30,
+                min_rin_ohms=50e6)
+    why = _why(spec, depth=2)
+    assert any(w.startswith("input resistance binds") and "3M" in w for w in why), why
