@@ -42,12 +42,16 @@ def ce_tuples(g: dict, spec, transistor, betas, emit):
     """
     if not all(len(g[p]) for p in ("R1", "R2", "RC", "RE1", "RE2")):
         return
-    # |gain| < (RC‖RL)/RE1 < RL/RE1 bounds RE1 alone.
+    # |gain| < (RC‖RL)/RE1 < RL/RE1 bounds RE1 alone; the capacitors' floors (spec.Bounds) RC and RE2.
     re1 = g["RE1"][g["RE1"] * spec.gain * (1 - spec.gain_tol) * (1 - BRACKET_SLACK) < spec.load_ohms]
-    vals = [np.asarray(g["R1"]), np.asarray(g["R2"]), re1, np.asarray(g["RE2"])]
-    if not len(re1):
+    re2 = np.asarray(g["RE2"])
+    re2 = re2[(re2 == 0) | (re2 >= getattr(spec, "min_re2_ohms", 0.0) * (1 - 1e-12))]
+    rc = np.asarray(g["RC"])
+    rc = rc[rc >= getattr(spec, "min_rc_ohms", 0.0) * (1 - 1e-12)]
+    vals = [np.asarray(g["R1"]), np.asarray(g["R2"]), re1, re2]
+    if not (len(re1) and len(re2) and len(rc)):
         return
-    ctx = _Context(spec, transistor, betas, np.asarray(g["RC"]))
+    ctx = _Context(spec, transistor, betas, rc)
     lo = np.zeros((1, 4), dtype=np.int64)
     hi = np.array([[len(v) - 1 for v in vals]], dtype=np.int64)
     while len(lo):

@@ -72,6 +72,14 @@ def _bound_reasons(sol, spec) -> list[str]:
     if spec.max_supply_a is not None and spec.max_supply_a < i_need:
         out.append(f"supply current binds: {spec.swing_pp:g} V p-p into {format_resistance(spec.load_ohms)} needs "
                    f"IC ≥ swing/(2·RL) = {i_need * 1e3:.3g} mA (asked ≤ {spec.max_supply_a * 1e3:.3g} mA)")
+    b = sol.bounds
+    if b is not None and sol.options is not None and len(sol.options):
+        c_max = float(sol.options.value.max())
+        r = b.min_re2_ohms
+        if r - spec.source_ohms > max(spec.min_rin_ohms, 0.0) or r > spec.load_ohms:
+            out.append(f"low cut-off binds: the largest capacitance on hand, {format_capacitance(c_max)}, meets "
+                       f"{spec.low_cut_hz:g} Hz only where it sees ≥ {format_resistance(r)} (corner 1/(2π·R·C)): "
+                       f"CIN needs RS + Rin and COUT needs RC + RL at least that, which no stage here reaches")
     pool = sol.pool
     if pool is not None and len(pool.distinct):
         top = float(pool.distinct.value[-1])

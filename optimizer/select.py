@@ -22,6 +22,7 @@ from .assign import Assignment
 from .candidates import POSITIONS, Pool, min_positions, profiles, tuples, usable_transistors
 from .capacitors import capacitor_options
 from .feasible import Near, check, concat
+from .spec import Bounds
 
 MIN_CAPS = 2  # CIN and COUT are always fitted
 ROWS_FIRST = 48  # rows handed to CP-SAT first (more follow while an excluded row could compete)
@@ -47,6 +48,7 @@ class Solution:
     qlines: list = field(default_factory=list)
     cap_failures: list = field(default_factory=list)  # rows that met the rest but found no capacitors
     cap_cache: dict = field(default_factory=dict)  # (values, transistor model) → capchoice.CapChoice | None
+    bounds: object = None  # spec.Bounds the search pruned with
     stock_bound: bool = False
     exhaustive: bool = True
     budget: int = 0
@@ -103,6 +105,10 @@ def search(rstock, cstock, qlines, spec, *, top=3, depth=3, progress=None, cance
     if len(rstock.qty) == 0:
         sol.why.append("no resistors are in stock")
         return sol
+    if len(options) == 0:
+        sol.why.append("no capacitors are in stock (CIN and COUT are always fitted)")
+        return sol
+    bounds = sol.bounds = Bounds.of(spec, float(options.value.max()))  # floors the capacitors on hand imply
     n_min = min_positions(topology)
     b_max = len(positions) * depth
     rows_all = []
@@ -118,7 +124,7 @@ def search(rstock, cstock, qlines, spec, *, top=3, depth=3, progress=None, cance
         for profile in profiles(topology, budget, level):
             for model, members in models.items():
                 q = qlines[members[0]]
-                for chunk in tuples(topology, profile, sol.pool, spec, q):
+                for chunk in tuples(topology, profile, sol.pool, bounds, q):
                     if cancel is not None and cancel.is_set():
                         raise Cancelled()
                     rows = check(topology, chunk, q, spec, sol.near)

@@ -2,7 +2,8 @@
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+import math
+from dataclasses import asdict, dataclass
 
 from .stage import TOPOLOGIES
 
@@ -66,3 +67,25 @@ class Spec:
         if not 1 <= self.max_parts_per_position <= 3:
             out.append(f"--depth: {self.max_parts_per_position}; expected 1, 2 or 3 parts per position")
         return out
+
+
+@dataclass(frozen=True)
+class Bounds(Spec):
+    """A spec plus value floors the solver derives from the stock (never asked of the user), for pruning.
+
+    The low cut-off ties each capacitor to the resistance it sees: with the other capacitors
+    shorted, one capacitor C and the resistance R around it make a first-order high-pass with
+    its corner at 1/(2π·R·C), and f_low falls as any capacitance grows, so f_low ≥ that corner.
+    With C_max the largest capacitance on hand, every capacitor position needs R ≥ 1/(2π·f·C_max):
+    CIN sees RS + Rin, COUT sees Rout + RL with Rout ≤ RC (common emitter), CE sees at most RE2.
+    """
+
+    min_rc_ohms: float = 0.0
+    min_re2_ohms: float = 0.0
+
+    @classmethod
+    def of(cls, spec: Spec, c_max_f: float) -> Bounds:
+        r = math.inf if not c_max_f > 0 else 1.0 / (2 * math.pi * spec.low_cut_hz * c_max_f)
+        base = asdict(spec)
+        base["min_rin_ohms"] = max(spec.min_rin_ohms, r - spec.source_ohms)
+        return cls(**base, min_rc_ohms=max(0.0, r - spec.load_ohms), min_re2_ohms=r)

@@ -98,3 +98,17 @@ def test_input_resistance_beyond_the_divider_is_explained():
                 min_rin_ohms=50e6)
     why = _why(spec, depth=2)
     assert any(w.startswith("input resistance binds") and "3M" in w for w in why), why
+
+
+def test_capacitors_too_small_are_explained_by_the_rc_corner():
+    # First-order high-pass corner f = 1/(2π·R·C) (handbook formula): the 10 nF + 10 nF pair on hand
+    # needs R ≥ 1/(2π·30 Hz·20 nF) ≈ 265 kΩ around every capacitor, so COUT needs RC ≥ 243 kΩ, and then
+    # IC ≤ 9.3 V / 243 kΩ ≈ 38 µA, below the 114 µA a 5 V p-p swing into 22 kΩ needs.
+    from optimizer.spec import Bounds
+
+    b = Bounds.of(SPEC, 20e-9)
+    assert abs(b.min_re2_ohms - 1 / (2 * np.pi * 30 * 20e-9)) < 1e-6
+    assert abs(b.min_rc_ohms - (b.min_re2_ohms - 22e3)) < 1e-6
+    cs = capacitors([(40, 10e-9, 50.0, False, 2)])
+    why = reasons(search(resistors(GOOD + [(8, 3e6, 2)]), cs, QS, SPEC, depth=3), SPEC)
+    assert any(w.startswith("low cut-off binds") and "265k" in w for w in why), why
