@@ -20,9 +20,9 @@ import time
 import numpy as np
 
 RUNS = 3
-ORACLE_CAP_S = 60.0
+ORACLE_CAP_S = 300.0
 SIZES = (4, 8, 50, 300, 1000)
-ORACLE_MAX_COMBOS = 20_000_000
+ORACLE_MAX_COMBOS = 150_000_000
 DEPTHS = (1, 2, 3)
 E24 = (1.0, 1.1, 1.2, 1.3, 1.5, 1.6, 1.8, 2.0, 2.2, 2.4, 2.7, 3.0, 3.3, 3.6, 3.9, 4.3, 4.7, 5.1, 5.6, 6.2, 6.8,
        7.5, 8.2, 9.1)
