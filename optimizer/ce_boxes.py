@@ -32,6 +32,7 @@ from .decompose import BRACKET_SLACK, exact_tuples, ic_bracket, ragged, rc_windo
 LEAF = 64  # tuples (R1, R2, RE1, RE2) in a box handed to the exact bounds
 FRONTIER = 200_000  # boxes evaluated per call
 CHUNK = 1_000_000  # tuples per call of the exact bounds
+BOX_STEPS = 3  # contraction steps for a box's corners: true bounds, left open (a box spans far more than they)
 DIMS = ("R1", "R2", "RE1", "RE2")
 
 
@@ -86,7 +87,8 @@ def _box_ok(vals, lo, hi, ctx) -> np.ndarray:
     vth_x, rth_x = thevenin(spec.supply_v, r1b, r2a)  # the least IBE root
     vth_y, rth_y = thevenin(spec.supply_v, r1a, r2b)  # the largest
     rth_top = r1b * r2b / (r1b + r2b)
-    brackets = [ic_bracket(vth_x, rth_x, ub, bf=beta, upper=(vth_y, rth_y, ua), **ctx.kw) for beta in ctx.betas]
+    brackets = [ic_bracket(vth_x, rth_x, ub, bf=beta, upper=(vth_y, rth_y, ua), steps=BOX_STEPS, **ctx.kw)
+                for beta in ctx.betas]
     w_lo, w_hi = rc_window(brackets, ctx.betas, e1a, e1b, ua, rth_top, spec, ctx.vt)
     return ok & (np.searchsorted(ctx.rc, w_lo, "left") < np.searchsorted(ctx.rc, w_hi, "right"))
 
