@@ -57,6 +57,27 @@ def reasons(sol, spec) -> list[str]:
     return out
 
 
+def no_purchase_helps(sol, spec, hint_max_ohms: float) -> str | None:
+    """A note when a spec-level bound no bought part can move rules the spec out (hints are skipped).
+
+    Gain against the supply and the current a swing needs are physics; Rin ≤ R1‖R2 ≤ half the largest
+    network, which a bought resistor of at most hint_max_ohms can raise only to 3 × the larger of it and
+    the largest part on hand (three in series).
+    """
+    if sol.near.screened or sol.why or spec.topology != "common-emitter":
+        return None
+    text = " ".join(_bound_reasons(sol, spec))
+    if "gain binds" in text or "supply current binds" in text:
+        return "no part bought would help: the bound above is set by the supply, the swing and the load"
+    stock = sol.pool.stock if sol.pool is not None else None
+    if stock is not None and len(stock.ohms):
+        reach = 3 * max(float(max(stock.ohms)), hint_max_ohms)
+        if spec.min_rin_ohms > reach / 2:
+            return (f"no resistor bought would help: even three of the largest in series give R1‖R2 ≤ "
+                    f"{format_resistance(reach / 2)}")
+    return None
+
+
 def _bound_reasons(sol, spec) -> list[str]:
     """The spec-level bounds that rule out every common-emitter value tuple at once, in words."""
     if spec.topology != "common-emitter":

@@ -19,6 +19,7 @@ from inventory.values import format_capacitance, format_resistance
 
 BUY_QTY = 5
 BUDGET_S = 20.0
+HINT_MAX_OHMS = 1e6  # the largest resistor a hint suggests
 
 
 def _with_line(stock, cls_fields: dict):
@@ -41,7 +42,7 @@ def shopping_hints(rstock, cstock, qlines, spec, sol, *, depth, search, budget_s
     volts = max(25.0, float(np.ceil(spec.supply_v * 1.25 / 5) * 5))
     trials = []
     cap_vals = series_values("E6", 1e-6, 1e-3)
-    res_vals = series_values("E12", 10.0, 1e6)
+    res_vals = series_values("E12", 10.0, HINT_MAX_OHMS)
     have = set(np.round(np.asarray(rstock.ohms, dtype=float), 6))
     res_vals = sorted(res_vals, key=lambda v: (round(float(v), 6) in have, abs(np.log(v / 4.7e3))))
     if caps_bind:

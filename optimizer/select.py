@@ -237,7 +237,7 @@ def find_designs(drawer, spec, *, top=3, depth=3, min_yield=None, progress=None,
                  hints=True, seed=None) -> dict:
     """The design result document (DEVELOPERS.md) for `spec` from an inventory Drawer."""
     from . import explain, result
-    from .hints import shopping_hints
+    from .hints import HINT_MAX_OHMS, shopping_hints
 
     doc = {"designs": [], "why": [], "hints": [], "spec": result.spec_json(spec),
            "inventory": str(getattr(drawer, "path", "") or "")}
@@ -276,7 +276,10 @@ def find_designs(drawer, spec, *, top=3, depth=3, min_yield=None, progress=None,
             best = max(y for y, _ in yields.values())
             doc["why"].append(f"--min-yield {min_yield:g}: the best Monte Carlo yield among designs meeting "
                               f"the spec is {best:.1%}")
-        if hints and qlines:
+        skip = explain.no_purchase_helps(sol, spec, HINT_MAX_OHMS) if hints and qlines else None
+        if skip:
+            doc["why"].append(skip)
+        elif hints and qlines:
             doc["hints"] = shopping_hints(rstock, cstock, qlines, spec, sol, depth=depth, search=search)
     if progress:
         progress(1.0, "done")

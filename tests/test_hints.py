@@ -112,3 +112,19 @@ def test_capacitors_too_small_are_explained_by_the_rc_corner():
     cs = capacitors([(40, 10e-9, 50.0, False, 2)])
     why = reasons(search(resistors(GOOD + [(8, 3e6, 2)]), cs, QS, SPEC, depth=3), SPEC)
     assert any(w.startswith("low cut-off binds") and "265k" in w for w in why), why
+
+
+def test_no_hint_is_searched_when_physics_rules_the_spec_out():
+    # gm·RC bound as above: no bought part raises (VCC − VCE(sat) − swing/2)/Vt, so no hint is tried.
+    from optimizer.explain import no_purchase_helps
+
+    spec = Spec(gain=500, gain_tol=0.05, supply_v=12, load_ohms=22e3, source_ohms=1e3, swing_pp=5, low_cut_hz=30)
+    sol = search(resistors(GOOD), CAPS, QS, spec, depth=2)
+    assert no_purchase_helps(sol, spec, 1e6).startswith("no part bought would help")
+    # Rin ≤ R1‖R2 ≤ (3 × 1 MΩ)/2 with 1 MΩ the largest hint: 50 MΩ is out of reach, 1 MΩ is not.
+    far = Spec(gain=10, gain_tol=0.05, supply_v=12, load_ohms=22e3, source_ohms=1e3, swing_pp=5, low_cut_hz=30,
+               min_rin_ohms=50e6)
+    assert "three of the largest" in no_purchase_helps(search(resistors(GOOD), CAPS, QS, far, depth=2), far, 1e6)
+    near = Spec(gain=10, gain_tol=0.05, supply_v=12, load_ohms=22e3, source_ohms=1e3, swing_pp=5, low_cut_hz=30,
+                min_rin_ohms=1e6)
+    assert no_purchase_helps(search(resistors(GOOD), CAPS, QS, near, depth=2), near, 1e6) is None
