@@ -14,7 +14,7 @@ Value tuples are screened by distinct value (many networks share a value).  They
 are enumerated by "resistor part budget" B = Σ over positions of the fewest parts
 that realise each value, B ascending (select.py stops when no larger B can win).
 Within a budget the product is pruned only by conditions every design meeting the
-spec must satisfy (`_prune_*`, each argued in its docstring).
+spec must satisfy (a branch and bound per topology, see `tuples`).
 """
 
 from __future__ import annotations
@@ -25,7 +25,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from . import ce_boxes
+from . import ce_boxes, feedback_boxes, follower_boxes
 from .networks import NetworkTable, resistor_networks
 from .stage import COLLECTOR_FEEDBACK, COMMON_EMITTER, EMITTER_FOLLOWER
 from .transistor import Transistor
@@ -38,7 +38,6 @@ POSITIONS = {
 }
 OPTIONAL = {COMMON_EMITTER: ("RE1", "RE2"), EMITTER_FOLLOWER: (), COLLECTOR_FEEDBACK: ("RE1", "RE2")}
 CAP_POSITIONS = ("CIN", "COUT", "CE")
-GAIN_BOUND_SLACK = 0.98  # the gain bound is a strict inequality; keep 2 % to spare for rounding
 CHUNK = 200_000
 
 
@@ -123,71 +122,28 @@ def profiles(topology: str, budget: int, depth: int):
             yield dict(zip(POSITIONS[topology], ks, strict=True))
 
 
-def _grid(*arrays):
-    mesh = np.meshgrid(*arrays, indexing="ij")
-    return [m.ravel() for m in mesh]
-
-
-def _prune_divider(r1, r2, spec):
-    """Rin ≤ R1‖R2: the bias resistors sit in parallel with whatever the base presents."""
-    return r1 * r2 / (r1 + r2) >= spec.min_rin_ohms * (1 - 1e-12)
-
-
-def _prune_gain(rc, re1, spec, rb=None):
-    """|gain| < (RC‖RL)/RE1 when RE1 > 0: the signal at the base is at least ie·RE1 and the
-    load current at most ic < ie, whatever hFE; the source divider only lowers it further."""
-    rcl = rc * spec.load_ohms / (rc + spec.load_ohms)
-    lo = spec.gain * (1 - spec.gain_tol)
-    return (re1 == 0) | (rcl >= GAIN_BOUND_SLACK * lo * re1)
-
-
 def tuples(topology: str, profile: dict, pool: Pool, spec, q: QLine):
-    """Chunks (dict position → ohms array) of the value tuples of one profile that survive pruning."""
+    """Chunks (dict position → ohms array) of the value tuples of one profile that survive the bounds.
+
+    Each topology has its branch and bound over boxes of sorted values (ce_boxes.py,
+    follower_boxes.py, feedback_boxes.py), pruning only by conditions every design meeting
+    the spec satisfies at hFE min and max.
+    """
     g = {p: pool.group(k) for p, k in profile.items()}
     if any(len(v) == 0 for v in g.values()):
         return
+    betas = (q.transistor.hfe_min, q.transistor.hfe_max)
     if topology == COMMON_EMITTER:
         out = []
-        betas = (q.transistor.hfe_min, q.transistor.hfe_max)
         ce_boxes.ce_tuples(g, spec, q.transistor, betas, out.append)
-        for chunk in out:
-            yield from _split(chunk)
-        return
-    if topology == EMITTER_FOLLOWER:
-        r1, r2 = _grid(g["R1"], g["R2"])
-        keep = _prune_divider(r1, r2, spec)
-        outer = {"R1": r1[keep], "R2": r2[keep]}
-        inner = {"RE": g["RE"]}
-    else:
-        rb = g["RB"][g["RB"] >= spec.min_rin_ohms * (1 - 1e-12)]  # Rin of a Miller stage ≤ RB
-        rc, re1 = _grid(g["RC"], g["RE1"])
-        ok = _prune_gain(rc, re1, spec)
-        outer = {"RB": rb}
-        inner = _cross({"RC": rc[ok], "RE1": re1[ok]}, {"RE2": g["RE2"]})
-    yield from _chunks(outer, inner)
+    else:  # generators: the surviving tuples stream through, never all in memory at once
+        boxes = follower_boxes.follower_chunks if topology == EMITTER_FOLLOWER else feedback_boxes.feedback_chunks
+        out = boxes(g, spec, q.transistor, betas)
+    for chunk in out:
+        yield from _split(chunk)
 
 
 def _split(chunk: dict):
     n = len(next(iter(chunk.values())))
     for s in range(0, n, CHUNK):
         yield {k: v[s:s + CHUNK] for k, v in chunk.items()}
-
-
-def _cross(a: dict, b: dict) -> dict:
-    na, nb = len(next(iter(a.values()))), len(next(iter(b.values())))
-    ia, ib = _grid(np.arange(na), np.arange(nb))
-    out = {k: v[ia] for k, v in a.items()}
-    out.update({k: v[ib] for k, v in b.items()})
-    return out
-
-
-def _chunks(outer: dict, inner: dict):
-    no, ni = len(next(iter(outer.values()))), len(next(iter(inner.values())))
-    if no == 0 or ni == 0:
-        return
-    step = max(1, CHUNK // ni)
-    for s in range(0, no, step):
-        io, ii = _grid(np.arange(s, min(no, s + step)), np.arange(ni))
-        out = {k: v[io] for k, v in outer.items()}
-        out.update({k: v[ii] for k, v in inner.items()})
-        yield out

@@ -15,8 +15,8 @@ and every test of decompose.py is monotone in the other values:
 
 A box whose window holds no RC at either hFE corner, or that fails Rin or the
 emitter headroom, holds no tuple meeting the spec and is dropped whole.  The rest
-are halved along their longest range until they hold at most LEAF tuples, which
-go through the exact per-tuple bounds (decompose.exact_tuples).  An infeasible
+are halved along the range whose values spread most (by ratio) until they hold at
+most LEAF tuples, which go through the exact per-tuple bounds (decompose.exact_tuples).  An infeasible
 spec is thus answered from a few boxes, and a 10⁵-value group costs about the
 surface of its feasible region, not its volume.
 """
@@ -63,7 +63,7 @@ def ce_tuples(g: dict, spec, transistor, betas, emit):
         leaf = size <= LEAF
         if leaf.any():
             _leaves(vals, lo[leaf], hi[leaf], ctx, emit)
-        lo, hi = _halve(lo[~leaf], hi[~leaf])
+        lo, hi = halve(vals, lo[~leaf], hi[~leaf])
 
 
 class _Context:
@@ -93,14 +93,21 @@ def _box_ok(vals, lo, hi, ctx) -> np.ndarray:
     return ok & (np.searchsorted(ctx.rc, w_lo, "left") < np.searchsorted(ctx.rc, w_hi, "right"))
 
 
-def _halve(lo, hi):
-    """Split each box in two along its longest index range."""
+def halve(vals, lo, hi):
+    """Split each box in two along the position of the largest value ratio (hi/lo).
+
+    The bounds loosen with the ratio a box spans, not with its index count (box_search.py).
+    """
     if not len(lo):
         return lo, hi
-    n = hi - lo + 1
-    k = np.argmax(n, axis=1)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        spread = np.column_stack([np.where(hi[:, k] > lo[:, k], v[hi[:, k]] / v[lo[:, k]], 0.0)
+                                  for k, v in enumerate(vals)])
+    spread = np.nan_to_num(spread, nan=np.inf)  # a 0 Ω (absent) low end: split there first
+    k = np.argmax(spread, axis=1)
     rows = np.arange(len(lo))
-    mid = lo[rows, k] + n[rows, k] // 2  # first index of the upper half
+    n = hi[rows, k] - lo[rows, k] + 1
+    mid = lo[rows, k] + n // 2  # first index of the upper half
     lo2, hi1 = lo.copy(), hi.copy()
     hi1[rows, k] = mid - 1
     lo2[rows, k] = mid

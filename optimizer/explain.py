@@ -24,9 +24,10 @@ def reasons(sol, spec) -> list[str]:
     g_lo, g_hi = spec.gain * (1 - spec.gain_tol), spec.gain * (1 + spec.gain_tol)
     if near.screened == 0:
         out.extend(_bound_reasons(sol, spec) or [
-            f"no combination of the resistors on hand passes the first checks for a {spec.topology} "
+            f"no combination of the resistors on hand passes the first checks for "
+            f"{'an' if spec.topology[0] in 'aeiou' else 'a'} {spec.topology} "
             f"with Rin ≥ {spec.min_rin_ohms:g} Ω, gain {spec.gain:g} and {spec.swing_pp:g} V p-p on "
-            f"{spec.supply_v:g} V (the divider, gain and headroom bounds rule every one out)"])
+            f"{spec.supply_v:g} V (the bias, gain, swing and headroom bounds rule every one out)"])
     b = near.best
     if "gain_low" in b:
         out.append(f"gain binds: meeting everything else, the highest gain reachable at both hFE ends is "
