@@ -102,9 +102,3 @@ def limits_ok(i_supply_lo, ic_lo, vce_min, spec, transistor, rounding=1e-9):
     if transistor.pd_max_w:
         ok &= vce_min * ic_lo <= TRANSISTOR_PD_DERATING * transistor.pd_max_w * (1 + rounding)
     return ok
-
-
-def feed(chunks, emit):
-    """Hand each chunk to `emit` (the callback form ce_boxes.ce_tuples has)."""
-    for chunk in chunks:
-        emit(chunk)

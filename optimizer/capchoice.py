@@ -65,16 +65,6 @@ def usable(options, vdc: float) -> np.ndarray:
     return np.flatnonzero(options.voltage_v >= need) if need > 0 else np.arange(len(options))
 
 
-def option_usage(options, idx: np.ndarray, n_stock: int) -> np.ndarray:
-    """[len(idx), stock rows] part counts."""
-    m = options.members[idx]
-    u = np.zeros((len(idx), n_stock), dtype=np.int64)
-    for c in range(m.shape[1]):
-        ok = m[:, c] >= 0
-        np.add.at(u, (np.flatnonzero(ok), m[ok, c]), 1)
-    return u
-
-
 def _distinct_values(options):
     """(distinct capacitances F, index of each option's value in them); options are sorted by value."""
     got = getattr(options, "_distinct_cache", None)

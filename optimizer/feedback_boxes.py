@@ -33,7 +33,7 @@ from __future__ import annotations
 import numpy as np
 
 from . import swing as loadline
-from .box_search import boxes, feed, limits_ok, reverse_bc_kw
+from .box_search import boxes, limits_ok, reverse_bc_kw
 from .decompose import BRACKET_SLACK, GAIN_SAFETY, ic_bracket
 from .screen import CUTOFF_A
 from .smallsignal import parallel
@@ -83,8 +83,3 @@ def feedback_chunks(g: dict, spec, transistor, betas):
         return ok
 
     yield from boxes(g, DIMS, box_ok)
-
-
-def feedback_tuples(g: dict, spec, transistor, betas, emit):
-    """As ce_boxes.ce_tuples: `emit(chunk)` receives each surviving chunk (position → ohms arrays)."""
-    feed(feedback_chunks(g, spec, transistor, betas), emit)

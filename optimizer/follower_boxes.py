@@ -32,7 +32,7 @@ import numpy as np
 
 from . import swing as loadline
 from .bias import thevenin
-from .box_search import boxes, feed, limits_ok, reverse_bc_kw
+from .box_search import boxes, limits_ok, reverse_bc_kw
 from .decompose import BRACKET_SLACK, ic_bracket
 from .screen import CUTOFF_A
 from .smallsignal import parallel
@@ -79,8 +79,3 @@ def follower_chunks(g: dict, spec, transistor, betas):
         return ok
 
     yield from boxes(g, DIMS, box_ok)
-
-
-def follower_tuples(g: dict, spec, transistor, betas, emit):
-    """As ce_boxes.ce_tuples: `emit(chunk)` receives each surviving chunk (position → ohms arrays)."""
-    feed(follower_chunks(g, spec, transistor, betas), emit)
