@@ -19,8 +19,9 @@ from __future__ import annotations
 import numpy as np
 
 from .ce_boxes import CHUNK, FRONTIER, LEAF, halve
-from .decompose import ragged
+from .decompose import bracket_kw
 from .feasible import TRANSISTOR_PD_DERATING
+from .network_table import ragged
 
 
 def boxes(groups: dict, dims, box_ok, leaf=LEAF):
@@ -74,7 +75,7 @@ def _points(vals, lo, hi, box_ok):
         first = last
 
 
-def reverse_bc_kw(spec, transistor) -> dict:
+def reverse_bc_kw(spec, transistor) -> tuple[dict, float]:
     """ic_bracket keywords (27 °C) for stages whose base–collector junction is never forward biased.
 
     The follower's collector sits at the supply (VBC = VB − VCC ≤ 0) and collector feedback
@@ -82,9 +83,7 @@ def reverse_bc_kw(spec, transistor) -> dict:
     k ≥ 1 − max(VBE_max − vce_min, 0)/VAF; with vce_min = VCC that is k ≥ 1 (any supply above
     VBE_max), true here, and its reverse-diode test (VBC ≤ REVERSE_DIODE_V) holds as well.
     """
-    is_a, _, br, vt = (float(x) for x in transistor.at(27.0))
-    return {"is_a": is_a, "vaf_v": transistor.vaf_v, "vt": vt, "supply_v": spec.supply_v,
-            "vce_min": spec.supply_v}, br
+    return bracket_kw(spec, transistor, spec.supply_v), float(transistor.at(27.0)[2])
 
 
 

@@ -92,15 +92,11 @@ class Pool:
     def __post_init__(self):
         self.table = resistor_networks(self.stock, self.depth, *WINDOW_OHMS)
         self.distinct = self.table.distinct()
+        self.groups = {k: self.distinct.value[self.distinct.min_parts == k] for k in range(1, self.depth + 1)}
 
     def group(self, k: int) -> np.ndarray:
         """Values (ohms) whose fewest realising parts is exactly k (k = 0: the absent position)."""
-        if k == 0:
-            return np.zeros(1)
-        cache = self.__dict__.setdefault("_groups", {})
-        if k not in cache:
-            cache[k] = self.distinct.value[self.distinct.min_parts == k]
-        return cache[k]
+        return np.zeros(1) if k == 0 else self.groups.get(k, np.zeros(0))
 
     def networks_of(self, ohms: float) -> np.ndarray:
         """Table indices of every network realising `ohms`."""

@@ -84,9 +84,7 @@ class _Row:
         self.pos = positions_for(row)
         self.options = options
         self.qty = np.asarray(stock_qty, dtype=np.int64)
-        # objective.line_weight, vectorised (np.rint and round() both round half to even)
-        self.weights = np.where(self.qty > 0, np.rint(objective.FRAC_SCALE / np.maximum(self.qty, 1)), 0
-                                ).astype(np.int64)
+        self.weights = objective.line_weights(self.qty)
         self.test = LowCut(topology, row, spec)
         self.dv, self.vidx = _distinct_values(options)
         vdc = dc_across(topology, row)

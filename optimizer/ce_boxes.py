@@ -27,7 +27,8 @@ import numpy as np
 
 from . import swing as loadline
 from .bias import thevenin
-from .decompose import BRACKET_SLACK, exact_tuples, ic_bracket, ragged, rc_window
+from .decompose import BRACKET_SLACK, bracket_kw, exact_tuples, ic_bracket, rc_window
+from .network_table import ragged
 
 LEAF = 64  # tuples (R1, R2, RE1, RE2) in a box handed to the exact bounds
 FRONTIER = 200_000  # boxes evaluated per call
@@ -70,10 +71,8 @@ class _Context:
     def __init__(self, spec, transistor, betas, rc):
         self.spec, self.transistor, self.betas, self.rc = spec, transistor, betas, rc
         self.vce_min = loadline.VCE_SAT_V + spec.swing_pp / 2.0
-        is_a, _, _, vt = (float(x) for x in transistor.at(27.0))
-        self.vt = vt
-        self.kw = {"is_a": is_a, "vaf_v": transistor.vaf_v, "vt": vt, "supply_v": spec.supply_v,
-                   "vce_min": self.vce_min}
+        self.kw = bracket_kw(spec, transistor, self.vce_min)
+        self.vt = self.kw["vt"]
 
 
 def _box_ok(vals, lo, hi, ctx) -> np.ndarray:

@@ -23,6 +23,7 @@ from __future__ import annotations
 import numpy as np
 
 from . import swing as loadline
+from .network_table import ragged
 
 BRACKET_SLACK = 0.01  # widen [IC_lo, IC_hi] by 1 % each way: rounding, reverse-diode terms, gm ≈ IC/Vt
 NEWTON_STEPS = 60
@@ -103,6 +104,12 @@ def ic_bracket(vth, rth, re, *, bf, is_a, vaf_v, vt, supply_v, vce_min, steps=No
     return ic_lo * (1 - BRACKET_SLACK), k_hi * x_hi * (1 + BRACKET_SLACK)
 
 
+def bracket_kw(spec, transistor, vce_min) -> dict:
+    """ic_bracket's keywords for `transistor` at 27 °C (the hFE corners are given at 27 °C)."""
+    is_a, _, _, vt = (float(x) for x in transistor.at(27.0))
+    return {"is_a": is_a, "vaf_v": transistor.vaf_v, "vt": vt, "supply_v": spec.supply_v, "vce_min": vce_min}
+
+
 def rc_interval(ic_lo, ic_hi, re1, re_total, spec, vt):
     """[RC_lo, RC_hi] (Ω) outside which no RC can meet gain and swing (see module docstring)."""
     g_min = spec.gain * (1 - spec.gain_tol) * (1 - BRACKET_SLACK)
@@ -113,15 +120,6 @@ def rc_interval(ic_lo, ic_hi, re1, re_total, spec, vt):
         rc_lo = np.where(rcl < rl, rcl * rl / (rl - rcl), np.inf)
         rc_hi = (spec.supply_v - loadline.VCE_SAT_V - half) / ic_lo - re_total
     return rc_lo * (1 - 1e-9), rc_hi * (1 + 1e-9)
-
-
-def ragged(start, stop):
-    """Flat (owner, index) for index ranges [start[k], stop[k])."""
-    n = np.maximum(stop - start, 0)
-    owner = np.repeat(np.arange(len(n)), n)
-    offset = np.cumsum(n) - n
-    idx = np.arange(int(n.sum()), dtype=np.int64) - np.repeat(offset - start, n)
-    return owner, idx
 
 
 GAIN_SAFETY = 0.03  # the gain bounds leave out ro feedback and gμ; 3 % covers them with room to spare
@@ -216,8 +214,8 @@ def exact_tuples(r1, r2, re1, re2, rc, spec, transistor, betas, vce_min, emit):
     from .bias import thevenin
 
     vth, rth = thevenin(spec.supply_v, r1, r2)
-    is_a, _, _, vt = (float(x) for x in transistor.at(27.0))
-    kw = {"is_a": is_a, "vaf_v": transistor.vaf_v, "vt": vt, "supply_v": spec.supply_v, "vce_min": vce_min}
+    kw = bracket_kw(spec, transistor, vce_min)
+    vt = kw["vt"]
     # A coarse pass first (one contraction step: true, looser, cheaper brackets) drops most entries.
     coarse = [ic_bracket(vth, rth, u, bf=beta, steps=1, **kw) for beta in betas]
     lo, hi = rc_window(coarse, betas, re1, re1, u, rth, spec, vt)

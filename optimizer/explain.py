@@ -14,6 +14,7 @@ from . import capchoice
 from . import swing as loadline
 from .analysis import analyze
 from .stage import Stage
+from .transistor import thermal_voltage
 
 
 def reasons(sol, spec) -> list[str]:
@@ -23,26 +24,26 @@ def reasons(sol, spec) -> list[str]:
         return out
     g_lo, g_hi = spec.gain * (1 - spec.gain_tol), spec.gain * (1 + spec.gain_tol)
     if near.screened == 0:
-        out.extend(_bound_reasons(sol, spec) or [
+        out.extend(list(_bounds(sol, spec).values()) or [
             f"no combination of the resistors on hand passes the first checks for "
             f"{'an' if spec.topology[0] in 'aeiou' else 'a'} {spec.topology} "
             f"with Rin ≥ {spec.min_rin_ohms:g} Ω, gain {spec.gain:g} and {spec.swing_pp:g} V p-p on "
             f"{spec.supply_v:g} V (the bias, gain, swing and headroom bounds rule every one out)"])
     b = near.best
     if "gain_low" in b:
-        out.append(f"gain binds: meeting everything else, the highest gain reachable at both hFE ends is "
+        out["gain"] = (f"gain binds: meeting everything else, the highest gain reachable at both hFE ends is "
                    f"{b['gain_low']:.3g} (asked ≥ {g_lo:.3g})")
     if "gain_high" in b and "gain_low" not in b:
-        out.append(f"gain binds: meeting everything else, the lowest gain reachable is {b['gain_high']:.3g} "
+        out["gain"] = (f"gain binds: meeting everything else, the lowest gain reachable is {b['gain_high']:.3g} "
                    f"(asked ≤ {g_hi:.3g})")
     if "swing" in b:
         out.append(f"swing binds: on {spec.supply_v:g} V the most clip-free swing at both hFE ends with everything "
                    f"else met is {b['swing']:.3g} V p-p (asked {spec.swing_pp:g})")
     if "rin" in b:
-        out.append(f"input resistance binds: the highest Rin with everything else met is {b['rin']:.4g} Ω "
+        out["rin"] = (f"input resistance binds: the highest Rin with everything else met is {b['rin']:.4g} Ω "
                    f"(asked ≥ {spec.min_rin_ohms:g})")
     if "current" in b:
-        out.append(f"supply current binds: the least with everything else met is {b['current'] * 1e3:.3g} mA "
+        out["current"] = (f"supply current binds: the least with everything else met is {b['current'] * 1e3:.3g} mA "
                    f"(asked ≤ {spec.max_supply_a * 1e3:.3g} mA)")
     if "ratings" in b:
         out.append("the transistor ratings bind (dissipation above 50 % of PD(max), IC(max) or VCEO below the supply)")
@@ -67,8 +68,7 @@ def no_purchase_helps(sol, spec, hint_max_ohms: float) -> str | None:
     """
     if sol.near.screened or sol.why or spec.topology != "common-emitter":
         return None
-    text = " ".join(_bound_reasons(sol, spec))
-    if "gain binds" in text or "supply current binds" in text:
+    if {"gain", "current"} & set(_bounds(sol, spec)):
         return "no part bought would help: the bound above is set by the supply, the swing and the load"
     stock = sol.pool.stock if sol.pool is not None else None
     if stock is not None and len(stock.ohms):
@@ -79,36 +79,37 @@ def no_purchase_helps(sol, spec, hint_max_ohms: float) -> str | None:
     return None
 
 
-def _bound_reasons(sol, spec) -> list[str]:
-    """The spec-level bounds that rule out every common-emitter value tuple at once, in words."""
+def _bounds(sol, spec) -> dict[str, str]:
+    """The spec-level bounds that rule out every common-emitter value tuple at once, in words, by name."""
     if spec.topology != "common-emitter":
-        return []
-    out = []
-    vt = 0.02585  # kT/q at 27 °C (V); the search itself takes it from scipy.constants
+        return {}
+    out = {}
+    vt = float(thermal_voltage(27.0))
     headroom = spec.supply_v - loadline.VCE_SAT_V - spec.swing_pp / 2
     g_min = spec.gain * (1 - spec.gain_tol)
     if headroom <= g_min * vt:
-        out.append(f"gain binds: with {spec.swing_pp:g} V p-p on {spec.supply_v:g} V no common emitter reaches "
-                   f"{g_min:.3g}: |gain| < gm·RC ≤ (VCC − VCE(sat) − swing/2)/Vt = {headroom / vt:.3g}")
+        out["gain"] = (f"gain binds: with {spec.swing_pp:g} V p-p on {spec.supply_v:g} V no common emitter "
+                       f"reaches {g_min:.3g}: |gain| < gm·RC ≤ (VCC − VCE(sat) − swing/2)/Vt = {headroom / vt:.3g}")
     i_need = spec.swing_pp / (2 * spec.load_ohms)
     if spec.max_supply_a is not None and spec.max_supply_a < i_need:
-        out.append(f"supply current binds: {spec.swing_pp:g} V p-p into {format_resistance(spec.load_ohms)} needs "
-                   f"IC ≥ swing/(2·RL) = {i_need * 1e3:.3g} mA (asked ≤ {spec.max_supply_a * 1e3:.3g} mA)")
+        out["current"] = (f"supply current binds: {spec.swing_pp:g} V p-p into {format_resistance(spec.load_ohms)} "
+                          f"needs IC ≥ swing/(2·RL) = {i_need * 1e3:.3g} mA (asked ≤ {spec.max_supply_a * 1e3:.3g} mA)")
     b = sol.bounds
     if b is not None and sol.options is not None and len(sol.options):
         c_max = float(sol.options.value.max())
         r = b.min_re2_ohms
         if r - spec.source_ohms > max(spec.min_rin_ohms, 0.0) or r > spec.load_ohms:
-            out.append(f"low cut-off binds: the largest capacitance on hand, {format_capacitance(c_max)}, meets "
-                       f"{spec.low_cut_hz:g} Hz only where it sees ≥ {format_resistance(r)} (corner 1/(2π·R·C)): "
-                       f"CIN needs RS + Rin and COUT needs RC + RL at least that, which no stage here reaches")
+            out["low_cut"] = (f"low cut-off binds: the largest capacitance on hand, {format_capacitance(c_max)}, "
+                              f"meets {spec.low_cut_hz:g} Hz only where it sees ≥ {format_resistance(r)} (corner "
+                              f"1/(2π·R·C)): CIN needs RS + Rin and COUT needs RC + RL at least that, which no stage "
+                              f"here reaches")
     pool = sol.pool
     if pool is not None and len(pool.distinct):
         top = float(pool.distinct.value[-1])
         if spec.min_rin_ohms > top / 2:
-            out.append(f"input resistance binds: Rin ≤ R1‖R2, at most {format_resistance(top / 2)} from the "
-                       f"resistors on hand (largest network {format_resistance(top)}; asked ≥ "
-                       f"{format_resistance(spec.min_rin_ohms)})")
+            out["rin"] = (f"input resistance binds: Rin ≤ R1‖R2, at most {format_resistance(top / 2)} from the "
+                          f"resistors on hand (largest network {format_resistance(top)}; asked ≥ "
+                          f"{format_resistance(spec.min_rin_ohms)})")
     return out
 
 

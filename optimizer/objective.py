@@ -61,6 +61,11 @@ def line_weight(qty):
     return int(round(FRAC_SCALE / int(qty)))
 
 
+def line_weights(qty) -> np.ndarray:
+    """line_weight per stock row (int64 array), 0 for empty rows."""
+    return np.array([line_weight(q) if q > 0 else 0 for q in np.asarray(qty)], dtype=np.int64)
+
+
 def stock_terms(usage: dict[int, int], qty_of: dict[int, int]) -> tuple[int, int]:
     """(lines emptied, Σ used·weight) for a usage {line: count}."""
     emptied = sum(1 for line, n in usage.items() if n >= qty_of[line])

@@ -76,8 +76,8 @@ def oracle(rstock, cstock, qlines, spec, *, depth=3, top=3, max_combos=2_000_000
         raise TooBig(f"{total} network assignments")
     opts = capacitor_options(cstock, 0.0, depth=2)
     cqty = np.asarray(cstock.qty, dtype=np.int64)
-    cweights = np.array([objective.line_weight(q) if q > 0 else 0 for q in cqty])
-    rweights = np.array([objective.line_weight(q) if q > 0 else 0 for q in rqty])
+    cweights = objective.line_weights(cqty)
+    rweights = objective.line_weights(rqty)
     best, caps_seen = {}, {}
     step = max(1, CHUNK // max(1, total // len(choices[0])))
     for s0 in range(0, len(choices[0]), step):  # in slices of the first position, to bound memory
