@@ -79,7 +79,7 @@ def _box_ok(vals, lo, hi, ctx) -> np.ndarray:
     """Bool per box: may it hold a tuple meeting the spec (see the module docstring)?"""
     spec = ctx.spec
     (r1a, r2a, e1a, e2a), (r1b, r2b, e1b, e2b) = ([v[i[:, k]] for k, v in enumerate(vals)] for i in (lo, hi))
-    ok = r1b * r2b / (r1b + r2b) >= spec.min_rin_ohms * (1 - 1e-12)  # Rin ≤ R1‖R2
+    ok = r1b * r2b / (r1b + r2b) >= spec.rin_floor * (1 - 1e-12)  # Rin ≤ R1‖R2
     ua, ub = e1a + e2a, e1b + e2b
     if spec.swing_pp > 0:
         ok &= ua * spec.swing_pp / (2 * spec.load_ohms) <= spec.supply_v - ctx.vce_min

@@ -172,7 +172,7 @@ def rc_window(brackets, betas, re1_lo, re1_hi, u, rth, spec, vt):
         a, z = rc_interval(ic_lo, ic_hi, re1_lo, u, spec, vt)
         rin_hi = rin_high(ic_lo, beta, re1_hi, rth, vt)  # RC does not enter it
         lo = np.maximum(lo, a)
-        hi = np.minimum(hi, np.where((rin_hi >= spec.min_rin_ohms) & (cap > 0) & (ic_lo <= cap), z, -np.inf))
+        hi = np.minimum(hi, np.where((rin_hi >= spec.rin_floor) & (cap > 0) & (ic_lo <= cap), z, -np.inf))
     return lo, hi
 
 
@@ -204,7 +204,7 @@ def exact_tuples(r1, r2, re1, re2, rc, spec, transistor, betas, vce_min, emit):
     Per entry: Rin ≤ R1‖R2, the emitter headroom, the IC bracket at each hFE corner and the RC
     window (module docstring); then per (entry, RC in the window) the gain bounds.
     """
-    keep = r1 * r2 / (r1 + r2) >= spec.min_rin_ohms * (1 - 1e-12)
+    keep = r1 * r2 / (r1 + r2) >= spec.rin_floor * (1 - 1e-12)
     u = re1 + re2
     if spec.swing_pp > 0:
         keep &= u * spec.swing_pp / (2 * spec.load_ohms) <= spec.supply_v - vce_min

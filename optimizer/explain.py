@@ -27,7 +27,7 @@ def reasons(sol, spec) -> list[str]:
         out.extend(list(_bounds(sol, spec).values()) or [
             f"no combination of the resistors on hand passes the first checks for "
             f"{'an' if spec.topology[0] in 'aeiou' else 'a'} {spec.topology} "
-            f"with Rin ≥ {spec.min_rin_ohms:g} Ω, gain {spec.gain:g} and {spec.swing_pp:g} V p-p on "
+            f"with Rin ≥ {spec.rin_floor:g} Ω, gain {spec.gain:g} and {spec.swing_pp:g} V p-p on "
             f"{spec.supply_v:g} V (the bias, gain, swing and headroom bounds rule every one out)"])
     b = near.best
     if "gain_low" in b:
@@ -41,7 +41,7 @@ def reasons(sol, spec) -> list[str]:
                    f"else met is {b['swing']:.3g} V p-p (asked {spec.swing_pp:g})")
     if "rin" in b:
         out["rin"] = (f"input resistance binds: the highest Rin with everything else met is {b['rin']:.4g} Ω "
-                   f"(asked ≥ {spec.min_rin_ohms:g})")
+                   f"(asked ≥ {spec.rin_floor:g})")
     if "current" in b:
         out["current"] = (f"supply current binds: the least with everything else met is {b['current'] * 1e3:.3g} mA "
                    f"(asked ≤ {spec.max_supply_a * 1e3:.3g} mA)")
@@ -73,7 +73,7 @@ def no_purchase_helps(sol, spec, hint_max_ohms: float) -> str | None:
     stock = sol.pool.stock if sol.pool is not None else None
     if stock is not None and len(stock.ohms):
         reach = 3 * max(float(max(stock.ohms)), hint_max_ohms)
-        if spec.min_rin_ohms > reach / 2:
+        if spec.rin_floor > reach / 2:
             return (f"no resistor bought would help: even three of the largest in series give R1‖R2 ≤ "
                     f"{format_resistance(reach / 2)}")
     return None
@@ -98,7 +98,7 @@ def _bounds(sol, spec) -> dict[str, str]:
     if b is not None and sol.options is not None and len(sol.options):
         c_max = float(sol.options.value.max())
         r = b.min_re2_ohms
-        if r - spec.source_ohms > max(spec.min_rin_ohms, 0.0) or r > spec.load_ohms:
+        if r - spec.source_ohms > max(spec.rin_floor, 0.0) or r > spec.load_ohms:
             out["low_cut"] = (f"low cut-off binds: the largest capacitance on hand, {format_capacitance(c_max)}, "
                               f"meets {spec.low_cut_hz:g} Hz only where it sees ≥ {format_resistance(r)} (corner "
                               f"1/(2π·R·C)): CIN needs RS + Rin and COUT needs RC + RL at least that, which no stage "
@@ -106,10 +106,10 @@ def _bounds(sol, spec) -> dict[str, str]:
     pool = sol.pool
     if pool is not None and len(pool.distinct):
         top = float(pool.distinct.value[-1])
-        if spec.min_rin_ohms > top / 2:
+        if spec.rin_floor > top / 2:
             out["rin"] = (f"input resistance binds: Rin ≤ R1‖R2, at most {format_resistance(top / 2)} from the "
                           f"resistors on hand (largest network {format_resistance(top)}; asked ≥ "
-                          f"{format_resistance(spec.min_rin_ohms)})")
+                          f"{format_resistance(spec.rin_floor)})")
     return out
 
 

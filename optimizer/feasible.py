@@ -61,7 +61,7 @@ def check(topology, r, q, spec, near: Near | None = None):
         sign_ok &= (g > 0) if topology == EMITTER_FOLLOWER else (g < 0)
         ok["gain"] &= np.abs(np.abs(g) / spec.gain - 1.0) <= spec.gain_tol + 1e-12
         ok["swing"] &= s["swing_pp"] >= spec.swing_pp
-        ok["rin"] &= s["rin"] >= spec.min_rin_ohms
+        ok["rin"] &= s["rin"] >= spec.rin_floor
         if spec.max_supply_a is not None:
             ok["current"] &= s["i_supply"] <= spec.max_supply_a
         if t.pd_max_w:

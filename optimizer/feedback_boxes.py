@@ -57,7 +57,7 @@ def feedback_chunks(g: dict, spec, transistor, betas):
 
     def box_ok(a, b, point):
         (rba, rca, e1a, e2a), (rbb, rcb, e1b, e2b) = a, b
-        ok = rbb >= spec.min_rin_ohms * (1 + g_min) * (1 - ROUND)
+        ok = rbb >= spec.rin_floor * (1 + g_min) * (1 - ROUND)
         ua, ub = e1a + e2a, e1b + e2b
         upper = None if point else (vcc, rba, rca + ua)
         rp_hi = parallel(rcb, rl, rbb)
@@ -78,7 +78,7 @@ def feedback_chunks(g: dict, spec, transistor, betas):
             y_in = (1 / rba + g_mu) * (1 + a_hi) + gm_hi / beta
             d_lo = 1 / (1 + rs * y_in)
             ok &= (d_hi * a_hi >= g_min) & (d_lo * a_lo <= g_max)
-            ok &= rbb / (1 + np.maximum(a_lo, g_min)) >= spec.min_rin_ohms * (1 - ROUND)
+            ok &= rbb / (1 + np.maximum(a_lo, g_min)) >= spec.rin_floor * (1 - ROUND)
             ok &= limits_ok(ic_lo, ic_lo, vce_min, spec, transistor, ROUND)
         return ok
 

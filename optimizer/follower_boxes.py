@@ -56,7 +56,7 @@ def follower_chunks(g: dict, spec, transistor, betas):
     def box_ok(a, b, point):
         (r1a, r2a, rea), (r1b, r2b, reb) = a, b
         rth_top = r1b * r2b / (r1b + r2b)
-        ok = rth_top >= spec.min_rin_ohms * (1 - ROUND)
+        ok = rth_top >= spec.rin_floor * (1 - ROUND)
         vth_x, rth_x = thevenin(vcc, r1b, r2a)  # the least IBE root
         upper = None if point else (*thevenin(vcc, r1a, r2b), rea)
         r_ac = parallel(reb, rl)

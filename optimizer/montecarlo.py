@@ -64,13 +64,13 @@ class MonteCarlo:
 
     def meeting(self, spec: Spec) -> np.ndarray:
         """Per-sample bool: gain within spec.gain·(1 ± gain_tol), swing ≥ spec.swing_pp,
-        rin ≥ spec.min_rin_ohms, supply current within spec.max_supply_a (when set),
+        rin ≥ spec.rin_floor, supply current within spec.max_supply_a (when set),
         converged and neither saturated nor cut off.  The low cut-off is not checked here."""
         s = self.samples
         mag = np.abs(s["gain"])
         ok = (mag >= spec.gain * (1 - spec.gain_tol)) & (mag <= spec.gain * (1 + spec.gain_tol))
         ok &= s["swing_pp"] >= spec.swing_pp
-        ok &= s["rin"] >= spec.min_rin_ohms
+        ok &= s["rin"] >= spec.rin_floor
         if spec.max_supply_a is not None:
             ok &= s["i_supply"] <= spec.max_supply_a
         return ok & s["converged"] & ~s["saturated"] & ~s["cutoff"]

@@ -120,4 +120,6 @@ def design_json(sol, choice, row, spec, *, locations=None, mc=None, yld=None) ->
 def spec_json(spec) -> dict:
     d = asdict(spec)
     d["temp_range_c"] = list(spec.temp_range_c)
+    d["rin_floor_ohms"] = spec.rin_floor
+    d["rin_floor_is_default"] = spec.rin_floor_is_default
     return d

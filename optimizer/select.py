@@ -233,14 +233,25 @@ def _stock_qty(pool) -> np.ndarray:
 
 
 
+PREFERENCES = ("balanced", "parts", "clean", "robust", "frugal")
+DEFAULT_PREFER = "balanced"
+DEFAULT_TIME_LIMIT_S = 10.0
+
+
 def find_designs(drawer, spec, *, top=3, depth=3, min_yield=None, progress=None, cancel=None,
-                 hints=True, seed=None) -> dict:
-    """The design result document (DEVELOPERS.md) for `spec` from an inventory Drawer."""
+                 hints=True, seed=None, prefer=DEFAULT_PREFER, time_limit_s=DEFAULT_TIME_LIMIT_S) -> dict:
+    """The design result document (DEVELOPERS.md) for `spec` from an inventory Drawer.
+
+    The document's "status" is "found" (designs non-empty), "infeasible" (proven: nothing in
+    the drawer meets the spec) or "unproven" (nothing found within `time_limit_s`, not proven
+    impossible); "optimal" says whether the trade-off set is proven complete.
+    """
     from . import explain, result
     from .hints import HINT_MAX_OHMS, shopping_hints
 
     doc = {"designs": [], "why": [], "hints": [], "spec": result.spec_json(spec),
-           "inventory": str(getattr(drawer, "path", "") or "")}
+           "inventory": str(getattr(drawer, "path", "") or ""), "status": "unproven", "optimal": False,
+           "unexplored": None}
     problems = spec.problems()
     if problems:
         doc["why"] = problems
@@ -281,6 +292,8 @@ def find_designs(drawer, spec, *, top=3, depth=3, min_yield=None, progress=None,
             doc["why"].append(skip)
         elif hints and qlines:
             doc["hints"] = shopping_hints(rstock, cstock, qlines, spec, sol, depth=depth, search=search)
+    doc["optimal"] = bool(sol.exhaustive)
+    doc["status"] = "found" if doc["designs"] else ("infeasible" if sol.exhaustive else "unproven")
     if progress:
         progress(1.0, "done")
     return doc

@@ -7,6 +7,18 @@ from dataclasses import asdict, dataclass
 
 from .stage import TOPOLOGIES
 
+# Defaults a practitioner assumes without saying them (one place: the CLI and the app read these).
+DEFAULT_MAX_THD = 0.01  # 1 % THD at the asked swing: a clean small-signal stage (common practice, no source)
+DEFAULT_MIN_VCE_V = 1.0  # quiescent VCE headroom above saturation (common practice, no source)
+RIN_FLOOR_SOURCE_RATIO = 10.0  # Rin ≥ 10 × the source resistance: < 1 dB loading (common practice, no source)
+RIN_FLOOR_MIN_OHMS = 1e3  # and never below 1 kΩ (common practice, no source)
+NOMINAL_C = 27.0
+
+
+def default_rin_floor(source_ohms: float) -> float:
+    """Ω: the input resistance asked for when the user names none: 10 × the source, at least 1 kΩ."""
+    return max(RIN_FLOOR_SOURCE_RATIO * float(source_ohms), RIN_FLOOR_MIN_OHMS)
+
 
 @dataclass(frozen=True)
 class Spec:
@@ -24,10 +36,31 @@ class Spec:
     source_ohms: float = 1e3
     swing_pp: float = 1.0
     low_cut_hz: float = 100.0
-    min_rin_ohms: float = 0.0
+    min_rin_ohms: float | None = None  # None: the default floor, see `rin_floor`
     max_supply_a: float | None = None
     temp_range_c: tuple[float, float] = (0.0, 50.0)
     max_parts_per_position: int = 3
+    max_thd: float = DEFAULT_MAX_THD
+    min_vce_v: float = DEFAULT_MIN_VCE_V
+
+    @property
+    def rin_floor(self) -> float:
+        """The input resistance every design must reach (Ω): the user's, else the default floor."""
+        return default_rin_floor(self.source_ohms) if self.min_rin_ohms is None else float(self.min_rin_ohms)
+
+    @property
+    def rin_floor_is_default(self) -> bool:
+        return self.min_rin_ohms is None
+
+    @property
+    def temps_c(self) -> tuple[float, ...]:
+        """The temperature corners (°C) every figure must hold at: both ends of the range, and 27 °C.
+
+        27 °C (SPICE's nominal, about a bench's room) is always one: the stage is built and
+        checked with a meter there, and the pruning bounds are derived there.
+        """
+        lo, hi = self.temp_range_c
+        return tuple(sorted({float(lo), NOMINAL_C, float(hi)}))
 
     def problems(self) -> list[str]:
         """Every reason the spec cannot be meant, as messages naming the option."""
@@ -57,13 +90,17 @@ class Spec:
             )
         if not self.low_cut_hz > 0:
             out.append(f"--low-cut: {self.low_cut_hz:g} Hz; expected a frequency above 0")
-        if not self.min_rin_ohms >= 0:
+        if self.min_rin_ohms is not None and not self.min_rin_ohms >= 0:
             out.append(f"--min-rin: {self.min_rin_ohms:g} Ω cannot be negative")
         if self.max_supply_a is not None and not self.max_supply_a > 0:
             out.append(f"--max-current: {self.max_supply_a:g} A must be positive")
         lo, hi = self.temp_range_c
         if not lo <= hi:
             out.append(f"--temp-range: {lo:g}..{hi:g} °C is empty")
+        if not 0 < self.max_thd < 1:
+            out.append(f"--max-thd: {self.max_thd:g}; expected a fraction between 0 and 1 (0.01 or 1%)")
+        if not 0 <= self.min_vce_v < max(self.supply_v, 0.0) or self.min_vce_v != self.min_vce_v:
+            out.append(f"--min-vce: {self.min_vce_v:g} V; expected at least 0 and below the supply")
         if not 1 <= self.max_parts_per_position <= 3:
             out.append(f"--depth: {self.max_parts_per_position}; expected 1, 2 or 3 parts per position")
         return out
@@ -87,5 +124,5 @@ class Bounds(Spec):
     def of(cls, spec: Spec, c_max_f: float) -> Bounds:
         r = math.inf if not c_max_f > 0 else 1.0 / (2 * math.pi * spec.low_cut_hz * c_max_f)
         base = asdict(spec)
-        base["min_rin_ohms"] = max(spec.min_rin_ohms, r - spec.source_ohms)
+        base["min_rin_ohms"] = max(spec.rin_floor, r - spec.source_ohms)
         return cls(**base, min_rc_ohms=max(0.0, r - spec.load_ohms), min_re2_ohms=r)
