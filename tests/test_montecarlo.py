@@ -62,8 +62,8 @@ def test_samples_lie_inside_the_worst_case_and_approach_it():
 def test_share_meeting_counts_the_spec():
     mc = monte_carlo("common-emitter", NETWORKS, n=5000, seed=2, **COMMON)
     nominal = float(np.median(np.abs(mc.gain)))
-    tight = Spec(gain=nominal, gain_tol=0.01, swing_pp=1.0)
-    loose = Spec(gain=nominal, gain_tol=0.5, swing_pp=1.0)
+    tight = Spec(gain=nominal, gain_tol=0.01, swing_pp=1.0, min_rin_ohms=0.0)
+    loose = Spec(gain=nominal, gain_tol=0.5, swing_pp=1.0, min_rin_ohms=0.0)
     assert 0.0 < mc.share_meeting(tight) < mc.share_meeting(loose) == 1.0
     # a swing beyond what any sample reaches fails every sample
     assert mc.share_meeting(Spec(gain=nominal, gain_tol=0.5, swing_pp=float(mc.swing_pp.max()) + 0.1)) == 0.0
