@@ -18,6 +18,8 @@ from __future__ import annotations
 
 import numpy as np
 
+from .stopwatch import poll
+
 from .ce_boxes import CHUNK, FRONTIER, LEAF, halve
 from .decompose import bracket_kw
 from .feasible import TRANSISTOR_PD_DERATING
@@ -39,6 +41,7 @@ def _search(vals, box_ok, leaf):
     lo = np.zeros((1, len(vals)), dtype=np.int64)
     hi = np.array([[len(v) - 1 for v in vals]], dtype=np.int64)
     while len(lo):
+        poll()
         keep = np.concatenate([_test(vals, lo[s:s + FRONTIER], hi[s:s + FRONTIER], box_ok)
                                for s in range(0, len(lo), FRONTIER)])
         lo, hi = lo[keep], hi[keep]

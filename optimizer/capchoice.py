@@ -28,6 +28,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from . import objective
+from .feasible import corner_names
 from .lowcut import LowCut
 from .stage import EMITTER_FOLLOWER
 
@@ -37,10 +38,10 @@ GRID_CHUNK = 200_000  # value combinations tested per call
 
 
 def dc_across(topology, row) -> dict[str, float]:
-    """Largest DC voltage (V) across each capacitor over the hFE corners; + faces the stage side."""
+    """Largest DC voltage (V) across each capacitor over the row's corners; + faces the stage side."""
     out_node = "ve" if topology == EMITTER_FOLLOWER else "vc"
     v = {"CIN": "vb", "COUT": out_node, "CE": "vn"}
-    return {p: max(float(row[f"min_{k}"]), float(row[f"max_{k}"])) for p, k in v.items()}
+    return {p: max(float(row[f"{c}_{k}"]) for c in corner_names(row)) for p, k in v.items()}
 
 
 @dataclass(frozen=True)

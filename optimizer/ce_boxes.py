@@ -25,6 +25,8 @@ from __future__ import annotations
 
 import numpy as np
 
+from .stopwatch import poll
+
 from . import swing as loadline
 from .bias import thevenin
 from .decompose import BRACKET_SLACK, bracket_kw, exact_tuples, ic_bracket, rc_window
@@ -57,6 +59,7 @@ def ce_tuples(g: dict, spec, transistor, betas, emit):
     lo = np.zeros((1, 4), dtype=np.int64)
     hi = np.array([[len(v) - 1 for v in vals]], dtype=np.int64)
     while len(lo):
+        poll()
         keep = np.concatenate([_box_ok(vals, lo[s:s + FRONTIER], hi[s:s + FRONTIER], ctx)
                                for s in range(0, len(lo), FRONTIER)])
         lo, hi = lo[keep], hi[keep]

@@ -8,13 +8,21 @@ all be built from the counts on hand.
 
 from __future__ import annotations
 
-from inventory.values import format_capacitance, format_resistance
+from inventory.values import format_capacitance, format_resistance, format_si
 
 from . import capchoice
 from . import swing as loadline
 from .analysis import analyze
 from .stage import Stage
 from .transistor import thermal_voltage
+
+
+def rin_text(spec) -> str:
+    """The Rin floor, saying where a default one comes from."""
+    text = format_si(spec.rin_floor, "Ω")
+    if spec.rin_floor_is_default:
+        text += f" (the default: 10 × the {format_si(spec.source_ohms, 'Ω')} source, at least 1 kΩ)"
+    return text
 
 
 def reasons(sol, spec) -> list[str]:
@@ -27,23 +35,29 @@ def reasons(sol, spec) -> list[str]:
         out.extend(list(_bounds(sol, spec).values()) or [
             f"no combination of the resistors on hand passes the first checks for "
             f"{'an' if spec.topology[0] in 'aeiou' else 'a'} {spec.topology} "
-            f"with Rin ≥ {spec.rin_floor:g} Ω, gain {spec.gain:g} and {spec.swing_pp:g} V p-p on "
+            f"with Rin ≥ {rin_text(spec)}, gain {spec.gain:g} and {spec.swing_pp:g} V p-p on "
             f"{spec.supply_v:g} V (the bias, gain, swing and headroom bounds rule every one out)"])
     b = near.best
     if "gain_low" in b:
-        out["gain"] = (f"gain binds: meeting everything else, the highest gain reachable at both hFE ends is "
+        out.append(f"gain binds: meeting everything else, the highest gain reachable at every corner is "
                    f"{b['gain_low']:.3g} (asked ≥ {g_lo:.3g})")
     if "gain_high" in b and "gain_low" not in b:
-        out["gain"] = (f"gain binds: meeting everything else, the lowest gain reachable is {b['gain_high']:.3g} "
+        out.append(f"gain binds: meeting everything else, the lowest gain reachable is {b['gain_high']:.3g} "
                    f"(asked ≤ {g_hi:.3g})")
     if "swing" in b:
-        out.append(f"swing binds: on {spec.supply_v:g} V the most clip-free swing at both hFE ends with everything "
+        out.append(f"swing binds: on {spec.supply_v:g} V the most clip-free swing at every corner with everything "
                    f"else met is {b['swing']:.3g} V p-p (asked {spec.swing_pp:g})")
     if "rin" in b:
-        out["rin"] = (f"input resistance binds: the highest Rin with everything else met is {b['rin']:.4g} Ω "
-                   f"(asked ≥ {spec.rin_floor:g})")
+        out.append(f"input resistance binds: the highest Rin with everything else met is "
+                   f"{format_si(b['rin'], 'Ω')} (asked ≥ {rin_text(spec)})")
+    if "vce" in b:
+        out.append(f"bias headroom binds: with everything else met, the most quiescent VCE at every corner is "
+                   f"{b['vce']:.3g} V (asked ≥ {spec.min_vce_v:g} V, --min-vce)")
+    if "thd" in b:
+        out.append(f"THD binds: the cleanest stage from this drawer gives {b['thd'] * 100:.2g} % at "
+                   f"{spec.swing_pp:g} V p-p (asked ≤ {spec.max_thd * 100:g} %, --max-thd)")
     if "current" in b:
-        out["current"] = (f"supply current binds: the least with everything else met is {b['current'] * 1e3:.3g} mA "
+        out.append(f"supply current binds: the least with everything else met is {b['current'] * 1e3:.3g} mA "
                    f"(asked ≤ {spec.max_supply_a * 1e3:.3g} mA)")
     if "ratings" in b:
         out.append("the transistor ratings bind (dissipation above 50 % of PD(max), IC(max) or VCEO below the supply)")
@@ -53,7 +67,7 @@ def reasons(sol, spec) -> list[str]:
         out.append("value combinations that meet the spec exist, but not enough parts are on hand to build "
                    "any of them at once (the same line would be needed at several positions)")
     if not out:
-        out.append("no value combination meets every part of the spec at both ends of the hFE range")
+        out.append("no value combination meets every part of the spec at every hFE and temperature corner")
     if not sol.exhaustive:
         out.extend(sol.notes)
     return out

@@ -63,12 +63,12 @@ def shopping_hints(rstock, cstock, qlines, spec, sol, *, depth, search, budget_s
                                      "polarised": True, "qty": 2})
             buy = f"2 × {format_capacitance(value)} {volts:g} V electrolytic"
         try:
-            trial = search(r2, c2, qlines, spec, top=1, depth=depth)
+            trial = search(r2, c2, qlines, spec, top=1, depth=depth, deadline=t0 + budget_s, spare_parts=0)
         except (ValueError, RuntimeError):
             continue
         if not trial.designs:
             continue
-        choice, row = trial.designs[0]
+        choice, row = trial.designs[0][:2]
         pos = _position_using(trial, choice, row, line)
         out.append({"position": pos, "buy": buy, "value": value, "line_added": line,
                     "effect": f"makes the spec feasible: the best design then uses {choice.score.parts} parts "

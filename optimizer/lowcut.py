@@ -19,6 +19,7 @@ import numpy as np
 
 from . import smallsignal
 from .bias import thevenin
+from .feasible import corner_names
 from .stage import COLLECTOR_FEEDBACK, EMITTER_FOLLOWER
 
 SHORT = smallsignal.SHORT_S
@@ -76,7 +77,7 @@ def meets_low_cut(topology, row, spec, cin, cout, ce):
     r = {k: row[k] for k in RESISTORS if k in row}
     w = 2 * np.pi * spec.low_cut_hz
     ok = True
-    for corner in ("min", "max"):
+    for corner in corner_names(row):
         y = _y(row, corner)
         h = transfer(topology, r, y, spec.source_ohms, spec.load_ohms, w, cin, cout, ce)
         hm = transfer(topology, r, y, spec.source_ohms, spec.load_ohms, w, np.inf, np.inf, np.inf)
@@ -92,7 +93,7 @@ class LowCut:
         self.r = {k: float(row[k]) for k in RESISTORS if k in row}
         self.w = 2 * np.pi * spec.low_cut_hz
         self.rs, self.rl = float(spec.source_ohms), float(spec.load_ohms)
-        self.y = [_y(row, c) for c in ("min", "max")]
+        self.y = [_y(row, c) for c in corner_names(row)]
         r = self.r
         self.h_mid2 = [float(np.abs(transfer(topology, r, y, self.rs, self.rl, self.w, np.inf, np.inf, np.inf)) ** 2)
                        for y in self.y]

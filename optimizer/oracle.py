@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from . import capchoice, lowcut, objective
+from . import capchoice, lowcut, objective, tradeoff
 from .candidates import OPTIONAL, POSITIONS, WINDOW_OHMS
 from .capacitors import capacitor_options
 from .feasible import check
@@ -64,6 +64,12 @@ def _best_caps(topology, row, spec, opts, qty, weights):
 
 def oracle(rstock, cstock, qlines, spec, *, depth=3, top=3, max_combos=2_000_000):
     """Sorted list of the best objective.Score per distinct design (values + transistor part), best `top`."""
+    best = _all_designs(rstock, cstock, qlines, spec, depth=depth, max_combos=max_combos)
+    return sorted(v[0] for v in best.values())[:top]
+
+
+def _all_designs(rstock, cstock, qlines, spec, *, depth, max_combos):
+    """(values, transistor part) → (best objective.Score, worst-corner THD, margin, supply current)."""
     topology = spec.topology
     positions = POSITIONS[topology]
     table = resistor_networks(rstock, depth, *WINDOW_OHMS)
@@ -84,7 +90,22 @@ def oracle(rstock, cstock, qlines, spec, *, depth=3, top=3, max_combos=2_000_000
         sub = [choices[0][s0:s0 + step]] + choices[1:]
         _enumerate(topology, positions, sub, table, usage, rqty, rweights, spec, qlines, opts, cqty, cweights,
                    best, caps_seen)
-    return sorted(best.values())[:top]
+    return best
+
+
+def oracle_front(rstock, cstock, qlines, spec, *, depth=3, spare=2, max_combos=2_000_000) -> list[tuple]:
+    """The trade-off set by plain enumeration: sorted distinct tradeoff.counts tuples of the designs
+    no other beats, among designs of at most `spare` parts more than the fewest (select.SPARE_PARTS)."""
+    best = _all_designs(rstock, cstock, qlines, spec, depth=depth, max_combos=max_combos)
+    if not best:
+        return []
+    vals = list(best.values())
+    parts = np.array([v[0].parts for v in vals])
+    keep = parts <= parts.min() + spare
+    c = tradeoff.counts(parts[keep], *(np.array([v[k] for v, ok in zip(vals, keep, strict=True) if ok])
+                                      for k in (1, 2, 3)))
+    front = c[tradeoff.nondominated(c)]
+    return sorted({tuple(int(x) for x in row) for row in front})
 
 
 def _enumerate(topology, positions, choices, table, usage, rqty, rweights, spec, qlines, opts, cqty, cweights,
@@ -130,5 +151,5 @@ def _enumerate(topology, positions, choices, table, usage, rqty, rweights, spec,
                                         emptied=int(r_emptied[j]) + ec + (1 if q.qty <= 1 else 0),
                                         used_frac=int(r_frac[j]) + fc + objective.line_weight(q.qty))
                 key = (tuple(float(x) for x in tup), q.name)
-                if key not in best or score < best[key]:
-                    best[key] = score
+                if key not in best or score < best[key][0]:
+                    best[key] = (score, float(row["thd"]), float(row["rob"]), float(row["isup"]))

@@ -13,7 +13,7 @@ from dataclasses import asdict
 
 import numpy as np
 
-from . import capchoice, network_tree
+from . import capchoice, feasible, network_tree
 from .analysis import analyze
 from .montecarlo import monte_carlo
 from .stage import Stage
@@ -80,8 +80,8 @@ def _orientation(sol, row, report) -> list[str]:
     return out
 
 
-def design_json(sol, choice, row, spec, *, locations=None, mc=None, yld=None) -> dict:
-    """One entry of "designs"."""
+def design_json(sol, choice, row, spec, *, locations=None, mc=None, yld=None, labels=()) -> dict:
+    """One entry of "designs"; `labels` are the trade-off labels it wins (tradeoff.LABELS)."""
     typical = stage_of(sol, choice, row, spec)
     q = sol.qlines[choice.q]
     report = analyze(typical, spec.swing_pp)
@@ -111,10 +111,30 @@ def design_json(sol, choice, row, spec, *, locations=None, mc=None, yld=None) ->
         "response": {"freq_hz": data["response"]["freq_hz"], "gain_db": data["response"]["gain_db"]},
         "mc": None,
     }
+    out["best_for"] = list(labels)
+    out["score"].update(trade_off_json(row))
+    out["corners"] = corners_json(row, spec)
     if mc is not None:
         out["mc"] = {"gain": [float(g) for g in np.asarray(mc.samples["gain"])[:MC_KEPT]], "n": int(mc.n),
                      "seed": int(mc.seed)}
     return out
+
+
+def trade_off_json(row) -> dict:
+    """The trade-off counts of a row (worst over every corner), SI units and fractions."""
+    return {"thd": float(row["thd"]), "robustness": float(row["rob"]), "supply_a": float(row["isup"])}
+
+
+def corners_json(row, spec) -> dict:
+    """Per corner ("min", "max" at 27 °C; "min_lo" … at the temperature range's ends): its hFE (BF at
+    27 °C), temperature and the screened DC points and gain, for the meter checks' ranges."""
+    q_corners = {}
+    for c in feasible.corner_names(row):
+        end, _, tag = c.partition("_")
+        temp = {"": 27.0, "lo": float(min(spec.temps_c)), "hi": float(max(spec.temps_c))}[tag]
+        q_corners[c] = {"hfe_end": end, "temp_c": temp,
+                        **{k: float(row[f"{c}_{k}"]) for k in ("vb", "ve", "vc", "gain")}}
+    return q_corners
 
 
 def spec_json(spec) -> dict:

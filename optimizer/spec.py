@@ -97,8 +97,8 @@ class Spec:
         lo, hi = self.temp_range_c
         if not lo <= hi:
             out.append(f"--temp-range: {lo:g}..{hi:g} °C is empty")
-        if not 0 < self.max_thd < 1:
-            out.append(f"--max-thd: {self.max_thd:g}; expected a fraction between 0 and 1 (0.01 or 1%)")
+        if not 0 < self.max_thd <= 1:
+            out.append(f"--max-thd: {self.max_thd:g}; expected a fraction above 0 and at most 1 (0.01 or 1%)")
         if not 0 <= self.min_vce_v < max(self.supply_v, 0.0) or self.min_vce_v != self.min_vce_v:
             out.append(f"--min-vce: {self.min_vce_v:g} V; expected at least 0 and below the supply")
         if not 1 <= self.max_parts_per_position <= 3:

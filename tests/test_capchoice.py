@@ -20,7 +20,7 @@ from optimizer import capchoice, lowcut, objective
 from optimizer.capacitors import capacitor_options
 from optimizer.feasible import check
 from optimizer.oracle import _best_caps
-from tests.demo_job import JOB
+from tests.demo_job import JOB_LEGACY as JOB
 from tests.test_select_oracle import qline
 
 Q = qline(30, "BC547B", 200, 450)

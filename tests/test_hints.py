@@ -14,10 +14,11 @@ from optimizer.explain import reasons
 from optimizer.hints import shopping_hints
 from optimizer.select import search
 from optimizer.spec import Spec
+from tests.demo_job import LEGACY
 from tests.test_select_oracle import CAPS, QS, capacitors, resistors
 
 SPEC = Spec(gain=10, gain_tol=0.05, supply_v=12, load_ohms=22e3, source_ohms=1e3, swing_pp=5, low_cut_hz=30,
-            min_rin_ohms=8e3)
+            min_rin_ohms=8e3, **LEGACY)
 GOOD = [(2, 220e3, 2), (3, 20e3, 1), (4, 12.1e3, 2), (5, 680.0, 2), (6, 1e3, 1), (7, 27e3, 1)]
 
 

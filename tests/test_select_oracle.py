@@ -1,9 +1,10 @@
 """The solver against the exhaustive oracle (optimizer/oracle.py) on small drawers.
 
 The oracle is plain enumeration: every network per position, every capacitor
-combination, every transistor line, the same physics and objective, no pruning,
-no budget order and no CP-SAT.  Equal objective values (not equal designs: ties
-may come back either way) show the decomposition and the CP-SAT model are exact.
+combination, every transistor line, the same physics and trade-off counts, no pruning,
+no budget order, no lazy front and no CP-SAT.  Equal trade-off sets (as sets of counts:
+designs with equal counts may come back either way) and the same preferred counts for
+every preference show the search is exact.
 """
 
 from __future__ import annotations
@@ -17,7 +18,8 @@ from hypothesis import strategies as st
 
 from inventory.parts import Part
 from optimizer.candidates import QLine, transistor_of
-from optimizer.oracle import TooBig, oracle
+from optimizer import tradeoff
+from optimizer.oracle import TooBig, oracle_front
 from optimizer.select import search
 from optimizer.spec import Spec
 
@@ -51,9 +53,15 @@ CAPS = capacitors([(40, 10e-6, 25.0, True, 3), (41, 1e-6, 50.0, False, 2), (42, 
 QS = [qline(50, "BC547B", 200, 450), qline(51, "2N3904", 100, 300, qty=1)]
 
 
-def solver_scores(rs, cs, qs, spec, depth, top=3):
-    sol = search(rs, cs, qs, spec, top=top, depth=depth)
-    return [c.score for c, _ in sol.designs], sol
+SPEC_CLEAN = Spec(gain=10, gain_tol=0.05, supply_v=12, load_ohms=22e3, source_ohms=1e3, swing_pp=2,
+                  low_cut_hz=30, min_rin_ohms=8e3)  # 1 % THD, 1 V VCE, 0..50 °C: the defaults
+PREFERENCES = ("balanced", "parts", "clean", "robust", "frugal")
+
+
+def solver_front(rs, cs, qs, spec, depth, prefer="balanced", top=5):
+    sol = search(rs, cs, qs, spec, top=top, depth=depth, prefer=prefer)
+    got = [] if sol.front_counts is None else sorted({tuple(int(x) for x in r) for r in sol.front_counts})
+    return got, sol
 
 
 def check_stock(sol, rs, cs, qs):
@@ -63,63 +71,90 @@ def check_stock(sol, rs, cs, qs):
     qty = {int(a): int(b) for a, b in zip(rs.line, rs.qty, strict=True)}
     qty.update({int(a): int(b) for a, b in zip(cs.line, cs.qty, strict=True)})
     qty.update({q.line: q.qty for q in qs})
-    for choice, row in sol.designs:
+    for choice, row, _ in sol.designs:
         for use in uses_of(sol, choice, row):
             assert use["qty"] <= qty[use["line"]], (use, qty[use["line"]])
 
 
-@pytest.mark.parametrize("lines,depth", [
+def check_preferred(sol, want, prefer):
+    """designs[0] is the oracle set's best for `prefer`, and each label sits on its winner."""
+    if not want:
+        assert sol.designs == []
+        return
+    c = np.array(want)
+    first = sol.designs[0]
+    row_counts = tuple(int(x) for x in tradeoff.counts([first[0].score.parts], [first[1]["thd"]],
+                                                       [first[1]["rob"]], [first[1]["isup"]])[0])
+    assert row_counts == tuple(c[tradeoff.preference_order(c, prefer)[0]])
+    assert prefer in first[2]
+    for choice, row, labels in sol.designs:
+        mine = tuple(int(x) for x in tradeoff.counts([choice.score.parts], [row["thd"]], [row["rob"]],
+                                                     [row["isup"]])[0])
+        for lab in labels:
+            assert mine == tuple(c[tradeoff.preference_order(c, lab)[0]]), lab
+
+
+CASES = [
     ([(2, 220e3, 2), (3, 20e3, 1), (4, 12.1e3, 2), (5, 680.0, 2), (6, 1e3, 1), (7, 27e3, 1), (8, 150e3, 1),
-      (9, 12e3, 1)], 1),
-    ([(2, 110e3, 2), (3, 10e3, 2), (4, 680.0, 3)], 2),  # 10k + 10k = 20k etc. only as networks
-    ([(2, 22e3, 1), (3, 22e3, 1), (4, 10e3, 1)], 2),  # infeasible: both sides must agree on "none"
-])
-def test_solver_matches_oracle(lines, depth):
+      (9, 12e3, 1)], 1, 15),
+    ([(2, 100e3, 1), (3, 10e3, 1), (4, 20e3, 1), (5, 1e3, 1), (6, 680.0, 1), (7, 12e3, 1), (8, 27e3, 1),
+      (9, 12.1e3, 1)], 1, 2),  # one of each line: counts decide which tuples survive
+    ([(2, 47e3, 2), (3, 10e3, 2), (4, 4.7e3, 2), (5, 470.0, 2), (6, 1e3, 1), (7, 220.0, 1)], 1, 0),  # none
+]
+
+
+@pytest.mark.parametrize("lines,depth,size", CASES)
+@pytest.mark.parametrize("prefer", PREFERENCES)
+def test_trade_off_set_matches_oracle(lines, depth, size, prefer):
     rs = resistors(lines)
-    got, sol = solver_scores(rs, CAPS, QS, SPEC, depth)
-    want = oracle(rs, CAPS, QS, SPEC, depth=depth, top=3)
+    want = oracle_front(rs, CAPS, QS, SPEC_CLEAN, depth=depth)
+    assert len(want) == size  # the case is what it claims (a set of this size, or none)
+    got, sol = solver_front(rs, CAPS, QS, SPEC_CLEAN, depth, prefer=prefer)
     assert got == want
+    assert sol.exhaustive
+    check_preferred(sol, want, prefer)
     check_stock(sol, rs, CAPS, QS)
 
 
-def test_shared_stock_forces_a_network():
-    # One of each line: no value can serve two positions, so counts decide which tuples survive.
-    rs = resistors([(2, 100e3, 1), (3, 10e3, 1), (4, 20e3, 1), (5, 1e3, 1), (6, 680.0, 1), (7, 12e3, 1),
-                    (8, 27e3, 1), (9, 12.1e3, 1)])
-    spec = SPEC
-    got, sol = solver_scores(rs, CAPS, QS, spec, 1)
-    want = oracle(rs, CAPS, QS, spec, depth=1, top=3)
-    assert got == want
-    check_stock(sol, rs, CAPS, QS)
+def test_networks_only_infeasible_at_depth_2():
+    # 110k, 10k and 680R two at a time: the values a clean gain of 10 needs come only as networks,
+    # and none meets 1 % THD at 2 V p-p with Rin ≥ 8 k; both sides must agree on "none".
+    rs = resistors([(2, 110e3, 2), (3, 10e3, 2), (4, 680.0, 3)])
+    want = oracle_front(rs, CAPS, QS, SPEC_CLEAN, depth=2)
+    got, sol = solver_front(rs, CAPS, QS, SPEC_CLEAN, 2)
+    assert got == want == []
+    assert sol.exhaustive
 
 
 drawer = st.lists(st.tuples(st.sampled_from(POOL), st.integers(1, 3)), min_size=2, max_size=6)
 
 
-def _run_case(entries, depth, spec):
+def _run_case(entries, depth, spec, prefer="balanced"):
     rs = resistors([(i + 2, v, q) for i, (v, q) in enumerate(entries)])
     try:
-        want = oracle(rs, CAPS, QS, spec, depth=depth, top=3, max_combos=1_500_000)
+        want = oracle_front(rs, CAPS, QS, spec, depth=depth, max_combos=1_500_000)
     except TooBig:
         return
-    got, sol = solver_scores(rs, CAPS, QS, spec, depth)
+    got, sol = solver_front(rs, CAPS, QS, spec, depth, prefer=prefer)
     assert got == want
+    check_preferred(sol, want, prefer)
     check_stock(sol, rs, CAPS, QS)
 
 
 @settings(max_examples=6, deadline=None, derandomize=True, suppress_health_check=[HealthCheck.too_slow])
-@given(drawer)
-def test_random_drawers_depth1_quick(entries):
-    _run_case(entries, 1, SPEC)
+@given(drawer, st.sampled_from(PREFERENCES))
+def test_random_drawers_depth1_quick(entries, prefer):
+    _run_case(entries, 1, SPEC_CLEAN, prefer)
 
 
 @pytest.mark.fuzz
 @settings(max_examples=60, deadline=None, derandomize=True, suppress_health_check=[HealthCheck.too_slow])
-@given(drawer, st.sampled_from([1, 2]), st.sampled_from([3.0, 5.0]), st.sampled_from([0.05, 0.1]))
-def test_random_drawers_fuzz(entries, depth, swing, tol):
+@given(drawer, st.sampled_from([1, 2]), st.sampled_from([1.0, 3.0]), st.sampled_from([0.05, 0.1]),
+       st.sampled_from(PREFERENCES), st.sampled_from([0.01, 0.03]))
+def test_random_drawers_fuzz(entries, depth, swing, tol, prefer, thd):
     spec = Spec(gain=10, gain_tol=tol, supply_v=12, load_ohms=22e3, source_ohms=1e3, swing_pp=swing,
-                low_cut_hz=30, min_rin_ohms=8e3)
-    _run_case(entries, depth, spec)
+                low_cut_hz=30, min_rin_ohms=8e3, max_thd=thd)
+    _run_case(entries, depth, spec, prefer)
 
 
 @pytest.mark.fuzz

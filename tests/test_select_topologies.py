@@ -1,9 +1,9 @@
 """Emitter follower and collector feedback: the solver against brute force.
 
 Two independent references, both plain enumeration with the same physics and no pruning:
-  * optimizer.oracle.oracle: every network per position, every capacitor combination, every
-    transistor line, scored with the same objective (equal objective values show the box
-    search and the CP-SAT model are exact);
+  * optimizer.oracle.oracle_front: every network per position, every capacitor combination, every
+    transistor line, the same physics and the same trade-off counts (equal trade-off sets show the
+    box search, the lazy front and the CP-SAT realisation are exact);
   * the full mesh of value tuples through feasible.check: the box search (follower_boxes.py,
     feedback_boxes.py) must pass on every tuple that meets the spec, on value sets far larger
     than the oracle can take.
@@ -13,6 +13,7 @@ spec must be answered, with reasons, instead of running out of memory.
 
 from __future__ import annotations
 
+import time
 from pathlib import Path
 
 import numpy as np
@@ -23,10 +24,10 @@ from hypothesis import strategies as st
 from optimizer.feasible import check
 from optimizer.feedback_boxes import feedback_chunks
 from optimizer.follower_boxes import follower_chunks
-from optimizer.oracle import TooBig, oracle
+from optimizer.oracle import TooBig, oracle_front
 from optimizer.spec import Spec
 from optimizer.stage import COLLECTOR_FEEDBACK, EMITTER_FOLLOWER
-from tests.test_select_oracle import CAPS, POOL, QS, check_stock, resistors, solver_scores
+from tests.test_select_oracle import CAPS, POOL, QS, check_preferred, check_stock, resistors, solver_front
 
 # Our own scenarios: a follower driving 10 kΩ, an inverting gain-of-4 stage with feedback.
 FOLLOWER = Spec(topology=EMITTER_FOLLOWER, gain=0.9, gain_tol=0.08, supply_v=12, load_ohms=10e3, source_ohms=1e3,
@@ -36,15 +37,16 @@ FEEDBACK = Spec(topology=COLLECTOR_FEEDBACK, gain=4, gain_tol=0.15, supply_v=12,
 DEMO = Path(__file__).resolve().parents[1] / "inventory" / "demo" / "drawer.csv"
 
 
-def _against_oracle(entries, depth, spec, max_combos=1_500_000):
-    """Equal score lists (solver vs oracle); None when the oracle cannot take the drawer."""
+def _against_oracle(entries, depth, spec, max_combos=1_500_000, prefer="balanced"):
+    """Equal trade-off sets (solver vs oracle); None when the oracle cannot take the drawer."""
     rs = resistors([(i + 2, v, q) for i, (v, q) in enumerate(entries)])
     try:
-        want = oracle(rs, CAPS, QS, spec, depth=depth, top=3, max_combos=max_combos)
+        want = oracle_front(rs, CAPS, QS, spec, depth=depth, max_combos=max_combos)
     except TooBig:
         return None
-    got, sol = solver_scores(rs, CAPS, QS, spec, depth)
+    got, sol = solver_front(rs, CAPS, QS, spec, depth, prefer=prefer)
     assert got == want
+    check_preferred(sol, want, prefer)
     check_stock(sol, rs, CAPS, QS)
     return got
 
@@ -55,8 +57,9 @@ def _against_oracle(entries, depth, spec, max_combos=1_500_000):
     (FEEDBACK, [(220e3, 1), (4.7e3, 2), (1e3, 1), (680.0, 1), (100e3, 1), (10e3, 1)], 1),
     (FEEDBACK, [(110e3, 2), (4.7e3, 1), (1e3, 1)], 2),  # RB = 220k only as 110k + 110k
 ])
-def test_matches_oracle(spec, entries, depth):
-    got = _against_oracle(entries, depth, spec, max_combos=3_000_000)
+@pytest.mark.parametrize("prefer", ["balanced", "clean", "frugal"])
+def test_matches_oracle(spec, entries, depth, prefer):
+    got = _against_oracle(entries, depth, spec, max_combos=3_000_000, prefer=prefer)
     assert got, "the case was chosen to have designs; an empty answer here tests nothing"
 
 
@@ -167,7 +170,9 @@ def test_impossible_spec_on_demo_drawer_depth3(spec):
     from inventory.drawer import Drawer
     from optimizer.select import find_designs
 
-    doc = find_designs(Drawer.load(DEMO), spec, depth=3, hints=False)
+    t0 = time.perf_counter()
+    doc = find_designs(Drawer.load(DEMO), spec, depth=3, hints=False, time_limit_s=600)
     assert doc["designs"] == []
     assert doc["why"] and all(isinstance(w, str) and w for w in doc["why"])
-    assert doc["search"]["exhaustive"]
+    assert doc["search"]["exhaustive"], f"not proven in {time.perf_counter() - t0:.1f} s"
+    assert doc["status"] == "infeasible" and doc["optimal"]
