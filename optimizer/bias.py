@@ -213,10 +213,12 @@ def _initial_guess(a0, ab, ac, d0, db, dc, is_a, bf, br, vaf_v, vt):
     return vbe, vbc
 
 
-def solve_operating_point(net: Network, is_a, bf, br, vaf_v, vt_v):
+def solve_operating_point(net: Network, is_a, bf, br, vaf_v, vt_v, guess=None):
     """Newton solve of the junction voltages; returns dict of 1-D arrays.
 
     Inputs are 1-D arrays of one length n or scalars (one value for every candidate).
+    guess: optional (vbe, vbc) arrays (V) to start from instead of the forward-active estimate,
+    e.g. the quiescent point when solving the same stage along a signal swing.
     Keys: vbe, vbc, ic, ib (V, A), converged (bool), iterations (int, the most any candidate used).
     f1 = VB − VE − VBE = 0 and f2 = VB − VC − VBC = 0 are solved jointly; the
     reported currents are `terminal_currents` at the converged junction voltages.
@@ -225,7 +227,10 @@ def solve_operating_point(net: Network, is_a, bf, br, vaf_v, vt_v):
     n = shape[0] if shape else 1
     a0, ab, ac, d0, db, dc = (np.broadcast_to(x, (n,)) for x in (
         net.b0 - net.e0, net.rbb + net.re, net.rbc + net.re, net.b0 - net.c0, net.rbb - net.rcb, net.rbc - net.rcc))
-    vbe, vbc = _initial_guess(a0, ab, ac, d0, db, dc, is_a, bf, br, vaf_v, vt_v)
+    if guess is None:
+        vbe, vbc = _initial_guess(a0, ab, ac, d0, db, dc, is_a, bf, br, vaf_v, vt_v)
+    else:
+        vbe, vbc = (np.array(np.broadcast_to(np.asarray(g, dtype=float), (n,))) for g in guess)
     two_vt = 2.0 * float(np.min(vt_v)) if n else 0.0
     converged = np.zeros(n, dtype=bool)
     idx = np.arange(n)

@@ -38,7 +38,7 @@ POSITIONS = {
 }
 OPTIONAL = {COMMON_EMITTER: ("RE1", "RE2"), EMITTER_FOLLOWER: (), COLLECTOR_FEEDBACK: ("RE1", "RE2")}
 CAP_POSITIONS = ("CIN", "COUT", "CE")
-CHUNK = 200_000
+CHUNK = 32_768
 
 
 @dataclass(frozen=True)
@@ -130,8 +130,7 @@ def tuples(topology: str, profile: dict, pool: Pool, spec, q: QLine):
         return
     betas = (q.transistor.hfe_min, q.transistor.hfe_max)
     if topology == COMMON_EMITTER:
-        out = []
-        ce_boxes.ce_tuples(g, spec, q.transistor, betas, out.append)
+        out = ce_boxes.ce_chunks(g, spec, q.transistor, betas)
     else:  # generators: the surviving tuples stream through, never all in memory at once
         boxes = follower_boxes.follower_chunks if topology == EMITTER_FOLLOWER else feedback_boxes.feedback_chunks
         out = boxes(g, spec, q.transistor, betas)

@@ -34,7 +34,7 @@ from .network_table import ragged
 
 LEAF = 64  # tuples (R1, R2, RE1, RE2) in a box handed to the exact bounds
 FRONTIER = 200_000  # boxes evaluated per call
-CHUNK = 1_000_000  # tuples per call of the exact bounds
+CHUNK = 100_000  # tuples per call of the exact bounds (a call then holds well under 100 MB)
 BOX_STEPS = 3  # contraction steps for a box's corners: true bounds, left open (a box spans far more than they)
 DIMS = ("R1", "R2", "RE1", "RE2")
 
@@ -44,6 +44,12 @@ def ce_tuples(g: dict, spec, transistor, betas, emit):
 
     `emit(chunk)` receives dicts position → ohms arrays.  betas: the hFE corners (at 27 °C).
     """
+    for chunk in ce_chunks(g, spec, transistor, betas):
+        emit(chunk)
+
+
+def ce_chunks(g: dict, spec, transistor, betas):
+    """`ce_tuples` as a generator: the surviving tuples stream through, never all in memory at once."""
     if not all(len(g[p]) for p in ("R1", "R2", "RC", "RE1", "RE2")):
         return
     # |gain| < (RC‖RL)/RE1 < RL/RE1 bounds RE1 alone; the capacitors' floors (spec.Bounds) RC and RE2.
@@ -66,7 +72,7 @@ def ce_tuples(g: dict, spec, transistor, betas, emit):
         size = np.prod(hi - lo + 1, axis=1)
         leaf = size <= LEAF
         if leaf.any():
-            _leaves(vals, lo[leaf], hi[leaf], ctx, emit)
+            yield from _leaves(vals, lo[leaf], hi[leaf], ctx)
         lo, hi = halve(vals, lo[~leaf], hi[~leaf])
 
 
@@ -116,7 +122,7 @@ def halve(vals, lo, hi):
     return np.concatenate([lo, lo2]), np.concatenate([hi1, hi])
 
 
-def _leaves(vals, lo, hi, ctx, emit):
+def _leaves(vals, lo, hi, ctx):
     """Every tuple of the leaf boxes, through the exact per-tuple bounds, about CHUNK at a time."""
     n = hi - lo + 1
     size = np.prod(n, axis=1)
@@ -132,5 +138,7 @@ def _leaves(vals, lo, hi, ctx, emit):
             cols.append(vals[k][lo[sl][owner, k] + t % nk])
             t = t // nk
         re2, re1, r2, r1 = cols
-        exact_tuples(r1, r2, re1, re2, ctx.rc, ctx.spec, ctx.transistor, ctx.betas, ctx.vce_min, emit)
+        out = []
+        exact_tuples(r1, r2, re1, re2, ctx.rc, ctx.spec, ctx.transistor, ctx.betas, ctx.vce_min, out.append)
+        yield from out
         first = last
