@@ -13,7 +13,7 @@ from dataclasses import asdict
 
 import numpy as np
 
-from . import capchoice, network_tree
+from . import capchoice, deck, network_tree
 from .analysis import analyze
 from .montecarlo import monte_carlo
 from .stage import Stage
@@ -111,6 +111,7 @@ def design_json(sol, choice, row, spec, *, locations=None, mc=None, yld=None) ->
         "response": {"freq_hz": data["response"]["freq_hz"], "gain_db": data["response"]["gain_db"]},
         "mc": None,
     }
+    out["netlist"] = deck.design_netlist(typical, parts, report.capacitors)  # README: the netlist contract
     if mc is not None:
         out["mc"] = {"gain": [float(g) for g in np.asarray(mc.samples["gain"])[:MC_KEPT]], "n": int(mc.n),
                      "seed": int(mc.seed)}
