@@ -69,3 +69,36 @@ DESIGNS = {
         "RB": L(60, 1e6), "RC": S(L(33, 4.7e3), L(33, 4.7e3)), "CIN": L(92, 1e-6)}, hfe=(160.0, 400.0),
         q_line=111, part="BC337-25"),
 }
+
+
+def full_design(d: dict, spec: dict = SPEC, mc: dict | None = None) -> dict:
+    """A design document entry for a hand-made design: the analysis' figures at typical hFE and both ends,
+    its response, warnings and cautions, and its deck, as `design --save` writes them."""
+    from optimizer.analysis import analyze
+    from optimizer.deck import design_netlist, stage_of_design
+
+    out = dict(d)
+    stage = stage_of_design(d, spec)
+    report = analyze(stage, spec.get("swing_pp"))
+    data = report.to_json()
+    out["predicted"] = data["predicted"]
+    out["at_hfe"] = {c: analyze(stage_of_design(d, spec, bf=d["hfe"][c]), spec.get("swing_pp")).to_json()["predicted"]
+                     for c in ("min", "max")}
+    out["response"] = {"freq_hz": data["response"]["freq_hz"], "gain_db": data["response"]["gain_db"]}
+    out["warnings"], out["cautions"] = data["warnings"], data["cautions"]
+    lines = {}
+    for pos, part in d["parts"].items():
+        for line in _lines(part.get("network", {"line": part.get("line")})):
+            lines[line] = lines.get(line, 0) + 1
+    out["uses"] = [{"line": k, "qty": v} for k, v in sorted(lines.items())]
+    out["locations"] = {str(k): f"{'ABCD'[k % 4]}{k % 7 + 1}" for k in lines}
+    out["yield"], out["mc"] = 0.9, mc
+    out["netlist"] = design_netlist(stage, d["parts"], report.capacitors)
+    return out
+
+
+def _lines(node: dict) -> list[int]:
+    for key in ("series", "parallel"):
+        if key in node:
+            return [x for n in node[key] for x in _lines(n)]
+    return [int(node["line"])]
