@@ -10,10 +10,12 @@ import re
 
 import pytest
 
+from inventory.values import format_capacitance, format_resistance
 from optimizer.analysis import analyze
 from optimizer.deck import stage_of_design
 from optimizer.meter import meter_checks
 from tests.deck_lint import lint
+from tests.test_deck import spice_reads
 from tests.sheet_files import save_demo, save_networks
 from tui.cli import main
 from tui.export.plots import decade_label
@@ -66,12 +68,13 @@ def test_svg_labels_every_part_with_its_rkm_value(saved, capsys, pick):
     design = doc["designs"][pick - 1]
     code, out, _ = run(capsys, "sheet", str(saved["networks"]), "--pick", str(pick), "--format", "svg")
     assert code == 0 and out.lstrip().startswith("<svg")
-    text = " ".join(re.findall(r">([^<>]+)<", out))
-    for name in leaf_names(design):
-        assert re.search(rf"(^|\s){re.escape(name)}(\s|$)", text), name
+    text = " ".join(t.strip() for t in re.findall(r">([^<>]+)<", out))
+    assert "Q1" in text and design["parts"]["Q1"]["part"] in text
     for line in design["netlist"].splitlines():
-        if line[:1] == "R":  # the deck's SPICE value, in RKM on the drawing: 4.7k → 4k7, 470 → 470R
-            assert re.search(r"\d+[RkM]\d*|\d+R", text)
+        if line[:1] in "RC":  # each part beside its value in RKM (IEC 60062): 4.7k → 4k7, 470 → 470R
+            name, value = line.split()[0], spice_reads(line.split()[3])
+            rkm = format_resistance(value) if name[0] == "R" else format_capacitance(value)
+            assert re.search(rf"(^|\s){re.escape(name)}\s+{re.escape(rkm)}(\s|$)", text), (name, rkm)
 
 
 def test_markdown_holds_the_sheet(saved, capsys):

@@ -25,7 +25,7 @@ header { border-left: 5mm solid #1d3557; padding: 1mm 0 1mm 3mm; margin-bottom: 
 header h1 { font-size: 14pt; margin: 0; letter-spacing: 0.02em; }
 header p { margin: 0.5mm 0 0; color: #4a5563; }
 h2 { font-size: 10.5pt; margin: 3mm 0 1.5mm; color: #1d3557; border-bottom: 0.3mm solid #c8553d; }
-.schematic svg { display: block; width: 100%; height: auto; max-height: 105mm; }
+.schematic svg { display: block; width: 100%; height: auto; max-height: 120mm; }
 table { border-collapse: collapse; width: 100%; }
 th, td { text-align: left; padding: 0.6mm 1.5mm; border-bottom: 0.2mm solid #d5dae1; vertical-align: top; }
 th { font-weight: 600; background: #eef1f5; }
