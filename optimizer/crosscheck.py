@@ -125,7 +125,7 @@ def _corner(ngspice: str, deck: str, stage, spec: dict, timeout_s: float) -> dic
                     "ac dec 200 0.01 1e5", f"wrdata {folder / 'sweep.txt'} v(out)"]
         if amp > 0:
             control += [f"tran {per / STEPS:.6g} {PERIODS * per:.6g} 0 {per / STEPS:.6g}",
-                        f"linearize v(out)", f"wrdata {folder / 'tran.txt'} v(out)"]
+                        "linearize v(out)", f"wrdata {folder / 'tran.txt'} v(out)"]
         control += ["quit", ".endc", ".end"]
         (folder / "bench.cir").write_text(text.replace("\n.end\n", "\n" + "\n".join(control) + "\n"))
         done = subprocess.run([ngspice, "-b", "bench.cir"], capture_output=True, text=True, timeout=timeout_s,
