@@ -112,12 +112,15 @@ def test_cir_deck_keeps_the_contract_before_the_bench(saved, capsys):
     (["sheet", "{demo}", "--pick", "9", "--format", "csv"], "holds 2 design(s)"),
     (["sheet", "{demo}", "--pick", "two", "--format", "csv"], "--pick: 'two' is not a whole number"),
     (["sheet", "{demo}", "--format", "csv", "-o", "{folder}/no/such/dir/x.csv"], "-o "),
+    (["sheet", "{partless}", "--format", "html"], "design 1 cannot be read back (missing 'parts')"),
 ])
 def test_bad_input_is_one_line_and_exit_2(saved, capsys, argv, expect):
     garbage = saved["folder"] / "garbage.json"
     garbage.write_text("{not json")
+    partless = saved["folder"] / "partless.json"
+    partless.write_text('{"designs": [{"topology": "common-emitter"}]}')
     subst = {"missing": str(saved["folder"] / "missing.json"), "garbage": str(garbage), "demo": str(saved["demo"]),
-             "folder": str(saved["folder"])}
+             "partless": str(partless), "folder": str(saved["folder"])}
     code, out, err = run(capsys, *[a.format(**subst) for a in argv])
     assert code == 2
     assert expect in err and len(err.strip().splitlines()) == 1 and "Traceback" not in err

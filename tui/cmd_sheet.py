@@ -54,6 +54,9 @@ def run_sheet(args) -> int:
     except SheetInputError as exc:
         print(f"drawerfit: {exc}", file=sys.stderr)
         return 2
+    except (KeyError, TypeError, ValueError, IndexError, AttributeError) as exc:  # a hand-edited figure
+        print(f"drawerfit: {args.file}: design {args.pick} cannot be drawn ({exc!r})", file=sys.stderr)
+        return 2
     if not args.output:
         sys.stdout.write(text)
         return 0

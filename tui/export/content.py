@@ -162,10 +162,14 @@ def build_sheet(doc: dict, pick: int, source: str) -> Sheet:
         temps = tuple(sorted({float(lo), 27.0, float(hi)}))
         meters = meter_checks(stage, corners, temps)
         netlist = netlist_of(design, spec)
-    except (KeyError, TypeError, ValueError, RuntimeError) as exc:
-        raise SheetInputError(f"{source}: design {pick} cannot be read back ({exc})") from None
+    except (KeyError, TypeError, ValueError, RuntimeError, AttributeError, IndexError) as exc:
+        raise SheetInputError(f"{source}: design {pick} cannot be read back ({_why(exc)})") from None
     positive = {p: c["positive_node"] for p, c in report.capacitors.items()}
     return Sheet(source, pick, design, spec, stage, netlist, networks, positive, pick_list(design, networks), meters)
+
+
+def _why(exc: Exception) -> str:
+    return f"missing {exc}" if isinstance(exc, KeyError) else str(exc)
 
 
 def spec_line(spec: dict) -> str:
