@@ -6,11 +6,13 @@ import json
 from pathlib import Path
 
 from tests.deck_designs import DESIGNS, SPEC, full_design
-from tests.demo_job import DEMO
+from tests.demo_job import DEMO, JOB
 
-DEMO_ARGS = ["design", "--topology", "common-emitter", "--gain", "10", "--gain-tol", "0.05", "--supply", "12",
-             "--load", "22k", "--source", "1k", "--swing", "5", "--low-cut", "30", "--min-rin", "8k", "--top", "2",
-             "--depth", "2"]
+# The demo job (tests/demo_job.py) as `design` options; depth 2 and two designs keep the suites fast.
+DEMO_ARGS = ["design", "--topology", JOB.topology, "--gain", f"{JOB.gain:g}", "--gain-tol", f"{JOB.gain_tol:g}",
+             "--supply", f"{JOB.supply_v:g}", "--load", f"{JOB.load_ohms:g}", "--source", f"{JOB.source_ohms:g}",
+             "--swing", f"{JOB.swing_pp:g}", "--low-cut", f"{JOB.low_cut_hz:g}", "--min-rin", f"{JOB.min_rin_ohms:g}",
+             "--top", "2", "--depth", "2"]
 
 
 def save_demo(folder: Path) -> Path:
