@@ -13,7 +13,7 @@ from dataclasses import asdict
 
 import numpy as np
 
-from . import capchoice, feasible, network_tree
+from . import capchoice, deck, feasible, network_tree
 from .analysis import analyze
 from .montecarlo import monte_carlo
 from .stage import Stage
@@ -114,6 +114,7 @@ def design_json(sol, choice, row, spec, *, locations=None, mc=None, yld=None, la
     out["best_for"] = list(labels)
     out["score"].update(trade_off_json(row))
     out["corners"] = corners_json(row, spec)
+    out["netlist"] = deck.design_netlist(typical, parts, report.capacitors)  # README: the netlist contract
     if mc is not None:
         out["mc"] = {"gain": [float(g) for g in np.asarray(mc.samples["gain"])[:MC_KEPT]], "n": int(mc.n),
                      "seed": int(mc.seed)}

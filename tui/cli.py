@@ -10,7 +10,7 @@ from __future__ import annotations
 import argparse
 import sys
 
-from . import cmd_analyze, cmd_design, cmd_drawer
+from . import cmd_analyze, cmd_design, cmd_drawer, cmd_sheet
 
 
 def build_parser() -> argparse.ArgumentParser:
@@ -26,6 +26,7 @@ def build_parser() -> argparse.ArgumentParser:
     cmd_drawer.register(sub)
     cmd_analyze.register(sub)
     cmd_design.register(sub)
+    cmd_sheet.register(sub)
     return parser
 
 

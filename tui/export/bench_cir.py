@@ -1,0 +1,25 @@
+"""The design's netlist with a source, a load and analyses added: runs as written with `ngspice -b`.
+
+The sine's amplitude gives the spec's swing at the load (optimizer.distortion finds it),
+so `.four` reports the distortion drawerfit predicts; `.ac` prints the response in dB.
+"""
+
+from __future__ import annotations
+
+from optimizer.crosscheck import bench
+from optimizer.deck import deck_nodes
+from optimizer.distortion import drive_for_swing
+
+from .content import Sheet
+
+
+def render(sheet: Sheet) -> str:
+    swing = float(sheet.spec.get("swing_pp") or 0.0)
+    try:
+        amp = drive_for_swing(sheet.stage, swing) if swing > 0 else 0.01
+    except (RuntimeError, ValueError):
+        amp = 0.01  # the stage cannot reach the swing: a small test level still runs
+    deck = sheet.netlist.replace("\n.end", f"\n* Source level {amp:.4g} V peak: {swing:g} V p-p at the load.\n.end", 1)
+    return bench(deck, source_ohms=float(sheet.spec.get("source_ohms") or 0.0), load_ohms=sheet.stage.load_ohms,
+                 amplitude_v=amp, signal_hz=1e3,
+                 save_nodes=tuple(deck_nodes(sheet.stage)[n] for n in ("base", "emit", "coll", "vcc")))
