@@ -18,9 +18,9 @@ from inventory.drawer import Drawer
 from inventory.locate import InventoryNotFound, find_inventory
 from inventory.store import Store, StoreError
 
+from .saved import SavedFileError, load_saved, saved_inventory
+from .themes import DARK, LIGHT, THEMES
 from .widgets.palette import ActionsProvider
-
-LIGHT, DARK = "textual-light", "textual-dark"
 
 
 class DrawerfitApp(App[int]):
@@ -28,14 +28,19 @@ class DrawerfitApp(App[int]):
 
     TITLE = "drawerfit"
     CSS_PATH = "app.tcss"
-    COMMANDS = App.COMMANDS | {ActionsProvider}
+    COMMANDS = {ActionsProvider}  # drawerfit's actions only, none of the framework's stock entries
     BINDINGS = [
-        Binding("ctrl+q", "quit", "Quit", id="app.quit", priority=True),
-        Binding("f2", "toggle_theme", "Theme", id="app.theme", tooltip="Switch between light and dark"),
+        Binding("ctrl+q", "quit", "Quit", id="app.quit", priority=True, tooltip="Leave drawerfit"),
+        Binding("f2", "toggle_theme", "Light/dark", id="app.theme",
+                tooltip="Switch between the bench (light) and bakelite (dark) colours"),
+        Binding("f1", "toggle_keys", "Key list", id="app.keys", tooltip="Show or hide every key of this screen"),
     ]
 
-    def __init__(self, inventory_path: Path, *, notice: str | None = None) -> None:
+    def __init__(self, inventory_path: Path, *, notice: str | None = None, opened: dict | None = None) -> None:
         super().__init__()
+        for theme in THEMES:
+            self.register_theme(theme)
+        self.opened = opened  # a saved design document to show first (`drawerfit open FILE`)
         self.inventory_path = Path(inventory_path)
         self.store = Store(self.inventory_path)
         self.notice = notice
@@ -50,6 +55,10 @@ class DrawerfitApp(App[int]):
 
         self.sub_title = str(self.inventory_path)
         self.push_screen(DrawerScreen())
+        if self.opened is not None:
+            from .screens.results import ResultsScreen
+
+            self.push_screen(ResultsScreen(self.opened))
         if self.notice:
             self.notify(self.notice, title="Drawer file", timeout=8)
 
@@ -90,18 +99,33 @@ class DrawerfitApp(App[int]):
     def action_toggle_theme(self) -> None:
         self.theme = LIGHT if self.theme == DARK else DARK
 
+    def action_toggle_keys(self) -> None:
+        from textual.widgets import HelpPanel
 
-def make_app(inventory_path: str | Path | None = None) -> DrawerfitApp:
-    """The app on `inventory_path`, or on the drawer file found the usual way."""
+        if self.screen.query(HelpPanel):
+            self.action_hide_help_panel()
+        else:
+            self.action_show_help_panel()
+
+
+def make_app(inventory_path: str | Path | None = None, open_file: str | Path | None = None) -> DrawerfitApp:
+    """The app on `inventory_path` (or the drawer file found the usual way).
+
+    `open_file`: a `design --save` file to open on its designs (SavedFileError when it is not
+    one); its drawer file is used when no `inventory_path` is given and that file still exists.
+    """
+    opened = load_saved(open_file) if open_file is not None else None
+    if inventory_path is None and opened is not None:
+        inventory_path = saved_inventory(opened)
     path, message = find_inventory(str(inventory_path) if inventory_path is not None else None)
-    return DrawerfitApp(path, notice=message)
+    return DrawerfitApp(path, notice=message, opened=opened)
 
 
-def run_app(inventory_path: str | None) -> int:
-    """Run the app in this terminal; the exit code for the shell."""
+def run_app(inventory_path: str | None, open_file: str | None = None) -> int:
+    """Run the app in this terminal; the exit code for the shell (2: a file named cannot be used)."""
     try:
-        app = make_app(inventory_path)
-    except (InventoryNotFound, OSError) as exc:
+        app = make_app(inventory_path, open_file)
+    except (InventoryNotFound, SavedFileError, OSError) as exc:
         print(f"drawerfit: {exc}", file=sys.stderr)
         return 2
     result = app.run()
