@@ -18,6 +18,8 @@ from optimizer.select import find_designs
 
 from .demo_job import DEMO, JOB
 
+FIXED = Path(__file__).resolve().parent / "data" / "trade_doc.json"
+
 # Hand-made trade figures for up to three designs: (best_for, thd, robustness, supply current A).
 TRADE = (
     (["balanced"], 0.0042, 0.31, 0.9e-3),
@@ -36,9 +38,8 @@ def solved_doc() -> dict:
     return json.loads(_solved())
 
 
-def trade_doc() -> dict:
-    """The demo job's document with a hand-made trade-off set over its designs."""
-    doc = solved_doc()
+def with_trade(doc: dict) -> dict:
+    """`doc` with a hand-made trade-off set over its first three designs."""
     assert len(doc["designs"]) >= 3, doc.get("why")
     for design, (best, thd, robust, supply) in zip(doc["designs"], TRADE, strict=False):
         design["best_for"] = list(best)
@@ -49,9 +50,18 @@ def trade_doc() -> dict:
     return doc
 
 
+def trade_doc() -> dict:
+    """A fixed document for the screens (their snapshots must not move with the solver).
+
+    Made once by `with_trade(solved_doc())` on the demo drawer, figures rounded; the designs'
+    drawer lines are the demo drawer's.
+    """
+    return json.loads(FIXED.read_text(encoding="utf-8"))
+
+
 def old_doc() -> dict:
     """A document as older versions saved it: none of the trade-off or status keys."""
-    doc = copy.deepcopy(solved_doc())
+    doc = copy.deepcopy(trade_doc())
     for key in ("status", "optimal", "unexplored"):
         doc.pop(key, None)
     for design in doc["designs"]:

@@ -54,6 +54,7 @@ class DrawerfitApp(App[int]):
         from .screens.drawer import DrawerScreen
 
         self.sub_title = str(self.inventory_path)
+        self.screen_change_signal.subscribe(self, self.mark_headers)
         self.push_screen(DrawerScreen())
         if self.opened is not None:
             from .screens.results import ResultsScreen
@@ -61,6 +62,18 @@ class DrawerfitApp(App[int]):
             self.push_screen(ResultsScreen(self.opened))
         if self.notice:
             self.notify(self.notice, title="Drawer file", timeout=8)
+
+    def mark_headers(self, screen) -> None:
+        """drawerfit's mark in the header of every screen, whichever header widget the screen uses."""
+        from textual.widgets import Header
+
+        from .widgets.masthead import MARK
+
+        def mark() -> None:
+            for header in screen.query(Header):
+                header.icon = MARK
+
+        screen.call_after_refresh(mark)
 
     # ---- the drawer file -----------------------------------------------------------------
 

@@ -19,28 +19,30 @@ from ..widgets import figures
 from ..widgets.masthead import Masthead
 from ..widgets.tradeplot import TradePlot
 
-COLUMNS = ("#", "Best for", "Parts", "THD", "Margin", "Current", "Yield", "Gain over hFE", "Q1")
+COLUMNS = ("#", "Best for", "Parts", "THD", "Margin", "Current", "Yield")
 
 
 def row_of(rank: int, design: dict) -> tuple[str, ...]:
-    """The table row of one design, every figure spelled by the one rule."""
+    """The table row of one design (the four counts of the trade, and the yield), spelled by the one rule."""
     score = design.get("score") or {}
     p = design.get("predicted") or {}
-    at = design.get("at_hfe") or {}
-    gain = (figures.span(at["min"].get("gain"), at["max"].get("gain"), lambda v: f"{v:+.2f}")
-            if "min" in at and "max" in at else figures.gain(p.get("gain")))
     margin = (figures.percent(score["robustness"]) if score.get("robustness") is not None
               else figures.volts(score.get("swing_margin_v")) if score.get("swing_margin_v") is not None
               else figures.DASH)
     return (str(rank), best_for_text(design) or figures.DASH, str(score.get("parts", figures.DASH)),
             figures.percent(score.get("thd", p.get("thd")), 2), margin, figures.amps(score.get("supply_a")),
-            figures.percent(design.get("yield")), gain, str((design.get("parts") or {}).get("Q1", {}).get("part", "")))
+            figures.percent(design.get("yield")))
 
 
 def values_line(design: dict) -> str:
-    """The chosen design's parts in RKM: "R1 220k · R2 20k · … · Q1 BC547B"."""
+    """The chosen design's gain over hFE and its parts in RKM: "gain -10.05 … -9.95 · R1 220k · … · Q1 BC547B"."""
     parts = design.get("parts") or {}
-    return " · ".join(f"{pos} {position_value(pos, parts[pos])}" for pos in ORDER if pos in parts)
+    at = design.get("at_hfe") or {}
+    p = design.get("predicted") or {}
+    gain = (figures.span(at["min"].get("gain"), at["max"].get("gain"), lambda v: f"{v:+.2f}")
+            if "min" in at and "max" in at else figures.gain(p.get("gain")))
+    return " · ".join([f"gain {gain} over hFE",
+                       *(f"{pos} {position_value(pos, parts[pos])}" for pos in ORDER if pos in parts)])
 
 
 def status_text(result: dict) -> str:

@@ -150,10 +150,14 @@ class SheetScreen(Screen):
             response = design.get("response") or {}
             if response.get("freq_hz"):
                 yield Label("Response", classes="section-title")
-                yield Chart(id="response", classes="plot")
+                yield Chart(lambda plt, rgb: draw_response(plt, response["freq_hz"], response.get("gain_db", []), rgb),
+                            id="response", classes="plot")
             if (design.get("mc") or {}).get("gain"):
                 yield Label("Gain of simulated builds (how many builds land at each gain)", classes="section-title")
-                yield Chart(id="histogram", classes="plot")
+                window = gain_window(design, spec)
+                samples = design["mc"]["gain"]
+                yield Chart(lambda plt, rgb: draw_histogram(plt, samples, window=window, colour=rgb),
+                            id="histogram", classes="plot")
                 yield Static(histogram_caption(design, spec), id="histogram-caption", classes="caption")
             if design.get("warnings"):
                 yield Label("Warnings", classes="section-title problem-title")
@@ -166,13 +170,6 @@ class SheetScreen(Screen):
         table = self.query_one("#sheet-parts", DataTable)
         table.add_columns("Pos", "Value", "Line", "Place", "In the drawer as")
         table.add_rows(part_rows(self.design, self.app.drawer))
-        response = self.design.get("response") or {}
-        if response.get("freq_hz"):
-            draw_response(self.query_one("#response", Chart).plt, response["freq_hz"], response.get("gain_db", []))
-        samples = (self.design.get("mc") or {}).get("gain")
-        if samples:
-            draw_histogram(self.query_one("#histogram", Chart).plt, samples,
-                           window=gain_window(self.design, self.result.get("spec") or {}))
         self.query_one("#sheet").focus()
 
     def action_back(self) -> None:

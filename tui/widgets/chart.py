@@ -10,8 +10,10 @@ Drawn with textual-plotext, with two precautions learned the hard way:
 from __future__ import annotations
 
 import math
+from collections.abc import Callable
 
 from rich.text import Text
+from textual.color import Color
 from textual_plotext import PlotextPlot
 
 from . import figures
@@ -67,7 +69,11 @@ def tick_text(value: float) -> str:
 
 
 class Chart(PlotextPlot):
-    """A plotext plot that says so instead of drawing when it is too small to draw."""
+    """A plotext plot in the theme's colours that says so instead of drawing when too small to draw.
+
+    `painter(plt, rgb)` draws the figure; it runs again when the theme changes, with the
+    theme's primary colour.
+    """
 
     DEFAULT_CSS = """
     Chart {
@@ -76,20 +82,35 @@ class Chart(PlotextPlot):
     }
     """
 
+    def __init__(self, painter: Callable[[object, tuple[int, int, int]], None], *, id: str | None = None,
+                 classes: str | None = None) -> None:
+        super().__init__(id=id, classes=classes)
+        self.painter = painter
+
+    def on_mount(self) -> None:
+        super().on_mount()
+        self.app.theme_changed_signal.subscribe(self, lambda _theme: self.paint())
+        self.paint()
+
+    def paint(self) -> None:
+        self.plt.clear_figure()
+        self.painter(self.plt, Color.parse(self.app.current_theme.primary).rgb)
+        self.refresh()
+
     def render(self):
         if self.size.width < MIN_WIDTH or self.size.height < MIN_HEIGHT:
             return Text(TOO_SMALL)
         return super().render()
 
 
-def draw_response(plt, freq_hz: list[float], gain_db: list[float]) -> None:
+def draw_response(plt, freq_hz: list[float], gain_db: list[float], colour=None) -> None:
     """Gain (dB) against frequency on a decade axis."""
     pairs = [(f, g) for f, g in zip(freq_hz, gain_db, strict=False) if f > 0 and math.isfinite(g)]
     if not pairs:
         return
     x = [math.log10(f) for f, _ in pairs]
     y = [g for _, g in pairs]
-    plt.plot(x, y, marker="braille")
+    plt.plot(x, y, marker="braille", color=colour)
     ticks, labels = decade_ticks(pairs[0][0], pairs[-1][0], "Hz")
     plt.xticks(ticks, labels)
     yt = linear_ticks(min(y), max(y), 4)
@@ -97,7 +118,8 @@ def draw_response(plt, freq_hz: list[float], gain_db: list[float]) -> None:
     plt.title("Gain (dB) against frequency")
 
 
-def draw_histogram(plt, samples: list[float], bins: int = 24, window: tuple[float, float] | None = None) -> None:
+def draw_histogram(plt, samples: list[float], bins: int = 24, window: tuple[float, float] | None = None,
+                   colour=None) -> None:
     """How many simulated builds fall at each gain; `window` (low, high) marks the gain asked for."""
     data = [s for s in samples if math.isfinite(s)]
     if not data:
@@ -108,7 +130,7 @@ def draw_histogram(plt, samples: list[float], bins: int = 24, window: tuple[floa
     for s in data:
         counts[min(int((s - lo) / width), bins - 1)] += 1
     centres = [lo + (i + 0.5) * width for i in range(bins)]
-    plt.bar(centres, counts, width=0.8, marker="sd")
+    plt.bar(centres, counts, width=0.8, marker="sd", color=colour)
     plt.ylim(0, None)
     if window is not None:
         for edge in window:

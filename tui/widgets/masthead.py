@@ -8,17 +8,7 @@ MARK = "▤"
 
 
 class Masthead(Header):
-    """The header every drawerfit screen shows: the mark, the title and the drawer file."""
-
-    DEFAULT_CSS = """
-    Masthead {
-        background: $panel;
-        color: $foreground;
-    }
-    Masthead HeaderIcon {
-        color: $accent;
-    }
-    """
+    """The header every drawerfit screen shows: the mark, the title and the drawer file (styled in app.tcss)."""
 
     def __init__(self) -> None:
         super().__init__(icon=MARK)
