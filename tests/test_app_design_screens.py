@@ -201,3 +201,19 @@ async def test_older_saved_documents_still_show(demo_drawer):
         await pilot.press("enter")
         await pilot.pause()
         assert isinstance(app.screen, SheetScreen)
+
+
+async def test_a_build_record_reopens_the_same_sheet(demo_drawer):
+    import json
+
+    from tui.screens.sheet import build_record
+
+    doc = trade_doc()
+    record = json.loads(json.dumps(build_record(2, doc["designs"][1], doc)))  # as a journal line keeps it
+    app = make_app(demo_drawer)
+    async with app.run_test(size=(100, 32)) as pilot:
+        app.push_screen(SheetScreen.from_record(record))
+        await pilot.pause()
+        assert app.screen.rank == 2 and app.screen.design == doc["designs"][1]
+        assert app.screen.result["spec"] == doc["spec"]
+        assert "design #2" in str(app.screen.query(Label).first().render())

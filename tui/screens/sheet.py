@@ -114,6 +114,11 @@ def figures_text(design: dict) -> str:
     return "\n".join(f"  {label:<20} {text}" for label, text in rows)
 
 
+def build_record(rank: int, design: dict, result: dict) -> dict:
+    """What a build's journal entry should keep to reopen its sheet later: the design and its request."""
+    return {"rank": rank, "design": design, "spec": result.get("spec") or {}}
+
+
 class SheetScreen(Screen):
     """How to build design #rank from the drawer."""
 
@@ -125,6 +130,11 @@ class SheetScreen(Screen):
     def __init__(self, rank: int, design: dict, result: dict) -> None:
         super().__init__()
         self.rank, self.design, self.result = rank, design, result
+
+    @classmethod
+    def from_record(cls, record: dict) -> SheetScreen:
+        """The sheet of a past build from its `build_record` (as kept in the journal)."""
+        return cls(int(record.get("rank", 1)), record["design"], {"spec": record.get("spec") or {}})
 
     def compose(self) -> ComposeResult:
         design, spec = self.design, self.result.get("spec", {})
