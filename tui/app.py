@@ -31,7 +31,7 @@ class DrawerfitApp(App[int]):
     COMMANDS = {ActionsProvider}  # drawerfit's actions only, none of the framework's stock entries
     BINDINGS = [
         Binding("ctrl+q", "quit", "Quit", id="app.quit", priority=True, tooltip="Leave drawerfit"),
-        Binding("f2", "toggle_theme", "Light/dark", id="app.theme",
+        Binding("f2", "toggle_theme", "Light/dark", id="app.theme", show=False,  # in the palette and the key list
                 tooltip="Switch between the bench (light) and bakelite (dark) colours"),
         Binding("f1", "toggle_keys", "Key list", id="app.keys", tooltip="Show or hide every key of this screen"),
     ]

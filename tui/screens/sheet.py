@@ -146,7 +146,7 @@ class SheetScreen(Screen):
             spread = f" (hFE {hfe['min']:g}…{hfe['max']:g})" if "min" in hfe and "max" in hfe else ""
             best = best_for_text(design)
             yield Label(f"Build sheet: design #{self.rank}, {design.get('topology', '')}, "
-                        f"Q1 {q1.get('part', '')}{spread}" + (f"; best for: {best}" if best else ""),
+                        f"Q1 {q1.get('part', '')}{spread}" + (f"\nBest for: {best}" if best else ""),
                         classes="section-title")
             yield Static(draw_stage(design, supply_v=spec.get("supply_v"), source_ohms=spec.get("source_ohms"),
                                     load_ohms=spec.get("load_ohms"),
