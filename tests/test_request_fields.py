@@ -76,3 +76,19 @@ def test_temperature_range_refuses_below_absolute_zero():
     with pytest.raises(ValueError):
         rf.parse_temp_range("-300..-280")
     assert rf.parse_temp_range("0..50") == (0.0, 50.0)
+
+
+def test_command_line_options_from_the_same_list():
+    import argparse
+
+    parser = argparse.ArgumentParser()
+    rf.add_arguments(parser)
+    spec, search, problems = rf.from_arguments(parser.parse_args([]))
+    assert (spec, search, problems) == rf.build_request({}, {})
+    args = parser.parse_args(["--gain", "20", "--max-thd", "2%", "--prefer", "clean", "--time-limit", "3",
+                              "--min-rin", "4k7", "--temp-range", "10..40"])
+    spec, search, problems = rf.from_arguments(args)
+    assert problems == {} and spec.gain == 20 and spec.max_thd == 0.02 and spec.min_rin_ohms == 4700
+    assert spec.temp_range_c == (10.0, 40.0) and search["prefer"] == "clean" and search["time_limit_s"] == 3
+    _, _, problems = rf.from_arguments(parser.parse_args(["--load", "22q"]))
+    assert rf.BY_NAME["load"].option == "--load" and "22q" in problems["load"]

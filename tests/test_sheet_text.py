@@ -44,6 +44,9 @@ def test_meter_range_is_low_then_high():
     vc = next(line for line in lines if "VC" in line)
     assert "5.81 V … 6.18 V" in vc  # the collector sits lower at hFE max: the range still reads low … high
     assert figures.span(6.18, 5.81, figures.volts) == "5.81 V … 6.18 V"
+    from tui.screens.sheet import meter_text  # the app's sheet says it the same way
+
+    assert "5.81 V … 6.18 V" in meter_text(design)
 
 
 def test_safety_lines_are_not_repeated():

@@ -215,3 +215,30 @@ def build_request(texts: dict[str, str], choices: dict[str, object]) -> tuple[Sp
             name = ""
         problems[name] = f"{problems[name]}; {text}" if name in problems else (text if name else problem)
     return (None if problems else spec), search_kw, problems
+
+
+def add_arguments(parser) -> None:
+    """Add every request option to an argparse (sub)parser, with the form's defaults and hints.
+
+    Values stay text; `from_arguments` parses them with the same parsers as the form.
+    """
+    parser.add_argument("--topology", default=CHOICE_DEFAULTS["topology"], choices=[t for t, _ in TOPOLOGY_CHOICES])
+    for f in FIELDS:
+        if f.name == "min_rin":
+            text = f"input resistance at least (default: {_RIN_RULE.removeprefix('empty: ')})"
+        else:
+            text = f"{f.hint} (default {f.default or f.blank or 'none'})"
+        parser.add_argument(f.option, dest=f.name, default=f.default, metavar=f.name.upper(),
+                            help=f"{f.label}: {text}".replace("%", "%%"))
+    parser.add_argument("--depth", default=str(CHOICE_DEFAULTS["depth"]), choices=["1", "2", "3"],
+                        help=f"most parts per position (default {CHOICE_DEFAULTS['depth']})")
+    parser.add_argument("--prefer", default=CHOICE_DEFAULTS["prefer"], choices=[p for _, p in PREFER_CHOICES],
+                        help="which design comes first: " + ", ".join(f"{p} = {w}" for p, w in PREFER_WORDS.items())
+                        + f" (default {CHOICE_DEFAULTS['prefer']})")
+
+
+def from_arguments(args) -> tuple[Spec | None, dict, dict[str, str]]:
+    """`build_request` over parsed arguments; problems are keyed by field name (option: `BY_NAME[k].option`)."""
+    texts = {f.name: str(getattr(args, f.name)) for f in FIELDS}
+    choices = {"topology": args.topology, "depth": int(args.depth), "prefer": args.prefer}
+    return build_request(texts, choices)
