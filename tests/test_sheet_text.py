@@ -81,3 +81,13 @@ def test_one_spelling_rule():
 def test_table_names_the_trade():
     text = sheet_text.table(trade_doc())
     assert "fewest parts, least current" in text and "cleanest, most robust" in text
+
+
+def test_the_printed_sheet_and_the_request_list_never_load_textual():
+    import subprocess
+    import sys
+
+    code = ("import sys, tui.sheet_text, tui.request_fields, tui.saved, tui.widgets.figures; "
+            "print('textual' in sys.modules)")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True, timeout=60)
+    assert out.stdout.strip() == "False"

@@ -13,8 +13,12 @@ from collections.abc import Callable
 from dataclasses import dataclass, fields
 
 from inventory import values
-from optimizer.select import DEFAULT_PREFER, DEFAULT_TIME_LIMIT_S, PREFERENCES
 from optimizer.spec import RIN_FLOOR_MIN_OHMS, RIN_FLOOR_SOURCE_RATIO, Spec, default_rin_floor
+
+try:  # light: the search's own defaults, where they are defined next to the Spec
+    from optimizer.spec import DEFAULT_PREFER, DEFAULT_TIME_LIMIT_S, PREFERENCES
+except ImportError:  # else from the solver module (it loads OR-Tools: about a second)
+    from optimizer.select import DEFAULT_PREFER, DEFAULT_TIME_LIMIT_S, PREFERENCES
 from optimizer.stage import TOPOLOGIES
 
 SPEC_DEFAULTS = Spec()
