@@ -111,3 +111,29 @@ def test_a_file_that_is_not_a_saved_design_is_refused_in_one_line(tmp_path, demo
 def test_saved_file_round_trip_keeps_the_document(tmp_path):
     doc = trade_doc()
     assert load_saved(save(doc, tmp_path / "d.json")) == json.loads(json.dumps(doc))
+
+
+async def test_open_saved_designs_from_inside_the_app(demo_drawer, tmp_path):
+    from textual.widgets import Label
+
+    from tui.screens.open_saved import OpenSavedDialog
+
+    from .app_fixtures import type_into
+
+    bad = tmp_path / "notes.json"
+    bad.write_text("{}", encoding="utf-8")
+    saved = save(trade_doc(), tmp_path / "gain10.json")
+    app = make_app(demo_drawer)
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.press("ctrl+o")
+        await pilot.pause()
+        assert isinstance(app.screen, OpenSavedDialog)
+        await type_into(pilot, "#path", str(bad))
+        await pilot.press("enter")
+        await pilot.pause()
+        assert isinstance(app.screen, OpenSavedDialog)  # refused, the reason shown, the dialog stays
+        assert "not a saved design file" in str(app.screen.query_one("#path-error", Label).render())
+        await type_into(pilot, "#path", str(saved))
+        await pilot.press("enter")
+        await pilot.pause()
+        assert isinstance(app.screen, ResultsScreen) and len(app.screen.designs) == 3

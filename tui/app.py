@@ -34,6 +34,8 @@ class DrawerfitApp(App[int]):
         Binding("f2", "toggle_theme", "Light/dark", id="app.theme", show=False,  # in the palette and the key list
                 tooltip="Switch between the bench (light) and bakelite (dark) colours"),
         Binding("f1", "toggle_keys", "Key list", id="app.keys", tooltip="Show or hide every key of this screen"),
+        Binding("ctrl+o", "open_saved", "Open saved designs", id="app.open", show=False,
+                tooltip="Show the designs of a file saved with `drawerfit design --save`"),
     ]
 
     def __init__(self, inventory_path: Path, *, notice: str | None = None, opened: dict | None = None) -> None:
@@ -111,6 +113,16 @@ class DrawerfitApp(App[int]):
 
     def action_toggle_theme(self) -> None:
         self.theme = LIGHT if self.theme == DARK else DARK
+
+    def action_open_saved(self) -> None:
+        from .screens.open_saved import OpenSavedDialog
+        from .screens.results import ResultsScreen
+
+        def show(doc: dict | None) -> None:
+            if doc is not None:
+                self.push_screen(ResultsScreen(doc))
+
+        self.push_screen(OpenSavedDialog(), show)
 
     def action_toggle_keys(self) -> None:
         from textual.widgets import HelpPanel
