@@ -107,3 +107,13 @@ def test_build_sheet_lower_half_100x32(snap_compare):
         await pilot.pause()
 
     assert snap_compare(app(), run_before=scroll, terminal_size=(100, 32))
+
+
+def test_build_sheet_key_list_at_the_end_80x24(snap_compare):
+    # Regression: the key list narrows the sheet and End brings the plots into view (once a crash).
+    async def keys_then_end(pilot):
+        await show(pilot, sheet())
+        await pilot.press("f1", "end")
+        await pilot.pause()
+
+    assert snap_compare(app(), run_before=keys_then_end, terminal_size=(80, 24))
