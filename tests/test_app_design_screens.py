@@ -217,3 +217,26 @@ async def test_a_build_record_reopens_the_same_sheet(demo_drawer):
         assert app.screen.rank == 2 and app.screen.design == doc["designs"][1]
         assert app.screen.result["spec"] == doc["spec"]
         assert "design #2" in str(app.screen.query(Label).first().render())
+
+
+@pytest.mark.parametrize(("status", "title", "says"), [
+    ("infeasible", "No design meets this request", None),
+    ("unproven", "No design found yet", "not proven impossible"),
+])
+async def test_no_design_says_whether_it_is_proven(demo_drawer, status, title, says):
+    doc = {"designs": [], "why": ["gain: the stage cannot reach 400 on 5 V"], "hints": [], "status": status,
+           "optimal": status == "infeasible", "unexplored": None}
+    app = make_app(demo_drawer)
+    async with app.run_test(size=(80, 24)) as pilot:
+        app.push_screen(ResultsScreen(doc))
+        await pilot.pause()
+        assert title in str(app.screen.query(Label).first().render())
+        assert "cannot reach 400" in str(app.screen.query_one("#why", Static).render())
+        status_widgets = app.screen.query("#status")
+        if says is None:
+            assert not status_widgets
+        else:
+            assert says in str(status_widgets.first().render())
+        await pilot.press("enter")  # nothing to open: no crash, stays
+        await pilot.pause()
+        assert isinstance(app.screen, ResultsScreen)
