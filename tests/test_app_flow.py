@@ -17,7 +17,7 @@ from tui.screens.dialogs import ConfirmDialog
 from tui.screens.drawer import DrawerScreen
 from tui.screens.history import HistoryScreen
 from tui.screens.request import RequestScreen
-from tui.screens.results import DesignCard, ResultsScreen
+from tui.screens.results import ResultsScreen
 from tui.screens.sheet import SheetScreen
 
 from .app_fixtures import demo_drawer, type_into  # noqa: F401  (fixtures)
@@ -55,10 +55,10 @@ async def test_filter_design_build_and_undo(demo_drawer):
         designs = app.screen.designs
         assert designs, app.screen.result.get("why")
         best = designs[0]
-        # The design meets the request as the solver reports it (its own figures, shown on the cards).
+        # The design meets the request as the solver reports it (its own figures, shown in the table).
         assert abs(abs(best["predicted"]["gain"]) - 10) <= 0.05 * 10 + 1e-9
         assert best["predicted"]["rin"] >= 8e3
-        assert isinstance(app.screen.focused, DesignCard) and app.screen.focused.rank == 1
+        assert isinstance(app.screen.focused, DataTable) and app.screen.chosen == 1
         await pilot.press("enter")
         await pilot.pause()
         assert isinstance(app.screen, SheetScreen)

@@ -6,7 +6,8 @@ import pytest
 
 from optimizer.network_tree import Leaf, Parallel, Series, to_json
 from optimizer.stage import CAPACITOR_POSITIONS, RESISTOR_POSITIONS, TOPOLOGIES
-from tui.schematic import draw_stage, network_text
+from tui.schematic import draw_stage
+from tui.sheet_text import network_text
 
 pytestmark = pytest.mark.tui
 
@@ -39,7 +40,7 @@ def test_every_position_is_drawn_with_its_value(topology):
             continue
         value = entry.get("ohms", entry.get("farads"))
         assert f"{pos} {RKM[value]}" in text, pos
-    assert "+12 V" in text and "0 V" in text and "load 22k" in text and "source 1k" in text
+    assert "+12 V" in text and "0 V" in text and "load 22 kΩ" in text and "source 1 kΩ" in text  # not parts: SI
     assert "+┤├" in text  # the polarised output capacitor shows its + side
     assert any(ch in text for ch in "┌┐└┘├┤┬┴┼")
 

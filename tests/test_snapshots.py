@@ -11,8 +11,11 @@ from __future__ import annotations
 import pytest
 
 from tui.app import make_app
+from tui.screens.results import ResultsScreen
+from tui.screens.sheet import SheetScreen
 
 from .app_fixtures import demo_drawer, steady_cursor  # noqa: F401  (fixtures)
+from .trade_docs import trade_doc
 
 pytestmark = pytest.mark.tui
 
@@ -47,36 +50,70 @@ def test_design_request_80x24(snap_compare):
     assert snap_compare(app(), press=["d"], terminal_size=(80, 24))
 
 
-async def open_best_sheet(pilot):
-    """Design request with its defaults (gain 10, 12 V, 22k, 1k, 5 V p-p, 30 Hz, Rin ≥ 8k) → best sheet."""
-    await pilot.press("d")
-    await pilot.pause()
-    await pilot.press("f5")
-    await pilot.app.workers.wait_for_complete()
-    await pilot.pause()
-    await pilot.press("enter")
+async def show(pilot, screen):
+    pilot.app.push_screen(screen)
     await pilot.pause()
 
 
-def test_results_80x24(snap_compare):
-    async def solve(pilot):
+def test_design_request_follower_80x24(snap_compare):
+    async def follower(pilot):
         await pilot.press("d")
         await pilot.pause()
-        await pilot.press("f5")
-        await pilot.app.workers.wait_for_complete()
+        pilot.app.screen.query_one("#topology").value = "emitter-follower"
         await pilot.pause()
 
-    assert snap_compare(app(), run_before=solve, terminal_size=(80, 24))
+    assert snap_compare(app(), run_before=follower, terminal_size=(80, 24))
+
+
+# Results and sheets show a fixed document (tests/data/trade_doc.json), so they do not move with the solver.
+
+def test_results_80x24(snap_compare):
+    assert snap_compare(app(), run_before=lambda pilot: show(pilot, ResultsScreen(trade_doc())),
+                        terminal_size=(80, 24))
+
+
+def test_results_second_chosen_light_100x32(snap_compare):
+    async def second(pilot):
+        await pilot.press("f2")
+        await show(pilot, ResultsScreen(trade_doc()))
+        await pilot.press("down")
+        await pilot.pause()
+
+    assert snap_compare(app(), run_before=second, terminal_size=(100, 32))
+
+
+def sheet():
+    doc = trade_doc()
+    return SheetScreen(1, doc["designs"][0], doc)
 
 
 def test_build_sheet_80x24(snap_compare):
-    assert snap_compare(app(), run_before=open_best_sheet, terminal_size=(80, 24))
+    assert snap_compare(app(), run_before=lambda pilot: show(pilot, sheet()), terminal_size=(80, 24))
+
+
+def test_build_sheet_plots_80x24(snap_compare):
+    async def plots(pilot):
+        await show(pilot, sheet())
+        await pilot.press("end")
+        await pilot.pause()
+
+    assert snap_compare(app(), run_before=plots, terminal_size=(80, 24))
 
 
 def test_build_sheet_lower_half_100x32(snap_compare):
     async def scroll(pilot):
-        await open_best_sheet(pilot)
+        await show(pilot, sheet())
         await pilot.press("pagedown", "pagedown")
         await pilot.pause()
 
     assert snap_compare(app(), run_before=scroll, terminal_size=(100, 32))
+
+
+def test_build_sheet_key_list_at_the_end_80x24(snap_compare):
+    # Regression: the key list narrows the sheet and End brings the plots into view (once a crash).
+    async def keys_then_end(pilot):
+        await show(pilot, sheet())
+        await pilot.press("f1", "end")
+        await pilot.pause()
+
+    assert snap_compare(app(), run_before=keys_then_end, terminal_size=(80, 24))

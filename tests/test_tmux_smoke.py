@@ -74,14 +74,14 @@ def test_app_starts_navigates_and_quits_cleanly(tmux, demo_drawer: Path, tmp_pat
         assert "BC547B" in shown and "hFE 200-450" in shown  # the demo's line for BC547B
         term.keys("Escape")  # alone: ESC followed at once by a key reads as alt+key
         term.keys("d")
-        shown = term.wait_for("f5 Solve")
-        assert "Topology" in shown and "Minimum Rin" in shown
+        shown = term.wait_for("f5 Find stages")
+        assert "Stage" in shown and "Minimum Rin" in shown
         term.keys("F5")
-        shown = term.wait_for("best first", timeout_s=120)
-        assert "#1 common-emitter" in shown
+        shown = term.wait_for("preferred first", timeout_s=120)
+        assert "Best for" in shown and "physical parts" in shown
         term.keys("Enter")
-        shown = term.wait_for("b Build")
-        assert "Build sheet: design #1" in shown and "+12 V" in shown and "load 22k" in shown
+        shown = term.wait_for("b Take the parts")
+        assert "Build sheet: design #1" in shown and "+12 V" in shown and "load 22 kΩ" in shown
         (tmp_path / "sheet-screen.txt").write_text(shown)  # kept for a look when the test fails
         for _ in range(3):  # sheet → designs → request → drawer
             term.keys("Escape")

@@ -18,9 +18,9 @@ from inventory.drawer import Drawer
 from inventory.locate import InventoryNotFound, find_inventory
 from inventory.store import Store, StoreError
 
+from .saved import SavedFileError, load_saved, saved_inventory
+from .themes import DARK, LIGHT, THEMES
 from .widgets.palette import ActionsProvider
-
-LIGHT, DARK = "textual-light", "textual-dark"
 
 
 class DrawerfitApp(App[int]):
@@ -28,14 +28,21 @@ class DrawerfitApp(App[int]):
 
     TITLE = "drawerfit"
     CSS_PATH = "app.tcss"
-    COMMANDS = App.COMMANDS | {ActionsProvider}
+    COMMANDS = {ActionsProvider}  # drawerfit's actions only, none of the framework's stock entries
     BINDINGS = [
-        Binding("ctrl+q", "quit", "Quit", id="app.quit", priority=True),
-        Binding("f2", "toggle_theme", "Theme", id="app.theme", tooltip="Switch between light and dark"),
+        Binding("ctrl+q", "quit", "Quit", id="app.quit", priority=True, tooltip="Leave drawerfit"),
+        Binding("f2", "toggle_theme", "Light/dark", id="app.theme", show=False,  # in the palette and the key list
+                tooltip="Switch between the bench (light) and bakelite (dark) colours"),
+        Binding("f1", "toggle_keys", "Key list", id="app.keys", tooltip="Show or hide every key of this screen"),
+        Binding("ctrl+o", "open_saved", "Open saved designs", id="app.open", show=False,
+                tooltip="Show the designs of a file saved with `drawerfit design --save`"),
     ]
 
-    def __init__(self, inventory_path: Path, *, notice: str | None = None) -> None:
+    def __init__(self, inventory_path: Path, *, notice: str | None = None, opened: dict | None = None) -> None:
         super().__init__()
+        for theme in THEMES:
+            self.register_theme(theme)
+        self.opened = opened  # a saved design document to show first (`drawerfit open FILE`)
         self.inventory_path = Path(inventory_path)
         self.store = Store(self.inventory_path)
         self.notice = notice
@@ -49,9 +56,26 @@ class DrawerfitApp(App[int]):
         from .screens.drawer import DrawerScreen
 
         self.sub_title = str(self.inventory_path)
+        self.screen_change_signal.subscribe(self, self.mark_headers)
         self.push_screen(DrawerScreen())
+        if self.opened is not None:
+            from .screens.results import ResultsScreen
+
+            self.push_screen(ResultsScreen(self.opened))
         if self.notice:
             self.notify(self.notice, title="Drawer file", timeout=8)
+
+    def mark_headers(self, screen) -> None:
+        """drawerfit's mark in the header of every screen, whichever header widget the screen uses."""
+        from textual.widgets import Header
+
+        from .widgets.masthead import MARK
+
+        def mark() -> None:
+            for header in screen.query(Header):
+                header.icon = MARK
+
+        screen.call_after_refresh(mark)
 
     # ---- the drawer file -----------------------------------------------------------------
 
@@ -90,18 +114,43 @@ class DrawerfitApp(App[int]):
     def action_toggle_theme(self) -> None:
         self.theme = LIGHT if self.theme == DARK else DARK
 
+    def action_open_saved(self) -> None:
+        from .screens.open_saved import OpenSavedDialog
+        from .screens.results import ResultsScreen
 
-def make_app(inventory_path: str | Path | None = None) -> DrawerfitApp:
-    """The app on `inventory_path`, or on the drawer file found the usual way."""
+        def show(doc: dict | None) -> None:
+            if doc is not None:
+                self.push_screen(ResultsScreen(doc))
+
+        self.push_screen(OpenSavedDialog(), show)
+
+    def action_toggle_keys(self) -> None:
+        from textual.widgets import HelpPanel
+
+        if self.screen.query(HelpPanel):
+            self.action_hide_help_panel()
+        else:
+            self.action_show_help_panel()
+
+
+def make_app(inventory_path: str | Path | None = None, open_file: str | Path | None = None) -> DrawerfitApp:
+    """The app on `inventory_path` (or the drawer file found the usual way).
+
+    `open_file`: a `design --save` file to open on its designs (SavedFileError when it is not
+    one); its drawer file is used when no `inventory_path` is given and that file still exists.
+    """
+    opened = load_saved(open_file) if open_file is not None else None
+    if inventory_path is None and opened is not None:
+        inventory_path = saved_inventory(opened)
     path, message = find_inventory(str(inventory_path) if inventory_path is not None else None)
-    return DrawerfitApp(path, notice=message)
+    return DrawerfitApp(path, notice=message, opened=opened)
 
 
-def run_app(inventory_path: str | None) -> int:
-    """Run the app in this terminal; the exit code for the shell."""
+def run_app(inventory_path: str | None, open_file: str | None = None) -> int:
+    """Run the app in this terminal; the exit code for the shell (2: a file named cannot be used)."""
     try:
-        app = make_app(inventory_path)
-    except (InventoryNotFound, OSError) as exc:
+        app = make_app(inventory_path, open_file)
+    except (InventoryNotFound, SavedFileError, OSError) as exc:
         print(f"drawerfit: {exc}", file=sys.stderr)
         return 2
     result = app.run()

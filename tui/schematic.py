@@ -1,13 +1,14 @@
 """The build sheet's circuit drawing: box-drawing characters on a character grid.
 
 Pure text, no Textual and no physics: it draws the positions a design fills and
-labels each with its part value (a series/parallel network spelled out, e.g.
-``RC 4k7+220R``).  Networks too long for the drawing are listed under it.
+labels each with its part value in RKM (a series/parallel network spelled out, e.g.
+``RC 4k7+220R``; the source and load, not parts, in SI: ``load 22 kΩ``).  Networks too long for the drawing are listed under it.
 """
 
 from __future__ import annotations
 
-from inventory.values import format_capacitance, format_resistance
+from .sheet_text import network_text
+from .widgets import figures
 
 # Columns of the drawing (characters from the left).
 X_DIV = 14       # bias divider R1/R2 (or RB)
@@ -21,25 +22,9 @@ GROUND_Y = 21
 LABEL_ROOM = 13  # characters a value label may take beside its part
 
 
-def network_text(node: dict, unit_key: str = "ohms") -> str:
-    """``4k7+220R``, ``10k‖10k``, ``(1k+220R)‖4k7`` from a network JSON node."""
-    if "series" in node or "parallel" in node:
-        kind = "series" if "series" in node else "parallel"
-        inner = [network_text(n, unit_key) for n in node[kind]]
-        if kind == "parallel":
-            inner = [f"({t})" if "+" in t else t for t in inner]
-        return ("+" if kind == "series" else "‖").join(inner)
-    value = float(node[unit_key])
-    return format_resistance(value) if unit_key == "ohms" else format_capacitance(value)
-
-
 def position_text(entry: dict) -> str:
-    """The value text of one position of a design's ``parts`` map."""
-    unit_key = "farads" if "farads" in entry else "ohms"
-    if "network" in entry:
-        return network_text(entry["network"], unit_key)
-    value = float(entry[unit_key])
-    return format_resistance(value) if unit_key == "ohms" else format_capacitance(value)
+    """The value text (RKM) of one position of a design's ``parts`` map: ``4k7``, ``4k7+220R``."""
+    return network_text(entry["network"]) if "network" in entry else figures.part_value(entry)
 
 
 class Canvas:
@@ -161,7 +146,7 @@ def draw_stage(design: dict, *, supply_v: float | None = None, source_ohms: floa
     c.put(8, BASE_Y, cin)
     c.put(5, BASE_Y - 1, label("CIN"))
     if source_ohms is not None:
-        c.put(0, BASE_Y + 1, f"source {format_resistance(source_ohms)}")
+        c.put(0, BASE_Y + 1, f"source {figures.ohms(source_ohms)}")
 
     # Emitter chain.
     y = BASE_Y + 2
@@ -200,7 +185,7 @@ def draw_stage(design: dict, *, supply_v: float | None = None, source_ohms: floa
     c.put(X_COUT, out_y, "+┤├" if "COUT" in polarised else "┤├")
     c.put(X_COUT - 2, out_y - 1, label("COUT"))
     c.put(X_LOAD, out_y, "┬─○ out")
-    load = f"load {format_resistance(load_ohms)}" if load_ohms is not None else "load"
+    load = f"load {figures.ohms(load_ohms)}" if load_ohms is not None else "load"
     c.resistor(X_LOAD, out_y + 1, load)
     c.vline(X_LOAD, out_y + 4, GROUND_Y - 1)
     c.put(X_LOAD, GROUND_Y, "┘")

@@ -1,108 +1,160 @@
 """The plain-text build sheet of one design and the table of the top designs (CLI and app).
 
-Reads only the design result document (DEVELOPERS.md); no physics here.
+Reads only the design result document (DEVELOPERS.md); no physics here.  Figures are
+spelled by `widgets.figures` (part values RKM, everything else SI with units).
 """
 
 from __future__ import annotations
 
-from inventory.values import format_capacitance, format_resistance, format_si
+from .widgets import figures
 
 ORDER = ("R1", "R2", "RB", "RC", "RE", "RE1", "RE2", "CIN", "COUT", "CE", "Q1")
-GENERAL_CAUTIONS = (
-    "Work with the supply off while fitting parts; set the bench supply's current limit low for the first power-up.",
-    "These are low-voltage bench circuits; for anything mains-powered, local codes and licensed practice apply.",
-)
+FIT_WITH_POWER_OFF = ("Work with the supply off while fitting parts; set the bench supply's current limit low "
+                      "for the first power-up.")
+LOCAL_CODES = "These are low-voltage bench circuits; for anything mains-powered, local codes and licensed practice apply."
+# What a design's own cautions say when they already cover the local-codes line (solver wording varies).
+_CODES_WORDS = ("local codes", "licensed practice")
+BEST_FOR = {"parts": "fewest parts", "clean": "cleanest", "robust": "most robust", "frugal": "least current",
+            "balanced": "balanced"}
 
 
-def node_text(node: dict) -> str:
-    """A network as text: 10k, (4k7 + 5k6), (22k ‖ 22k)."""
+def cautions(design: dict) -> list[str]:
+    """The safety lines for a sheet: the design's own, then the general ones it does not already say."""
+    out: list[str] = []
+    for c in [*design.get("cautions", []), FIT_WITH_POWER_OFF]:
+        if isinstance(c, str) and c not in out:
+            out.append(c)
+    if not any(w in c.lower() for c in out for w in _CODES_WORDS):
+        out.append(LOCAL_CODES)
+    return out
+
+
+def leaves(node: dict) -> list[dict]:
+    """The drawer parts of a network node, in drawing order."""
     if "series" in node or "parallel" in node:
-        sep = " + " if "series" in node else " ‖ "
-        return "(" + sep.join(node_text(n) for n in node.get("series", node.get("parallel"))) + ")"
-    if "ohms" in node:
-        return f"{format_resistance(node['ohms'])} [line {node['line']}]"
-    return f"{format_capacitance(node['farads'])} [line {node['line']}]"
+        return [leaf for n in node.get("series", node.get("parallel", [])) for leaf in leaves(n)]
+    return [node]
 
 
-def _value(pos: str, part: dict) -> str:
+def network_text(node: dict) -> str:
+    """A network in RKM: 10k, 4k7+220R, 22k‖22k, (1k+220R)‖4k7."""
+    if "series" in node or "parallel" in node:
+        kind = "series" if "series" in node else "parallel"
+        inner = [network_text(n) for n in node[kind]]
+        if kind == "parallel":
+            inner = [f"({t})" if "+" in t else t for t in inner]
+        return ("+" if kind == "series" else "‖").join(inner)
+    return figures.part_value(node)
+
+
+def position_value(pos: str, part: dict) -> str:
     if pos == "Q1":
-        return part.get("part", "?")
-    if "ohms" in part:
-        return format_resistance(part["ohms"])
-    return format_capacitance(part["farads"])
+        return str(part.get("part", "?"))
+    return figures.part_value(part)
 
 
-def _pct(x) -> str:
-    return "n/a" if x is None else f"{100 * x:.1f} %"
+def best_for_text(design: dict) -> str:
+    """The trade words of a design's "best_for" labels: "fewest parts, cleanest"."""
+    return ", ".join(BEST_FOR.get(b, str(b)) for b in design.get("best_for") or [])
 
 
 def table(doc: dict) -> str:
-    """One line per design: parts, values, gain at the hFE ends, swing, yield."""
-    rows = ["#  parts  gain (hFE min…max)   swing   f_low    yield   values"]
+    """One line per design: parts, values, gain at the hFE ends, swing, THD, yield, what it is best at."""
+    rows = ["#  parts  gain over hFE     swing      f_low      THD      yield    best for / values"]
     for i, d in enumerate(doc.get("designs", []), 1):
-        at = d.get("at_hfe", {})
-        g = (f"{at['min']['gain']:+.2f}…{at['max']['gain']:+.2f}" if at else f"{d['predicted']['gain']:+.2f}")
-        vals = " ".join(f"{p}={_value(p, d['parts'][p])}" for p in ORDER if p in d["parts"])
+        at = d.get("at_hfe") or {}
         p = d.get("predicted", {})
-        rows.append(f"{i:<2} {d.get('score', {}).get('parts', '?'):>5}  {g:<20} {p.get('swing_pp', 0):5.2f} V "
-                    f"{p.get('f_low', 0):6.2f} Hz {_pct(d.get('yield')):>7}   {vals}")
+        g = (figures.span(at["min"].get("gain"), at["max"].get("gain"), lambda v: f"{v:+.2f}")
+             if "min" in at and "max" in at else figures.gain(p.get("gain")))
+        vals = " ".join(f"{pos}={position_value(pos, d['parts'][pos])}" for pos in ORDER if pos in d.get("parts", {}))
+        best = best_for_text(d)
+        rows.append(f"{i:<2} {(d.get('score') or {}).get('parts', '?'):>5}  {g:<17} {figures.volts(p.get('swing_pp')):<10} "
+                    f"{figures.hertz(p.get('f_low')):<10} {figures.percent(p.get('thd'), 2):<8} "
+                    f"{figures.percent(d.get('yield')):<8} " + (f"[{best}] " if best else "") + vals)
     return "\n".join(rows)
+
+
+def spec_line(spec: dict) -> str:
+    """The request as one line, SI with units."""
+    rin = figures.ohms(spec.get("rin_floor_ohms", spec.get("min_rin_ohms")))
+    if spec.get("rin_floor_is_default"):
+        rin += " (default floor)"
+    gain_tol = figures.percent(spec.get("gain_tol"), 0) if spec.get("gain_tol") is not None else figures.DASH
+    return (f"  for: gain {figures.plain(spec.get('gain'))} ±{gain_tol}, {figures.volts(spec.get('supply_v'))} supply, "
+            f"load {figures.ohms(spec.get('load_ohms'))}, source {figures.ohms(spec.get('source_ohms'))}, "
+            f"{figures.volts(spec.get('swing_pp'))} p-p, f_low ≤ {figures.hertz(spec.get('low_cut_hz'))}, "
+            f"Rin ≥ {rin}")
+
+
+def part_lines(design: dict) -> list[str]:
+    """One line per position: its value, and where each of its drawer parts comes from."""
+    loc = design.get("locations", {})
+
+    def where(line) -> str:
+        place = loc.get(str(line))
+        return f"line {line}" + (f" ({place})" if place else "")
+
+    out = []
+    for pos in ORDER:
+        part = design.get("parts", {}).get(pos)
+        if part is None:
+            continue
+        if pos == "Q1":
+            out.append(f"  {pos:<5} {part.get('part', '?'):<12} {where(part.get('line'))}")
+            continue
+        node = part.get("network") or {}
+        pieces = leaves(node) if node else []
+        if len(pieces) == 1:
+            source = where(pieces[0].get("line"))
+        else:
+            source = ", ".join(f"{figures.part_value(leaf)} {where(leaf.get('line'))}" for leaf in pieces)
+        extra = ""
+        if part.get("polarised"):
+            extra = f"; polarised, rated {figures.volts(part.get('voltage_v'))}"
+        value = network_text(node) if node else position_value(pos, part)
+        out.append(f"  {pos:<5} {value:<12} {source}{extra}")
+    return out
+
+
+def meter_lines(design: dict) -> list[str]:
+    """The DC voltages to check, with their range over the hFE spread, low end first."""
+    p = design.get("predicted", {})
+    at = design.get("at_hfe") or {}
+    out = []
+    for name, key in (("VB", "vb"), ("VE", "ve"), ("VC", "vc")):
+        text = f"  {name} ≈ {figures.volts(p.get(key))}"
+        if "min" in at and "max" in at:
+            text += f"   ({figures.span(at['min'].get(key), at['max'].get(key), figures.volts)} over the hFE range)"
+        out.append(text)
+    out.append(f"  IC ≈ {figures.amps(p.get('ic'))}")
+    return out
 
 
 def sheet(design: dict, spec: dict | None = None) -> str:
     """The build sheet of one design."""
-    p = design["predicted"]
-    out = ["BUILD SHEET — " + design["topology"]]
+    p = design.get("predicted", {})
+    out = ["BUILD SHEET — " + str(design.get("topology", ""))]
     if spec:
-        out.append(f"  for: gain {spec.get('gain')} ±{100 * spec.get('gain_tol', 0):g} %, "
-                   f"{spec.get('supply_v')} V supply, load {format_si(spec.get('load_ohms'), 'Ω')}, "
-                   f"source {format_si(spec.get('source_ohms'), 'Ω')}, {spec.get('swing_pp')} V p-p, "
-                   f"f_low ≤ {spec.get('low_cut_hz')} Hz, Rin ≥ {format_si(spec.get('min_rin_ohms'), 'Ω')}")
-    out.append("")
-    out.append("Parts (pull from):")
-    loc = design.get("locations", {})
-    for pos in ORDER:
-        part = design["parts"].get(pos)
-        if part is None:
-            continue
-        if pos == "Q1":
-            where = loc.get(str(part["line"]), "")
-            out.append(f"  {pos:<5} {part['part']:<10} line {part['line']}" + (f", {where}" if where else ""))
-            continue
-        lines = sorted(_lines(part["network"]))
-        wheres = ", ".join(f"line {n}" + (f" ({loc[str(n)]})" if loc.get(str(n)) else "") for n in lines)
-        extra = ""
-        if part.get("polarised"):
-            extra = f"  polarised, {part.get('voltage_v', 0):g} V"
-        out.append(f"  {pos:<5} {_value(pos, part):<10} {node_text(part['network'])}{extra}")
-        out.append(f"        from {wheres}")
-    out.append("")
-    out.append("Check with a meter (DC, to ground, supply on, no signal):")
-    out.append(f"  VB ≈ {p['vb']:.2f} V   VE ≈ {p['ve']:.2f} V   VC ≈ {p['vc']:.2f} V   IC ≈ {p['ic'] * 1e3:.3g} mA")
-    out.append("")
-    out.append("Predicted (typical hFE):")
-    out.append(f"  gain {p['gain']:+.3f}   Rin {format_si(p['rin'], 'Ω')}   Rout {format_si(p['rout'], 'Ω')}   "
-               f"f_low {p['f_low']:.3g} Hz   clip-free swing {p['swing_pp']:.2f} V p-p")
-    thd = p.get("thd")
-    out.append("  THD at the required swing: " + ("n/a" if thd is None else f"{100 * thd:.2f} %"))
-    for c, a in design.get("at_hfe", {}).items():
-        out.append(f"  at hFE {c}: gain {a['gain']:+.3f}, VC {a['vc']:.2f} V, swing {a['swing_pp']:.2f} V p-p, "
-                   f"f_low {a['f_low']:.3g} Hz, Rin {format_si(a['rin'], 'Ω')}")
-    out.append(f"  Monte Carlo yield (tolerances, hFE, VBE, temperature): {_pct(design.get('yield'))}")
+        out.append(spec_line(spec))
+    best = best_for_text(design)
+    if best:
+        out.append(f"  best for: {best}")
+    out += ["", "Parts (value, then where to take it from):", *part_lines(design)]
+    out += ["", "Check with a meter (DC, to 0 V, supply on, no signal):", *meter_lines(design)]
+    out += ["", "Predicted (typical hFE):"]
+    out.append(f"  gain {figures.gain(p.get('gain'))}   Rin {figures.ohms(p.get('rin'))}   "
+               f"Rout {figures.ohms(p.get('rout'))}   f_low {figures.hertz(p.get('f_low'))}   "
+               f"clip-free swing {figures.volts(p.get('swing_pp'))} p-p")
+    out.append(f"  THD at the required swing: {figures.percent(p.get('thd'), 2)}")
+    for corner, a in (design.get("at_hfe") or {}).items():
+        out.append(f"  at hFE {corner}: gain {figures.gain(a.get('gain'))}, VC {figures.volts(a.get('vc'))}, "
+                   f"swing {figures.volts(a.get('swing_pp'))} p-p, f_low {figures.hertz(a.get('f_low'))}, "
+                   f"Rin {figures.ohms(a.get('rin'))}")
+    out.append(f"  Monte Carlo yield (tolerances, hFE, VBE, temperature): {figures.percent(design.get('yield'))}")
     if design.get("warnings"):
-        out.append("")
-        out.append("Warnings:")
-        out += [f"  ! {w}" for w in design["warnings"]]
-    out.append("")
-    out.append("Safety:")
-    out += [f"  * {c}" for c in list(design.get("cautions", [])) + list(GENERAL_CAUTIONS)]
+        out += ["", "Warnings:", *(f"  ! {w}" for w in design["warnings"])]
+    out += ["", "Safety:", *(f"  * {c}" for c in cautions(design))]
     return "\n".join(out)
-
-
-def _lines(node: dict) -> set:
-    if "series" in node or "parallel" in node:
-        return set().union(*(_lines(n) for n in node.get("series", node.get("parallel"))))
-    return {int(node["line"])}
 
 
 def reasons(doc: dict) -> str:

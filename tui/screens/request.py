@@ -1,16 +1,14 @@
-"""The design request: what the stage must do, checked as typed, solved in a thread.
+"""The design request: what the stage must do, checked as typed, searched for in a thread.
 
-Each field goes through its parser from `inventory.values`; the whole request then
-through `Spec.problems()`, whose messages land beside the field they name.  The
-solver runs in a thread worker, reports progress by messages, and stops when Esc
-sets its cancel event.
+The fields, their defaults and their parsers are `tui.request_fields` (shared with the CLI);
+this screen only lays them out.  The search runs in a thread worker, reports progress by
+messages, and Esc sets its cancel event: within a second the screen shows the best designs
+found so far, or says the search was stopped.
 """
 
 from __future__ import annotations
 
 import threading
-from collections.abc import Callable
-from dataclasses import dataclass
 
 from textual import on, work
 from textual.app import ComposeResult
@@ -19,61 +17,23 @@ from textual.containers import Horizontal, VerticalScroll
 from textual.message import Message
 from textual.screen import Screen
 from textual.validation import ValidationResult, Validator
-from textual.widgets import Footer, Header, Input, Label, ProgressBar, Select
+from textual.widgets import Footer, Input, Label, ProgressBar, Select
 from textual.worker import Worker, WorkerState
 
-from inventory import values
-from optimizer.spec import Spec
-from optimizer.stage import TOPOLOGIES
+from .. import request_fields as rf
+from ..widgets.masthead import Masthead
 
-
-def parse_hz(text: str) -> float:
-    """A frequency in Hz from ``30``, ``30Hz``, ``30 hz``."""
-    s = text.strip()
-    if s.lower().endswith("hz"):
-        s = s[:-2]
-    try:
-        return values.parse_number(s)
-    except values.ValueFormatError:
-        raise values.ValueFormatError(text, "a frequency", "expected e.g. 30, 30Hz") from None
-
-
-def parse_gain(text: str) -> float:
-    return values.parse_number(text.strip().lstrip("-").rstrip("xX×").strip())
-
-
-@dataclass(frozen=True)
-class Field:
-    label: str
-    option: str                       # the Spec.problems() option this field answers to
-    spec_name: str
-    parse: Callable[[str], float]
-    default: str
-    hint: str
-
-
-FIELDS = {
-    "gain": Field("Gain", "--gain", "gain", parse_gain, "10", "voltage gain, magnitude"),
-    "gain_tol": Field("Gain tolerance", "--gain-tol", "gain_tol", values.parse_tolerance, "5%", "± around it"),
-    "supply": Field("Supply", "--supply", "supply_v", values.parse_voltage, "12V", "single rail"),
-    "load": Field("Load", "--load", "load_ohms", values.parse_resistance, "22k", "what the output drives"),
-    "source": Field("Source", "--source", "source_ohms", values.parse_resistance, "1k",
-                    "resistance of what drives the input"),
-    "swing": Field("Swing", "--swing", "swing_pp", values.parse_voltage, "5V", "V peak-to-peak at the load"),
-    "low_cut": Field("Low cut-off", "--low-cut", "low_cut_hz", parse_hz, "30Hz", "lowest frequency, -3 dB"),
-    "min_rin": Field("Minimum Rin", "--min-rin", "min_rin_ohms", values.parse_resistance, "8k",
-                     "input resistance at least"),
-}
-DEPTHS = [("1 part per position", 1), ("up to 2 in series/parallel", 2), ("up to 3 in series/parallel", 3)]
-DEFAULT_DEPTH = 2
+STOP_GRACE_S = 1.0  # after Esc, how long the screen waits for the search's best-so-far
 
 
 class FieldCheck(Validator):
-    def __init__(self, parse: Callable[[str], float]) -> None:
+    def __init__(self, parse) -> None:
         super().__init__()
         self.parse = parse
 
     def validate(self, value: str) -> ValidationResult:
+        if value.strip() == "":
+            return self.success()  # an empty required field is reported by the request check
         try:
             self.parse(value)
         except ValueError as exc:
@@ -82,60 +42,72 @@ class FieldCheck(Validator):
 
 
 class SolveProgress(Message):
-    """From the solving thread: how far it is."""
+    """From the searching thread: how far it is."""
 
-    def __init__(self, fraction: float, text: str) -> None:
+    def __init__(self, run: int, fraction: float, text: str) -> None:
         super().__init__()
-        self.fraction, self.text = fraction, text
+        self.run, self.fraction, self.text = run, fraction, text
 
     def can_replace(self, message: Message) -> bool:
         return isinstance(message, SolveProgress)
 
 
 class Solved(Message):
-    """From the solving thread: the design result (the JSON shape), or None when cancelled."""
+    """From the searching thread: the design result document, or None when stopped with nothing."""
 
-    def __init__(self, result: dict | None) -> None:
+    def __init__(self, run: int, result: dict | None) -> None:
         super().__init__()
-        self.result = result
+        self.run, self.result = run, result
+
+
+def _choice_row(label: str, choices, value, widget_id: str) -> Horizontal:
+    return Horizontal(Label(label, classes="field-label"),
+                      Select(list(choices), value=value, allow_blank=False, id=widget_id, compact=True),
+                      classes="field")
 
 
 class RequestScreen(Screen):
-    """Fill in the specification; F5 solves, Esc stops a solve or goes back."""
+    """Fill in the request; F5 finds stages, Esc stops a search or goes back."""
 
     BINDINGS = [
-        Binding("f5,ctrl+s", "solve", "Solve", id="request.solve", tooltip="Find designs from the drawer"),
+        Binding("f5,ctrl+s", "solve", "Find stages", id="request.solve",
+                tooltip="Search the drawer for stages that meet this request"),
         Binding("escape", "stop_or_back", "Stop/back", id="request.back",
-                tooltip="Stop the solve, or go back to the drawer"),
-        Binding("ctrl+r", "reset", "Defaults", id="request.reset", tooltip="Put the default request back"),
+                tooltip="Stop the search (keeping the best found so far), or go back to the drawer"),
+        Binding("ctrl+r", "reset", "Start afresh", id="request.reset", tooltip="Put every field back to its default"),
     ]
 
     def __init__(self) -> None:
         super().__init__()
         self.cancel = threading.Event()
         self.solving = False
+        self.run_id = 0
 
     def compose(self) -> ComposeResult:
-        last = self.app.last_request  # the request solved last, as it was typed
-        yield Header()
+        last = self.app.last_request  # the request searched last, as it was typed
+        yield Masthead()
         with VerticalScroll(id="request"):
-            with Horizontal(classes="field"):
-                yield Label("Topology", classes="field-label")
-                yield Select([(t, t) for t in TOPOLOGIES], value=last.get("topology", TOPOLOGIES[0]),
-                             allow_blank=False, id="topology", compact=True)
-            for name, f in FIELDS.items():
-                with Horizontal(classes="field"):
-                    yield Label(f.label, classes="field-label")
-                    yield Input(last.get(name, f.default), id=f"r-{name}", compact=True,
-                                validators=[FieldCheck(f.parse)], validate_on=["changed"], placeholder=f.default)
-                    yield Label(f.hint, id=f"m-{name}", classes="field-note")
-            with Horizontal(classes="field"):
-                yield Label("Network depth", classes="field-label")
-                yield Select(DEPTHS, value=last.get("depth", DEFAULT_DEPTH), allow_blank=False, id="depth",
-                             compact=True)
+            yield _choice_row("Stage", rf.TOPOLOGY_CHOICES, last.get("topology", rf.CHOICE_DEFAULTS["topology"]),
+                              "topology")
+            for key, title in rf.GROUPS:
+                yield Label(title, classes="group-title")
+                for f in rf.FIELDS:
+                    if f.group != key:
+                        continue
+                    with Horizontal(classes="field", id=f"row-{f.name}"):
+                        yield Label(f.label, classes="field-label")
+                        yield Input(last.get(f.name, f.default), id=f"r-{f.name}", compact=True,
+                                    validators=[FieldCheck(f.parse)], validate_on=["changed"],
+                                    placeholder=f.default or f.blank)
+                        yield Label(f.hint, id=f"m-{f.name}", classes="field-note")
+                if key == "search":
+                    yield _choice_row("Network depth", rf.DEPTH_CHOICES,
+                                      last.get("depth", rf.CHOICE_DEFAULTS["depth"]), "depth")
+                    yield _choice_row("Which first", rf.PREFER_CHOICES,
+                                      last.get("prefer", rf.CHOICE_DEFAULTS["prefer"]), "prefer")
             yield Label("", id="request-problems", classes="field-error")
             yield ProgressBar(total=1.0, show_eta=False, id="solve-progress")
-            yield Label("F5 finds designs from the parts in the drawer.", id="solve-status")
+            yield Label("F5 finds stages from the parts in the drawer.", id="solve-status")
         yield Footer(compact=True, show_command_palette=False)
 
     def on_mount(self) -> None:
@@ -145,48 +117,47 @@ class RequestScreen(Screen):
 
     # ---- checking ------------------------------------------------------------------------
 
-    def spec(self) -> tuple[Spec | None, dict[str, str]]:
-        """The Spec the fields describe, or None; and the problem per field name ("" for the whole)."""
-        found: dict[str, str] = {}
-        kwargs: dict[str, object] = {
-            "topology": str(self.query_one("#topology", Select).value),
-            "max_parts_per_position": int(self.query_one("#depth", Select).value),
-        }
-        for name, f in FIELDS.items():
-            try:
-                kwargs[f.spec_name] = f.parse(self.query_one(f"#r-{name}", Input).value)
-            except ValueError as exc:
-                found[name] = str(exc)
-        if found:
-            return None, found
-        spec = Spec(**kwargs)
-        options = {f.option: name for name, f in FIELDS.items()}
-        for problem in spec.problems():
-            option, _, text = problem.partition(": ")
-            name = options.get(option, "")
-            found[name] = f"{found[name]}; {text}" if name in found else (text if name else problem)
-        return (None if found else spec), found
+    def texts(self) -> dict[str, str]:
+        return {f.name: self.query_one(f"#r-{f.name}", Input).value for f in rf.FIELDS}
+
+    def choices(self) -> dict[str, object]:
+        return {name: self.query_one(f"#{name}", Select).value for name in ("topology", "depth", "prefer")}
+
+    def request(self):
+        """(Spec or None, find_designs keywords, problems by field name)."""
+        return rf.build_request(self.texts(), self.choices())
 
     @on(Input.Changed)
     @on(Select.Changed)
-    def check(self) -> Spec | None:
-        spec, found = self.spec()
-        for name, f in FIELDS.items():
-            note = self.query_one(f"#m-{name}", Label)
-            note.update(found.get(name, f.hint))
-            note.set_class(name in found, "-problem")
-            self.query_one(f"#r-{name}", Input).set_class(name in found, "-invalid")
-        self.query_one("#request-problems", Label).update(found.get("", ""))
-        self.query_one("#request-problems", Label).display = "" in found
+    def check(self):
+        spec, _, found = self.request()
+        follower = self.query_one("#topology", Select).value == rf.FOLLOWER
+        for f in rf.FIELDS:
+            note = self.query_one(f"#m-{f.name}", Label)
+            note.update(found.get(f.name, f.hint))
+            note.set_class(f.name in found, "-problem")
+            self.query_one(f"#r-{f.name}", Input).set_class(f.name in found, "-invalid")
+        if "min_rin" not in found:
+            self.query_one("#m-min_rin", Label).update(rf.rin_floor_text(self.query_one("#r-source", Input).value))
+        # A follower's gain is not asked for: just under 1 by nature.
+        gain = self.query_one("#r-gain", Input)
+        gain.disabled = follower
+        if follower:
+            self.query_one("#m-gain", Label).update(f"a follower: about 1 (asked as {rf.FOLLOWER_GAIN:g})")
+            gain.set_class(False, "-invalid")
+        problems = self.query_one("#request-problems", Label)
+        problems.update(found.get("", ""))
+        problems.display = "" in found
         return spec
 
-    # ---- solving -------------------------------------------------------------------------
+    # ---- searching -----------------------------------------------------------------------
 
     @on(Input.Submitted)
     def action_solve(self) -> None:
         if self.solving:
             return
-        spec = self.check()
+        self.check()
+        spec, search_kw, found = self.request()
         status = self.query_one("#solve-status", Label)
         if spec is None:
             status.update("Fix the fields marked in red first.")
@@ -194,67 +165,82 @@ class RequestScreen(Screen):
         if self.app.drawer is None:
             status.update(self.app.load_error or "No drawer file")
             return
-        self.app.last_request = {
-            "topology": spec.topology, "depth": spec.max_parts_per_position,
-            **{name: self.query_one(f"#r-{name}", Input).value for name in FIELDS},
-        }
+        self.app.last_request = {**self.texts(), **self.choices()}
         self.cancel = threading.Event()
         self.solving = True
+        self.run_id += 1
         bar = self.query_one("#solve-progress", ProgressBar)
         bar.display = True
         bar.update(progress=0.0)
-        status.update("Solving… (Esc stops)")
-        self.solve(self.app.drawer, spec, spec.max_parts_per_position, self.cancel)
+        limit = search_kw.get("time_limit_s")
+        status.update(f"Searching (at most {limit:g} s; Esc stops and keeps the best so far)…")
+        self.solve(self.run_id, self.app.drawer, spec, search_kw, self.cancel)
 
     @work(thread=True, exclusive=True, group="solve", exit_on_error=False)
-    def solve(self, drawer, spec: Spec, depth: int, cancel: threading.Event) -> None:
+    def solve(self, run: int, drawer, spec, search_kw: dict, cancel: threading.Event) -> None:
         # Imported here: the solver pulls in OR-Tools, which the drawer view never needs.
         from optimizer.select import find_designs
 
         def progress(fraction: float, text: str) -> None:
-            self.post_message(SolveProgress(fraction, text))
+            self.post_message(SolveProgress(run, fraction, text))
 
         try:
-            result = find_designs(drawer, spec, top=3, depth=depth, progress=progress, cancel=cancel)
+            result = find_designs(drawer, spec, progress=progress, cancel=cancel, **search_kw)
         except Exception:
             if not cancel.is_set():
                 raise  # a real failure: the worker reports it (on_worker_state_changed)
             result = None  # stopped on request; how the solver unwinds is its own business
-        self.post_message(Solved(None if cancel.is_set() else result))
+        if cancel.is_set() and not (result or {}).get("designs"):
+            result = None
+        self.post_message(Solved(run, result))
 
     def on_solve_progress(self, message: SolveProgress) -> None:
-        if self.solving:
-            self.query_one("#solve-progress", ProgressBar).update(progress=message.fraction)
+        if self.solving and message.run == self.run_id and not self.cancel.is_set():
+            self.query_one("#solve-progress", ProgressBar).update(progress=max(0.0, min(1.0, message.fraction)))
             self.query_one("#solve-status", Label).update(f"{message.text} (Esc stops)")
 
-    def on_solved(self, message: Solved) -> None:
+    def finish(self, text: str) -> None:
         self.solving = False
         self.query_one("#solve-progress").display = False
-        status = self.query_one("#solve-status", Label)
+        self.query_one("#solve-status", Label).update(text)
+
+    def on_solved(self, message: Solved) -> None:
+        if message.run != self.run_id or not self.solving:
+            return  # a search the user stopped and gave up waiting for
+        stopped = self.cancel.is_set()
         if message.result is None:
-            status.update("Stopped. F5 solves again.")
+            self.finish("Stopped; nothing found before the stop. F5 searches again.")
             return
-        found = len(message.result.get("designs", []))
-        status.update(f"{found} design{'s' * (found != 1)} found. F5 solves again.")
+        result = message.result
+        if stopped:
+            result = {**result, "stopped": True}
+        found = len(result.get("designs", []))
+        self.finish(f"{found} design{'s' * (found != 1)} found{' before the stop' if stopped else ''}. "
+                    "F5 searches again.")
         from .results import ResultsScreen
 
-        self.app.push_screen(ResultsScreen(message.result))
+        self.app.push_screen(ResultsScreen(result))
 
     def on_worker_state_changed(self, event: Worker.StateChanged) -> None:
-        if event.worker.group == "solve" and event.state == WorkerState.ERROR:
-            self.solving = False
-            self.query_one("#solve-progress").display = False
-            self.query_one("#solve-status", Label).update(f"The solver stopped with an error: {event.worker.error}")
+        if event.worker.group == "solve" and event.state == WorkerState.ERROR and self.solving:
+            self.finish(f"The search stopped with an error: {event.worker.error}")
+
+    def give_up(self, run: int) -> None:
+        """Esc was pressed a grace period ago and the search has not handed back yet."""
+        if self.solving and run == self.run_id:
+            self.finish("Stopped. F5 searches again.")
 
     def action_stop_or_back(self) -> None:
         if self.solving:
             self.cancel.set()
-            self.query_one("#solve-status", Label).update("Stopping…")
+            self.query_one("#solve-status", Label).update("Stopping; keeping the best found so far…")
+            run = self.run_id
+            self.set_timer(STOP_GRACE_S, lambda: self.give_up(run))
         else:
             self.app.pop_screen()
 
     def action_reset(self) -> None:
-        for name, f in FIELDS.items():
-            self.query_one(f"#r-{name}", Input).value = f.default
-        self.query_one("#topology", Select).value = TOPOLOGIES[0]
-        self.query_one("#depth", Select).value = DEFAULT_DEPTH
+        for f in rf.FIELDS:
+            self.query_one(f"#r-{f.name}", Input).value = f.default
+        for name, value in rf.CHOICE_DEFAULTS.items():
+            self.query_one(f"#{name}", Select).value = value

@@ -10,22 +10,16 @@ from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import VerticalScroll
 from textual.screen import Screen
-from textual.widgets import DataTable, Footer, Header, Label, Static
-from textual_plotext import PlotextPlot
+from textual.widgets import DataTable, Footer, Label, Static
 
 from optimizer import network_tree
 
 from ..schematic import draw_stage, position_text
+from ..sheet_text import best_for_text, cautions
 from ..widgets import figures
+from ..widgets.chart import Chart, draw_histogram, draw_response
+from ..widgets.masthead import Masthead
 from ..widgets.part_text import rating_text, tolerance_text, type_text, value_text
-
-# Shown only when a design carries no cautions of its own (the solver normally words them).
-SAFETY = (
-    "Check the supply voltage and polarity before connecting it; keep every part within its ratings.",
-    "Fit polarised capacitors with + toward the higher DC voltage; reversed, they can vent or fail short.",
-    "Local electrical codes and licensed practice take precedence over these notes.",
-)
-
 
 def line_text(part) -> str:
     """The drawer line as stocked: "4k7 5% 0.25 W", "BC547B hFE 200-450 45 V"."""
@@ -70,32 +64,66 @@ def polarised_positions(design: dict, drawer) -> frozenset[str]:
 
 
 def meter_text(design: dict) -> str:
-    """The DC voltages to check, no signal applied, with their spread over the hFE range."""
+    """The DC voltages to check, no signal applied, with their range over the hFE spread (low end first)."""
     p = design.get("predicted", {})
     spread = design.get("at_hfe") or {}
     lines = ["Power up with no signal; black probe on 0 V."]
     for name, key in (("Base", "vb"), ("Emitter", "ve"), ("Collector", "vc")):
         lo = spread.get("min", {}).get(key)
         hi = spread.get("max", {}).get(key)
-        span = f"   ({figures.volts(lo)} … {figures.volts(hi)} over the hFE range)" if lo is not None else ""
-        lines.append(f"  {name:<10} {figures.volts(p.get(key))}{span}")
+        rng = f"   ({figures.span(lo, hi, figures.volts)} over the hFE range)" if lo is not None else ""
+        lines.append(f"  {name:<10} {figures.volts(p.get(key))}{rng}")
     return "\n".join(lines)
+
+
+def histogram_caption(design: dict, spec: dict) -> str:
+    """What the histogram shows, in words: how many builds, what varies, where the asked gain lies."""
+    mc = design.get("mc") or {}
+    shown, n = len(mc.get("gain") or []), mc.get("n")
+    temp = spec.get("temp_range_c") or []
+    where = f" and a temperature in {temp[0]:g}..{temp[1]:g} °C" if len(temp) == 2 else ""
+    of = f" ({shown} of the {n} behind the yield figure)" if n and n != shown else ""
+    lines = [f"Each simulated build draws every part within its tolerance, hFE over its range{where}; "
+             f"{shown} builds are shown{of}."]
+    if spec.get("gain") and spec.get("gain_tol") is not None:
+        lines.append("The vertical lines mark the gain asked for, ± its tolerance.")
+    return " ".join(lines)
+
+
+def gain_window(design: dict, spec: dict) -> tuple[float, float] | None:
+    """The gain asked for as (low, high), with the sign the design's gain has."""
+    try:
+        g, tol = float(spec["gain"]), float(spec["gain_tol"])
+    except (KeyError, TypeError, ValueError):
+        return None
+    sign = -1.0 if float((design.get("predicted") or {}).get("gain") or 1.0) < 0 else 1.0
+    a, b = sign * g * (1 - tol), sign * g * (1 + tol)
+    return (min(a, b), max(a, b))
 
 
 def figures_text(design: dict) -> str:
     rows = figures.predicted_rows(design.get("predicted", {}))
     score = design.get("score") or {}
+    if score.get("robustness") is not None:
+        rows.append(("Worst-corner margin", figures.percent(score.get("robustness"))))
+    if score.get("supply_a") is not None:
+        rows.append(("Supply current (max)", figures.amps(score.get("supply_a"))))
     rows += [("Swing margin", figures.volts(score.get("swing_margin_v"))),
              ("Yield (Monte Carlo)", figures.percent(design.get("yield"))),
              ("Parts", str(score.get("parts", figures.DASH)))]
     return "\n".join(f"  {label:<20} {text}" for label, text in rows)
 
 
+def build_record(rank: int, design: dict, result: dict) -> dict:
+    """What a build's journal entry should keep to reopen its sheet later: the design and its request."""
+    return {"rank": rank, "design": design, "spec": result.get("spec") or {}}
+
+
 class SheetScreen(Screen):
     """How to build design #rank from the drawer."""
 
     BINDINGS = [
-        Binding("b", "build", "Build", id="sheet.build", tooltip="Take these parts from the drawer"),
+        Binding("b", "build", "Take the parts", id="sheet.build", tooltip="Build it: take these parts off the drawer counts"),
         Binding("escape", "back", "Back", id="sheet.back", tooltip="Back to the designs"),
     ]
 
@@ -103,16 +131,23 @@ class SheetScreen(Screen):
         super().__init__()
         self.rank, self.design, self.result = rank, design, result
 
+    @classmethod
+    def from_record(cls, record: dict) -> SheetScreen:
+        """The sheet of a past build from its `build_record` (as kept in the journal)."""
+        return cls(int(record.get("rank", 1)), record["design"], {"spec": record.get("spec") or {}})
+
     def compose(self) -> ComposeResult:
         design, spec = self.design, self.result.get("spec", {})
         drawer = self.app.drawer
         q1 = design.get("parts", {}).get("Q1", {})
-        yield Header()
+        yield Masthead()
         with VerticalScroll(id="sheet"):
             hfe = design.get("hfe") or {}
             spread = f" (hFE {hfe['min']:g}…{hfe['max']:g})" if "min" in hfe and "max" in hfe else ""
+            best = best_for_text(design)
             yield Label(f"Build sheet: design #{self.rank}, {design.get('topology', '')}, "
-                        f"Q1 {q1.get('part', '')}{spread}", classes="section-title")
+                        f"Q1 {q1.get('part', '')}{spread}" + (f"\nBest for: {best}" if best else ""),
+                        classes="section-title")
             yield Static(draw_stage(design, supply_v=spec.get("supply_v"), source_ohms=spec.get("source_ohms"),
                                     load_ohms=spec.get("load_ohms"),
                                     polarised=polarised_positions(design, drawer)), id="schematic")
@@ -124,30 +159,27 @@ class SheetScreen(Screen):
             yield Static(figures_text(design), id="predicted")
             response = design.get("response") or {}
             if response.get("freq_hz"):
-                yield PlotextPlot(id="response", classes="plot")
+                yield Label("Response", classes="section-title")
+                yield Chart(lambda plt, rgb: draw_response(plt, response["freq_hz"], response.get("gain_db", []), rgb),
+                            id="response", classes="plot")
             if (design.get("mc") or {}).get("gain"):
-                yield PlotextPlot(id="histogram", classes="plot")
-            notes = list(design.get("warnings", [])) + list(design.get("cautions", []))
-            yield Label("Warnings and cautions", classes="section-title problem-title")
-            yield Static("\n".join(f"• {n}" for n in (notes or SAFETY)), id="cautions")
+                yield Label("Gain of simulated builds (how many builds land at each gain)", classes="section-title")
+                window = gain_window(design, spec)
+                samples = design["mc"]["gain"]
+                yield Chart(lambda plt, rgb: draw_histogram(plt, samples, window=window, colour=rgb),
+                            id="histogram", classes="plot")
+                yield Static(histogram_caption(design, spec), id="histogram-caption", classes="caption")
+            if design.get("warnings"):
+                yield Label("Warnings", classes="section-title problem-title")
+                yield Static("\n".join(f"• {n}" for n in design["warnings"]), id="warnings")
+            yield Label("Safety", classes="section-title problem-title")
+            yield Static("\n".join(f"• {n}" for n in cautions(design)), id="cautions")
         yield Footer(compact=True, show_command_palette=False)
 
     def on_mount(self) -> None:
         table = self.query_one("#sheet-parts", DataTable)
         table.add_columns("Pos", "Value", "Line", "Place", "In the drawer as")
         table.add_rows(part_rows(self.design, self.app.drawer))
-        response = self.design.get("response") or {}
-        if response.get("freq_hz"):
-            plt = self.query_one("#response", PlotextPlot).plt
-            plt.plot(response["freq_hz"], response["gain_db"], marker="braille")
-            plt.xscale("log")
-            plt.title("Gain (dB) against frequency (Hz)")
-        samples = (self.design.get("mc") or {}).get("gain")
-        if samples:
-            plt = self.query_one("#histogram", PlotextPlot).plt
-            plt.hist(samples, bins=24)
-            n = self.design["mc"].get("n", len(samples))
-            plt.title(f"Gain of {len(samples)} of {n} simulated builds (Monte Carlo)")
         self.query_one("#sheet").focus()
 
     def action_back(self) -> None:

@@ -1,0 +1,248 @@
+"""The design request's fields: one list, with one set of defaults, for the app's form and the CLI.
+
+Every default is read from the solver's own definitions (`optimizer.spec.Spec` field
+defaults and constants, `optimizer.select`'s preference and time limit), spelled as a user
+would type it.  Each field knows its CLI option, its parser and, for the form, its label and
+a one-line hint.  Headless: no Textual here.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Callable
+from dataclasses import dataclass, fields
+
+from inventory import values
+from optimizer.spec import RIN_FLOOR_MIN_OHMS, RIN_FLOOR_SOURCE_RATIO, Spec, default_rin_floor
+
+try:  # light: the search's own defaults, where they are defined next to the Spec
+    from optimizer.spec import DEFAULT_PREFER, DEFAULT_TIME_LIMIT_S, PREFERENCES
+except ImportError:  # else from the solver module (it loads OR-Tools: about a second)
+    from optimizer.select import DEFAULT_PREFER, DEFAULT_TIME_LIMIT_S, PREFERENCES
+from optimizer.stage import TOPOLOGIES
+
+SPEC_DEFAULTS = Spec()
+DEFAULT_TOP = 3  # designs shown; find_designs' own default (top=3)
+FOLLOWER = "emitter-follower"
+# A follower's gain is just under 1 by nature; it is not asked for, the request takes 0.95 ± 5 %
+# (0.90…1.00).  Common practice, no source.
+FOLLOWER_GAIN = 0.95
+PREFER_WORDS = {"balanced": "balanced", "parts": "fewest parts", "clean": "cleanest (least THD)",
+                "robust": "most robust (widest margin)", "frugal": "least supply current"}
+
+
+class FieldError(ValueError):
+    """Bad text in one field; the message says what was expected."""
+
+
+def parse_hz(text: str) -> float:
+    """A frequency in Hz from ``30``, ``30Hz``, ``1.8k``, ``1.8 kHz``."""
+    s = text.strip()
+    if s.lower().endswith("hz"):
+        s = s[:-2].strip()
+    try:
+        return values.parse_number(s)
+    except values.ValueFormatError:
+        pass
+    try:
+        return values.parse_resistance(s)  # the same SI/RKM spelling: 1k8, 1.8k
+    except values.ValueFormatError:
+        raise FieldError(f'"{text}" is not a frequency (expected e.g. 30, 30Hz, 1.8k)') from None
+
+
+def parse_gain(text: str) -> float:
+    """A gain magnitude: ``10``, ``-10``, ``10x``."""
+    try:
+        return values.parse_number(text.strip().lstrip("-").rstrip("xX×").strip())
+    except values.ValueFormatError:
+        raise FieldError(f'"{text}" is not a gain (expected e.g. 10)') from None
+
+
+def parse_fraction(text: str) -> float:
+    """A share as a fraction: ``5%`` or ``0.05``.  A bare number must be below 1."""
+    s = text.strip()
+    try:
+        v = values.parse_number(s[:-1].strip()) / 100 if s.endswith("%") else values.parse_number(s)
+    except values.ValueFormatError:
+        v = math.nan
+    if not 0 <= v < 1:
+        raise FieldError(f'"{text}" is not a share (expected a fraction such as 0.05, or 5%)')
+    return v
+
+
+def parse_seconds(text: str) -> float:
+    s = text.strip().removesuffix("s").strip()
+    try:
+        v = values.parse_number(s)
+    except values.ValueFormatError:
+        v = math.nan
+    if not 0 < v <= 3600:
+        raise FieldError(f'"{text}" is not a time limit (expected seconds, 0 < t ≤ 3600, e.g. 10)')
+    return v
+
+
+def parse_count(text: str) -> int:
+    s = text.strip()
+    if not s.isdigit() or not 1 <= int(s) <= 20:
+        raise FieldError(f'"{text}" is not a number of designs (expected a whole number 1..20)')
+    return int(s)
+
+
+def parse_temp_range(text: str) -> tuple[float, float]:
+    """``0..50`` (°C) → (0.0, 50.0)."""
+    parts = text.replace("°C", "").replace("C", "").split("..")
+    try:
+        lo, hi = (float(p) for p in parts)
+    except ValueError:
+        raise FieldError(f'"{text}" is not a temperature range (expected LO..HI in °C, e.g. 0..50)') from None
+    if not (math.isfinite(lo) and math.isfinite(hi)) or lo < -273.15:
+        raise FieldError(f'"{text}" is not a temperature range (expected LO..HI in °C, e.g. 0..50)')
+    return lo, hi
+
+
+def _value_error(parse: Callable[[str], float]) -> Callable[[str], float]:
+    """A values parser whose ValueFormatError becomes a FieldError with the same message."""
+    def run(text: str) -> float:
+        try:
+            return parse(text)
+        except values.ValueFormatError as exc:
+            raise FieldError(str(exc)) from None
+    return run
+
+
+@dataclass(frozen=True)
+class Field:
+    name: str                       # key; the form's widget ids are r-NAME (input) and m-NAME (note)
+    label: str
+    option: str                     # the CLI option (and the name Spec.problems() uses)
+    target: str                     # Spec field, or a find_designs keyword for the search options
+    parse: Callable[[str], object]
+    default: str                    # the default as typed; "" = not set
+    hint: str
+    group: str
+    blank: str = ""                 # what an empty field means, shown in the empty box
+
+
+def _spec(name: str):
+    return getattr(SPEC_DEFAULTS, name)
+
+
+def _si(value, unit: str) -> str:
+    return values.format_si(value, unit)
+
+
+_RIN_RULE = f"empty: {RIN_FLOOR_SOURCE_RATIO:g} × the source, at least {_si(RIN_FLOOR_MIN_OHMS, 'Ω')}"
+_resistance, _voltage = _value_error(values.parse_resistance), _value_error(values.parse_voltage)
+
+FIELDS: tuple[Field, ...] = (
+    Field("gain", "Gain", "--gain", "gain", parse_gain, f"{_spec('gain'):g}", "voltage gain, magnitude", "stage"),
+    Field("gain_tol", "Gain tolerance", "--gain-tol", "gain_tol", parse_fraction, f"{_spec('gain_tol') * 100:g}%",
+          "± around it", "stage"),
+    Field("supply", "Supply", "--supply", "supply_v", _voltage, _si(_spec("supply_v"), "V"), "single rail", "stage"),
+    Field("load", "Load", "--load", "load_ohms", _resistance, _si(_spec("load_ohms"), "Ω"),
+          "what the output drives", "stage"),
+    Field("source", "Source", "--source", "source_ohms", _resistance, _si(_spec("source_ohms"), "Ω"),
+          "resistance of what drives the input", "stage"),
+    Field("swing", "Swing", "--swing", "swing_pp", _voltage, _si(_spec("swing_pp"), "V"),
+          "V peak-to-peak at the load, clip-free", "stage"),
+    Field("low_cut", "Low cut-off", "--low-cut", "low_cut_hz", parse_hz, _si(_spec("low_cut_hz"), "Hz"),
+          "lowest frequency, -3 dB", "stage"),
+    Field("min_rin", "Minimum Rin", "--min-rin", "min_rin_ohms", _resistance, "", _RIN_RULE, "stage",
+          "default floor"),
+    Field("max_thd", "Max distortion", "--max-thd", "max_thd", parse_fraction, f"{_spec('max_thd') * 100:g}%",
+          "THD at the swing", "limits"),
+    Field("min_vce", "Min VCE", "--min-vce", "min_vce_v", _voltage, _si(_spec("min_vce_v"), "V"),
+          "headroom above saturation", "limits"),
+    Field("max_current", "Max current", "--max-current", "max_supply_a", _value_error(values.parse_current), "",
+          "supply current", "limits", "no limit"),
+    Field("temp_range", "Temperature", "--temp-range", "temp_range_c", parse_temp_range,
+          "{:g}..{:g}".format(*_spec("temp_range_c")), "°C, LO..HI; must hold at both ends", "limits"),
+    Field("min_yield", "Min yield", "--min-yield", "min_yield", parse_fraction, "",
+          "share of simulated builds that meet it all", "limits", "any"),
+    Field("top", "Designs", "--top", "top", parse_count, str(DEFAULT_TOP), "how many to show", "search"),
+    Field("time_limit", "Time limit", "--time-limit", "time_limit_s", parse_seconds,
+          f"{DEFAULT_TIME_LIMIT_S:g} s", "then the best found so far", "search"),
+)
+BY_NAME = {f.name: f for f in FIELDS}
+SPEC_FIELDS = {f.name for f in fields(Spec)}
+OPTIONAL = {f.name for f in FIELDS if f.default == ""}
+GROUPS = (("stage", "The stage"), ("limits", "Limits"), ("search", "Search"))
+
+# The choice fields (the form shows them as lists).
+TOPOLOGY_CHOICES = tuple((t, t) for t in TOPOLOGIES)
+DEPTH_CHOICES = (("1 part per position", 1), ("up to 2 in series/parallel", 2), ("up to 3 in series/parallel", 3))
+PREFER_CHOICES = tuple((f"{PREFER_WORDS.get(p, p)} first", p) for p in PREFERENCES)
+CHOICE_DEFAULTS = {"topology": _spec("topology"), "depth": _spec("max_parts_per_position"), "prefer": DEFAULT_PREFER}
+
+
+def rin_floor_text(source_text: str) -> str:
+    """The default Rin floor for the typed source, in words: "empty: 10 × the source, at least 1 kΩ: 10 kΩ"."""
+    try:
+        source = values.parse_resistance(source_text)
+    except values.ValueFormatError:
+        return _RIN_RULE
+    return f"{_RIN_RULE}: {_si(default_rin_floor(source), 'Ω')}"
+
+
+def build_request(texts: dict[str, str], choices: dict[str, object]) -> tuple[Spec | None, dict, dict[str, str]]:
+    """(Spec or None, find_designs keywords, problems by field name; "" = the whole request).
+
+    `texts`: field name → typed text; `choices`: topology, depth, prefer.
+    """
+    problems: dict[str, str] = {}
+    spec_kw: dict[str, object] = {"topology": choices.get("topology", CHOICE_DEFAULTS["topology"]),
+                                  "max_parts_per_position": int(choices.get("depth", CHOICE_DEFAULTS["depth"]))}
+    search_kw: dict[str, object] = {"prefer": choices.get("prefer", CHOICE_DEFAULTS["prefer"])}
+    follower = spec_kw["topology"] == FOLLOWER
+    for f in FIELDS:
+        text = texts.get(f.name, f.default)
+        if follower and f.name == "gain":
+            value: object = FOLLOWER_GAIN
+        elif text.strip() == "" and f.name in OPTIONAL:
+            value = None
+        else:
+            try:
+                value = f.parse(text)
+            except ValueError as exc:
+                problems[f.name] = str(exc)
+                continue
+        (spec_kw if f.target in SPEC_FIELDS else search_kw)[f.target] = value
+    search_kw["depth"] = spec_kw["max_parts_per_position"]
+    if problems:
+        return None, search_kw, problems
+    spec = Spec(**spec_kw)
+    by_option = {f.option: f.name for f in FIELDS}
+    for problem in spec.problems():
+        option, _, text = problem.partition(": ")
+        name = by_option.get(option, "")
+        if follower and name == "gain":
+            name = ""
+        problems[name] = f"{problems[name]}; {text}" if name in problems else (text if name else problem)
+    return (None if problems else spec), search_kw, problems
+
+
+def add_arguments(parser) -> None:
+    """Add every request option to an argparse (sub)parser, with the form's defaults and hints.
+
+    Values stay text; `from_arguments` parses them with the same parsers as the form.
+    """
+    parser.add_argument("--topology", default=CHOICE_DEFAULTS["topology"], choices=[t for t, _ in TOPOLOGY_CHOICES])
+    for f in FIELDS:
+        if f.name == "min_rin":
+            text = f"input resistance at least (default: {_RIN_RULE.removeprefix('empty: ')})"
+        else:
+            text = f"{f.hint} (default {f.default or f.blank or 'none'})"
+        parser.add_argument(f.option, dest=f.name, default=f.default, metavar=f.name.upper(),
+                            help=f"{f.label}: {text}".replace("%", "%%"))
+    parser.add_argument("--depth", default=str(CHOICE_DEFAULTS["depth"]), choices=["1", "2", "3"],
+                        help=f"most parts per position (default {CHOICE_DEFAULTS['depth']})")
+    parser.add_argument("--prefer", default=CHOICE_DEFAULTS["prefer"], choices=[p for _, p in PREFER_CHOICES],
+                        help="which design comes first: " + ", ".join(f"{p} = {w}" for p, w in PREFER_WORDS.items())
+                        + f" (default {CHOICE_DEFAULTS['prefer']})")
+
+
+def from_arguments(args) -> tuple[Spec | None, dict, dict[str, str]]:
+    """`build_request` over parsed arguments; problems are keyed by field name (option: `BY_NAME[k].option`)."""
+    texts = {f.name: str(getattr(args, f.name)) for f in FIELDS}
+    choices = {"topology": args.topology, "depth": int(args.depth), "prefer": args.prefer}
+    return build_request(texts, choices)
