@@ -22,7 +22,7 @@ from .assign import Assignment, Choice
 from .candidates import POSITIONS, Pool, min_positions, profiles, tuples, usable_transistors
 from .capacitors import capacitor_options
 from .feasible import Near, check, concat
-from .spec import Bounds
+from .spec import DEFAULT_DEPTH, DEFAULT_PREFER, DEFAULT_TIME_LIMIT_S, DEFAULT_TOP, PREFERENCES, Bounds  # noqa: F401
 
 MIN_CAPS = 2  # CIN and COUT are always fitted
 MAX_SCREENED = 60_000_000  # a safety stop; reported in `why` when it ends the search
@@ -397,15 +397,12 @@ def _stock_qty(pool) -> np.ndarray:
 
 
 
-PREFERENCES = ("balanced", "parts", "clean", "robust", "frugal")
-DEFAULT_PREFER = "balanced"
-DEFAULT_TIME_LIMIT_S = 10.0
 SEARCH_SHARE = 0.6  # of the time limit, for the search itself
 HINT_RESERVE_S = 0.3
 HINT_SHARE = 0.3  # of the time limit, at most, for shopping hints when nothing fits
 
 
-def find_designs(drawer, spec, *, top=3, depth=3, min_yield=None, progress=None, cancel=None,
+def find_designs(drawer, spec, *, top=DEFAULT_TOP, depth=DEFAULT_DEPTH, min_yield=None, progress=None, cancel=None,
                  hints=True, seed=None, prefer=DEFAULT_PREFER, time_limit_s=DEFAULT_TIME_LIMIT_S) -> dict:
     """The design result document (DEVELOPERS.md) for `spec` from an inventory Drawer.
 

@@ -13,6 +13,12 @@ DEFAULT_MIN_VCE_V = 1.0  # quiescent VCE headroom above saturation (common pract
 RIN_FLOOR_SOURCE_RATIO = 10.0  # Rin ≥ 10 × the source resistance: < 1 dB loading (common practice, no source)
 RIN_FLOOR_MIN_OHMS = 1e3  # and never below 1 kΩ (common practice, no source)
 NOMINAL_C = 27.0
+# How the search answers (read by the CLI and the app, so both offer the same).
+PREFERENCES = ("balanced", "parts", "clean", "robust", "frugal")
+DEFAULT_PREFER = "balanced"
+DEFAULT_TIME_LIMIT_S = 10.0
+DEFAULT_TOP = 5  # room for each trade-off label's design
+DEFAULT_DEPTH = 2  # parts per position: single parts, series and parallel pairs
 
 
 def default_rin_floor(source_ohms: float) -> float:
@@ -39,7 +45,7 @@ class Spec:
     min_rin_ohms: float | None = None  # None: the default floor, see `rin_floor`
     max_supply_a: float | None = None
     temp_range_c: tuple[float, float] = (0.0, 50.0)
-    max_parts_per_position: int = 3
+    max_parts_per_position: int = DEFAULT_DEPTH
     max_thd: float = DEFAULT_MAX_THD
     min_vce_v: float = DEFAULT_MIN_VCE_V
 

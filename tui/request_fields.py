@@ -13,16 +13,19 @@ from collections.abc import Callable
 from dataclasses import dataclass, fields
 
 from inventory import values
-from optimizer.spec import RIN_FLOOR_MIN_OHMS, RIN_FLOOR_SOURCE_RATIO, Spec, default_rin_floor
-
-try:  # light: the search's own defaults, where they are defined next to the Spec
-    from optimizer.spec import DEFAULT_PREFER, DEFAULT_TIME_LIMIT_S, PREFERENCES
-except ImportError:  # else from the solver module (it loads OR-Tools: about a second)
-    from optimizer.select import DEFAULT_PREFER, DEFAULT_TIME_LIMIT_S, PREFERENCES
+from optimizer.spec import (
+    DEFAULT_PREFER,
+    DEFAULT_TIME_LIMIT_S,
+    DEFAULT_TOP,
+    PREFERENCES,
+    RIN_FLOOR_MIN_OHMS,
+    RIN_FLOOR_SOURCE_RATIO,
+    Spec,
+    default_rin_floor,
+)
 from optimizer.stage import TOPOLOGIES
 
 SPEC_DEFAULTS = Spec()
-DEFAULT_TOP = 3  # designs shown; find_designs' own default (top=3)
 FOLLOWER = "emitter-follower"
 # A follower's gain is just under 1 by nature; it is not asked for, the request takes 0.95 ± 5 %
 # (0.90…1.00).  Common practice, no source.
