@@ -88,6 +88,29 @@ def failures(design: dict, spec, drawer, *, thd: bool = True) -> list[Failure]:
     return out
 
 
+def stage_at(design: dict, spec, drawer, hfe: str = "min", temp_c: float = 27.0) -> Stage:
+    """The design's stage rebuilt from the drawer at one corner (hfe "min", "max" or "typical").
+
+    Raises ValueError when the design names parts the drawer does not hold.
+    """
+    topology = design.get("topology", spec.topology)
+    parts, out, values = design.get("parts") or {}, [], {}
+    for kind, positions, unit in (("resistor", RESISTOR_POSITIONS[topology], "ohms"),
+                                  ("capacitor", CAPACITOR_POSITIONS[topology], "farads")):
+        for pos in positions:
+            if pos in parts:
+                tree = _tree(parts[pos], kind, unit, drawer, pos, out)
+                if tree is not None:
+                    values[pos] = float(network_tree.evaluate(tree, kind))
+    q = _transistor(parts.get("Q1"), drawer, out)
+    if out:
+        raise ValueError("; ".join(map(str, out)))
+    bf = {"min": q.hfe_min, "max": q.hfe_max, "typical": q.bf}[hfe]
+    res = {p: v for p, v in values.items() if p in RESISTOR_POSITIONS[topology]}
+    caps = {p: v for p, v in values.items() if p in CAPACITOR_POSITIONS[topology]}
+    return Stage(topology, res, caps, spec.supply_v, spec.source_ohms, spec.load_ohms, q.with_beta(bf), temp_c)
+
+
 def _tree(entry, kind, unit, drawer, pos, out):
     """The network of `entry`, each leaf revalued from its drawer line (None + a failure when it can't be)."""
     node = entry.get("network", entry) if isinstance(entry, dict) else None
@@ -198,7 +221,9 @@ def _corner(stage: Stage, spec, trees, corner: str, thd: bool) -> list[Failure]:
             if d["thd"] > spec.max_thd:
                 fail("thd", f"THD {d['thd']:.2%} at {swing:g} V p-p > {spec.max_thd:.2%}")
             if d["saturates"] or d["cuts_off"] or not d["reached"]:
-                fail("swing", f"clips at {swing:g} V p-p (reaches {d['swing_pp']:.3g} V p-p)")
+                why = [w for w, on in (("saturates", d["saturates"]), ("cuts off", d["cuts_off"]),
+                                       (f"reaches only {d['swing_pp']:.4g} V p-p", not d["reached"])) if on]
+                fail("swing", f"clips at {swing:g} V p-p ({', '.join(why)})")
     if spec.max_supply_a is not None and op["i_supply"] > spec.max_supply_a:
         fail("current", f"supply current {op['i_supply'] * 1e3:.3g} mA > {spec.max_supply_a * 1e3:.3g} mA")
     if p["f_low"] > spec.low_cut_hz * (1 + 1e-9):
