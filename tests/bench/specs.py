@@ -45,7 +45,7 @@ SUPPLIES = (5.0, 6.0, 9.0, 12.0, 15.0, 18.0, 24.0)
 SOURCES = (0.0, 50.0, 600.0, 1e3, 2.2e3, 10e3)
 
 
-def _si(x: float) -> str:
+def si_text(x: float) -> str:
     """A value in plain SI text the drawer parser reads (e.g. 4.7k, 100n)."""
     for scale, prefix in ((1e6, "M"), (1e3, "k"), (1.0, ""), (1e-6, "u"), (1e-9, "n"), (1e-12, "p")):
         if abs(x) >= scale * 0.999:
@@ -65,16 +65,16 @@ def drawer_text(seed: int) -> str:
                 continue
             qty = int(rng.choice([0, 1, 2, 3, 5, 10, 20, 50], p=[0.08, 0.12, 0.15, 0.15, 0.2, 0.15, 0.1, 0.05]))
             power = rng.choice(["1/4W", "1/4W", "1/8W", "0.5W"])
-            rows.append(f"resistor,{_si(m * 10.0 ** decade)},{qty},5%,{power},,,,,,,,,,R{decade},")
+            rows.append(f"resistor,{si_text(m * 10.0 ** decade)},{qty},5%,{power},,,,,,,,,,R{decade},")
     if rng.uniform() < 0.5:  # a few 1 % metal-film lines
         for m in rng.choice(SERIES["E96"], 6, replace=False):
-            rows.append(f"resistor,{_si(m * 10.0 ** int(rng.integers(2, 5)))},{int(rng.integers(1, 10))},1%,"
+            rows.append(f"resistor,{si_text(m * 10.0 ** int(rng.integers(2, 5)))},{int(rng.integers(1, 10))},1%,"
                         "0.25W,,,metal film,,,,,,,R9,")
     n_caps = int(rng.integers(6, len(CAPS)))
     for i in sorted(rng.choice(len(CAPS), n_caps, replace=False)):
         f, v, diel = CAPS[i]
         tol = "20%" if diel == "electrolytic" else ("5%" if diel == "c0g" else "10%")
-        rows.append(f"capacitor,{_si(f)},{int(rng.integers(1, 12))},{tol},,{v}V,{diel},,,,,,,,C1,")
+        rows.append(f"capacitor,{si_text(f)},{int(rng.integers(1, 12))},{tol},,{v}V,{diel},,,,,,,,C1,")
     for i in rng.choice(len(NPN_TYPES), int(rng.integers(1, 5)), replace=False):
         name, lo, hi, vceo, icmax, pd = NPN_TYPES[i]
         rows.append(f"transistor,,{int(rng.integers(1, 20))},,,,,{name},NPN,{lo},{hi},{vceo}V,{icmax}A,{pd}W,Q1,")
