@@ -151,6 +151,8 @@ def report(rows, time_limit, spice_rows) -> None:
     print(f"{'':34}{'figure':>12}  target")
     hs, ds = len(hand_ok) / n, len(df_ok) / n
     print(f"{'hand method meets the spec':34}{hs:>12.1%}")
+    none = sum(r["hand_design"] is None for r in rows)
+    print(f"{'hand method: no design at all':34}{none:>12}")
     print(f"{'drawerfit meets the spec':34}{ds:>12.1%}  >= 2 x hand ({2 * hs:.1%}) "
           f"{'MET' if ds >= 2 * hs else 'NOT MET'}")
     only_hand = [r for r in rows if not r["hand"] and r["df_fail"]]
@@ -160,11 +162,12 @@ def report(rows, time_limit, spice_rows) -> None:
     all_designs = [v for r in rows for v in r["df_all"]]
     if all_designs:
         good = sum(1 for fs, _ in all_designs if not fs)
-        print(f"{'returned designs passing (all)':34}{good / len(all_designs):>12.1%}  100% ({len(all_designs)} designs)")
+        share = good / len(all_designs)
+        print(f"{'returned designs passing (all)':34}{share:>12.1%}  100% ({len(all_designs)} designs)")
     secs = [r["df"]["seconds"] for r in rows if r["df"].get("seconds") is not None]
     walls = [r["df"]["wall"] for r in rows]
-    print(f"{'find_designs p50 / p95 / max s':34}{_pct(secs, .5):>5.2f} {_pct(secs, .95):5.2f} {max(secs or [0]):6.2f}"
-          f"  p50 <= 2, p95 <= 10")
+    print(f"{'find_designs p50 / p95 / max s':34}{_pct(secs, .5):>5.2f} {_pct(secs, .95):5.2f} "
+          f"{max(secs or [0]):6.2f}  p50 <= 2, p95 <= 10")
     print(f"{'child wall p50 / p95 / max s':34}{_pct(walls, .5):>5.2f} {_pct(walls, .95):5.2f} {max(walls):6.2f}"
           "  (spawn to exit: interpreter start and imports included)")
     over = [r for r in rows if r["df"].get("seconds") is None or r["df"]["seconds"] > time_limit + OVERRUN_S]
@@ -183,14 +186,17 @@ def report(rows, time_limit, spice_rows) -> None:
     for r in rows:
         why.update(("hand", c) for c in r["hand_checks"])
         why.update(("drawerfit", c) for c in r["df_checks"])
-    print("failing checks (specs):  hand: " + ", ".join(f"{c} {k}" for (m, c), k in sorted(why.items()) if m == "hand"))
-    print("                    drawerfit: " + ", ".join(f"{c} {k}" for (m, c), k in sorted(why.items()) if m == "drawerfit"))
-    for title, group, which in (("only the hand design passes", only_hand, "df_fail"),
-                                ("only drawerfit passes", only_df, "hand")):
+    for method in ("hand", "drawerfit"):
+        tally = ", ".join(f"{c} {k}" for (m, c), k in sorted(why.items()) if m == method)
+        print(f"failing checks, {method:>9} (specs): {tally or '-'}")
+    for title, group, other in (("only the hand design passes", only_hand, ("df_fail", "drawerfit")),
+                                ("only drawerfit passes", only_df, ("hand", "hand"))):
         print(f"\n-- {title} ({len(group)}) --")
         for r in group:
+            fails = r[other[0]] or ["?"]
+            more = f" (+{len(fails) - 1} more)" if len(fails) > 1 else ""
             print(f"  #{r['index']} [{r['key']}] {r['spec']}")
-            print(f"      other fails: {(r[which] or ['?'])[0]}" + (f" (+{len(r[which]) - 1} more)" if len(r[which]) > 1 else ""))
+            print(f"      {other[1]} fails: {fails[0]}{more}")
     crashed = [r for r in rows if r["df"].get("error")]
     if crashed:
         print(f"\n-- drawerfit errors ({len(crashed)}) --")
