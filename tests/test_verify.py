@@ -9,20 +9,15 @@ from __future__ import annotations
 
 import copy
 import re
-import subprocess
-import tempfile
 from collections import Counter
 from dataclasses import replace
-from pathlib import Path
 
 import pytest
 
 from inventory.drawer import Drawer
-from optimizer.distortion import distortion
-from optimizer.netlist import to_netlist
 from optimizer.spec import Spec
 from tests.conftest import need_program
-from tests.helpers.verify import Failure, failures, stage_at, verify_design
+from tests.helpers.verify import Failure, failures, stage_at, thd_against_ngspice, verify_design
 
 RESISTORS = ("100", "150", "220", "330", "470", "680", "1k", "1k5", "2k2", "3k3", "4k7", "6k8", "10k", "15k",
              "22k", "33k", "47k", "68k", "100k", "150k", "220k")
@@ -176,28 +171,13 @@ def test_temperature_corners_are_checked():
     assert isinstance(wide[0], Failure)
 
 
-def _four_thd(deck: str) -> float:
-    """THD (fraction) ngspice's `.four` prints for v(out) (its harmonics 2…9; ours 2…10)."""
-    ngspice = need_program("ngspice")
-    with tempfile.TemporaryDirectory(prefix="drawerfit-four-") as tmp:
-        path = Path(tmp) / "deck.cir"
-        path.write_text(deck)
-        done = subprocess.run([ngspice, "-b", str(path)], capture_output=True, text=True, timeout=120, cwd=tmp)
-    m = re.search(r"THD:\s*([0-9.eE+-]+)\s*%", done.stdout)
-    assert m, done.stdout[-2000:]
-    return float(m.group(1)) / 100
-
-
 @pytest.mark.ngspice
 @pytest.mark.parametrize("name", ["good", "no-RE"])
 def test_thd_matches_ngspice_four(name):
     # Tolerance as tests/test_ngspice_stages.py: 20 % relative or 0.1 % absolute.
     d = GOOD if name == "good" else design({"R1": 220e3, "R2": 15e3, "RC": 2200.0}, {"CIN": 1e-6, "COUT": 1e-6})
+    need_program("ngspice")
     stage = stage_at(d, SPEC, DRAWER, "min", 27.0)
-    mine = distortion(stage, SPEC.swing_pp)
-    # 5 kHz sits far above every coupling corner; 40 periods let the capacitors settle before `.four`.
-    deck = to_netlist(stage, analyses="tran", signal_hz=5e3, periods=40, source_amplitude_v=mine.source_amplitude_v)
-    deck = deck.replace(".options TNOM=27", ".options TNOM=27 reltol=1e-6 abstol=1e-12 vntol=1e-9")
-    spice_thd = _four_thd(deck)
-    print(f"{name}: THD {mine.thd:.4%} (exact solve) vs {spice_thd:.4%} (ngspice .four)")
-    assert abs(mine.thd - spice_thd) <= max(0.2 * spice_thd, 1e-3), (mine.thd, spice_thd)
+    mine, spice_thd = thd_against_ngspice(stage, SPEC.swing_pp)
+    print(f"{name}: THD {mine:.4%} (exact solve) vs {spice_thd:.4%} (ngspice .four)")
+    assert abs(mine - spice_thd) <= max(0.2 * spice_thd, 1e-3), (mine, spice_thd)

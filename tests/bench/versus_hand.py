@@ -113,16 +113,17 @@ def spice_compare(design, spec, drawer) -> dict | None:
     from optimizer.analysis import analyze
     from optimizer.netlist import node_names, to_netlist
     from tests import spice
-    from tests.helpers.verify import stage_at
+    from tests.helpers.verify import stage_at, thd_against_ngspice
 
     try:
         stage = stage_at(design, spec, drawer, "min", 27.0)
     except ValueError:
         return None
-    p = analyze(stage).predicted
+    report = analyze(stage)
+    p = report.predicted
     names = node_names(stage)
     out_node = f"v({names['out']})"
-    corners = [c for c in analyze(stage).corners_hz.values() if c] or [1.0]
+    corners = [c for c in report.corners_hz.values() if c] or [1.0]
     f_probe = 1e4 * max(corners)  # far above every coupling corner: midband
     nodes = [n for n in ("base", "emit", "coll") if names[n] not in ("0", "vcc")]
     deck = to_netlist(stage, analyses="")
@@ -131,7 +132,15 @@ def spice_compare(design, spec, drawer) -> dict | None:
     mine = {"base": p["vb"], "emit": p["ve"], "coll": p["vc"]}
     dc = max(abs(mine[n] - float(res[0][f"v({names[n]})"][0].real)) for n in nodes)
     gain = complex(res[1][out_node][0]).real
-    return {"dc_v": dc, "gain_rel": abs(p["gain"] / gain - 1)}
+    out = {"dc_v": dc, "gain_rel": abs(p["gain"] / gain - 1)}
+    if spec.swing_pp > 0 and not (report.operating_point["saturated"] or report.operating_point["cutoff"]):
+        try:
+            mine_thd, spice_thd = thd_against_ngspice(stage, spec.swing_pp)
+            out["thd_abs"] = abs(mine_thd - spice_thd)
+            out["thd_ok"] = out["thd_abs"] <= max(0.2 * spice_thd, 1e-3)  # as tests/test_ngspice_stages.py
+        except (RuntimeError, ValueError, subprocess.TimeoutExpired):
+            pass
+    return out
 
 
 def _pct(xs, q):
@@ -206,9 +215,13 @@ def report(rows, time_limit, spice_rows) -> None:
         dc = max(s["dc_v"] for _, s in spice_rows)
         g = max(s["gain_rel"] for _, s in spice_rows)
         agree = sum(s["dc_v"] < 10e-3 and s["gain_rel"] < 0.01 for _, s in spice_rows)
-        print(f"\nngspice re-simulation (hFE min, 27 °C): {len(spice_rows)} designs "
-              f"({Counter(m for m, _ in spice_rows)}), agree (DC < 10 mV, gain < 1 %): {agree}; "
-              f"largest DC deviation {dc * 1e3:.3g} mV, gain {g:.3%}")
+        thd = [s for _, s in spice_rows if "thd_abs" in s]
+        methods = ", ".join(f"{m} {k}" for m, k in sorted(Counter(m for m, _ in spice_rows).items()))
+        print(f"\nngspice re-simulation (hFE min, 27 °C): {len(spice_rows)} designs ({methods}); "
+              f"DC < 10 mV and gain < 1 %: {agree}; largest DC deviation {dc * 1e3:.3g} mV, gain {g:.3%}")
+        if thd:
+            print(f"  THD at the spec's swing vs .four (20 % rel. or 0.1 % abs.): {sum(s['thd_ok'] for s in thd)}"
+                  f"/{len(thd)} agree; largest |difference| {max(s['thd_abs'] for s in thd):.3%}")
 
 
 def main(argv=None) -> int:
@@ -231,14 +244,20 @@ def main(argv=None) -> int:
     cases = specs.cases(a.n, a.seed)
     chosen = [int(i) for i in a.only.split(",") if i.strip()] or list(range(len(cases)))
     rows = []
-    for k, i in enumerate(chosen):
-        key, spec = cases[i]
-        row = judge(key, spec, a.time_limit, i, a.n, a.seed, a.mem_cap_mb)
-        rows.append(row)
-        s = row["df"].get("seconds")
-        print(f"[{k + 1}/{len(chosen)}] #{i} [{key}] hand {'pass' if not row['hand'] else 'fail'}, drawerfit "
-              f"{'pass' if not row['df_fail'] else 'fail'} ({row['df'].get('status')}, "
-              f"{'-' if s is None else f'{s:.2f}'} s)", flush=True)
+    try:
+        for k, i in enumerate(chosen):
+            key, spec = cases[i]
+            row = judge(key, spec, a.time_limit, i, a.n, a.seed, a.mem_cap_mb)
+            rows.append(row)
+            s = row["df"].get("seconds")
+            print(f"[{k + 1}/{len(chosen)}] #{i} [{key}] hand {'pass' if not row['hand'] else 'fail'}, drawerfit "
+                  f"{'pass' if not row['df_fail'] else 'fail'} ({row['df'].get('status')}, "
+                  f"{'-' if s is None else f'{s:.2f}'} s)", flush=True)
+    except KeyboardInterrupt:  # Ctrl-C: report what ran so far
+        print(f"\ninterrupted after {len(rows)} specs")
+        a.spice = 0
+    if not rows:
+        return 130
     spice_rows = []
     if a.spice and shutil.which("ngspice"):
         step = max(1, len(rows) // a.spice)
