@@ -5,13 +5,15 @@ drawer lines it names, and every figure comes from the exact nodal solver
 (optimizer.analysis.analyze / optimizer.distortion), not from the fast screen the solver
 prunes with.  The stage is checked at every corner: hFE min and hFE max of its transistor line
 (hFE taken at 27 °C and moved with the model's temperature law) × every temperature of
-`spec.temps_c`.  The limits are the spec's, plus the ratings rules of optimizer.ratings
-(resistors ≤ 50 % of their rating, capacitors' DC ≤ 80 % of theirs: common practice, no source)
+`spec.temps_c`, with nominal part values (tolerances are the Monte Carlo's business).  The
+limits are the spec's, plus the ratings rules of optimizer.ratings (resistors ≤ 50 % of their rating, capacitors' DC ≤ 80 % of theirs: common practice, no source)
 and the transistor's: PD ≤ 50 % of PD(max) (common practice, no source), IC ≤ IC(max),
 VCEO ≥ the supply.
 
 `verify_design(design, spec, drawer) -> list[str]`: [] when the design meets everything.
-`failures(...)` gives the same as `Failure` records (check name, corner, text) for tallies.
+`failures(...)` gives the same as `Failure` records (check name, corner, text) for tallies;
+`stage_at(design, spec, drawer, hfe, temp_c)` is the rebuilt stage at one corner;
+`thd_against_ngspice(stage, swing_pp)` pairs our THD with ngspice's `.four`.
 """
 
 from __future__ import annotations
@@ -29,9 +31,9 @@ import numpy as np
 
 from optimizer import network_tree
 from optimizer.analysis import analyze
+from optimizer.candidates import transistor_of
 from optimizer.distortion import distortion
 from optimizer.netlist import to_netlist
-from optimizer.candidates import transistor_of
 from optimizer.ratings import CAPACITOR_MARGIN, RESISTOR_DERATING, capacitor_voltages, part_dissipation
 from optimizer.stage import CAPACITOR_POSITIONS, EMITTER_FOLLOWER, OPTIONAL_POSITIONS, RESISTOR_POSITIONS, Stage
 
@@ -57,10 +59,39 @@ def verify_design(design: dict, spec, drawer) -> list[str]:
 def failures(design: dict, spec, drawer, *, thd: bool = True) -> list[Failure]:
     """Every failure, as records.  `thd=False` skips the (slowest) distortion check."""
     topology = design.get("topology", spec.topology)
-    out: list[Failure] = []
     if topology != spec.topology:
-        out.append(Failure("topology", "", f"design is a {topology}, the spec asks for a {spec.topology}"))
+        return [Failure("topology", "", f"design is a {topology}, the spec asks for a {spec.topology}")]
+    out: list[Failure] = []
+    trees, res, caps, transistor = _rebuild_design(design, topology, drawer, out)
+    out += _stock(design, trees, (design.get("parts") or {}).get("Q1"), drawer)
+    if transistor is None or any(f.check == "parts" for f in out):
         return out
+    out += _static_transistor_limits(transistor, spec)
+    for hfe_name, bf in (("min", transistor.hfe_min), ("max", transistor.hfe_max)):
+        for temp in spec.temps_c:
+            corner = f"hFE {hfe_name} {bf:g}, {temp:g} °C"
+            stage = Stage(topology, res, caps, spec.supply_v, spec.source_ohms, spec.load_ohms,
+                          transistor.with_beta(bf), float(temp))
+            out += _corner(stage, spec, trees, corner, thd)
+    return out
+
+
+def stage_at(design: dict, spec, drawer, hfe: str = "min", temp_c: float = 27.0) -> Stage:
+    """The design's stage rebuilt from the drawer at one corner (hfe "min", "max" or "typical").
+
+    Raises ValueError when the design names parts the drawer does not hold.
+    """
+    topology = design.get("topology", spec.topology)
+    out: list[Failure] = []
+    _, res, caps, q = _rebuild_design(design, topology, drawer, out)
+    if out:
+        raise ValueError("; ".join(map(str, out)))
+    bf = {"min": q.hfe_min, "max": q.hfe_max, "typical": q.bf}[hfe]
+    return Stage(topology, res, caps, spec.supply_v, spec.source_ohms, spec.load_ohms, q.with_beta(bf), temp_c)
+
+
+def _rebuild_design(design, topology, drawer, out):
+    """(networks, resistor values Ω, capacitor values F, transistor model) from the drawer; problems to `out`."""
     parts = design.get("parts") or {}
     trees, values = {}, {}
     for kind, positions, unit in (("resistor", RESISTOR_POSITIONS[topology], "ohms"),
@@ -79,43 +110,9 @@ def failures(design: dict, spec, drawer, *, thd: bool = True) -> list[Failure]:
             if claimed is not None and not math.isclose(float(claimed), values[pos], rel_tol=VALUE_RTOL):
                 out.append(Failure("parts", "", f"{pos} is given as {float(claimed):.6g} {unit} but its "
                                                 f"parts add up to {values[pos]:.6g}"))
-    transistor = _transistor(parts.get("Q1"), drawer, out)
-    out += _stock(design, trees, parts.get("Q1"), drawer)
-    if transistor is None or any(f.check == "parts" for f in out):
-        return out
     res = {p: v for p, v in values.items() if p in RESISTOR_POSITIONS[topology]}
     caps = {p: v for p, v in values.items() if p in CAPACITOR_POSITIONS[topology]}
-    out += _static_transistor_limits(transistor, spec)
-    for hfe_name, bf in (("min", transistor.hfe_min), ("max", transistor.hfe_max)):
-        for temp in spec.temps_c:
-            corner = f"hFE {hfe_name} {bf:g}, {temp:g} °C"
-            stage = Stage(topology, res, caps, spec.supply_v, spec.source_ohms, spec.load_ohms,
-                          transistor.with_beta(bf), float(temp))
-            out += _corner(stage, spec, trees, corner, thd)
-    return out
-
-
-def stage_at(design: dict, spec, drawer, hfe: str = "min", temp_c: float = 27.0) -> Stage:
-    """The design's stage rebuilt from the drawer at one corner (hfe "min", "max" or "typical").
-
-    Raises ValueError when the design names parts the drawer does not hold.
-    """
-    topology = design.get("topology", spec.topology)
-    parts, out, values = design.get("parts") or {}, [], {}
-    for kind, positions, unit in (("resistor", RESISTOR_POSITIONS[topology], "ohms"),
-                                  ("capacitor", CAPACITOR_POSITIONS[topology], "farads")):
-        for pos in positions:
-            if pos in parts:
-                tree = _tree(parts[pos], kind, unit, drawer, pos, out)
-                if tree is not None:
-                    values[pos] = float(network_tree.evaluate(tree, kind))
-    q = _transistor(parts.get("Q1"), drawer, out)
-    if out:
-        raise ValueError("; ".join(map(str, out)))
-    bf = {"min": q.hfe_min, "max": q.hfe_max, "typical": q.bf}[hfe]
-    res = {p: v for p, v in values.items() if p in RESISTOR_POSITIONS[topology]}
-    caps = {p: v for p, v in values.items() if p in CAPACITOR_POSITIONS[topology]}
-    return Stage(topology, res, caps, spec.supply_v, spec.source_ohms, spec.load_ohms, q.with_beta(bf), temp_c)
+    return trees, res, caps, _transistor(parts.get("Q1"), drawer, out)
 
 
 def _tree(entry, kind, unit, drawer, pos, out):
