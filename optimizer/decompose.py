@@ -117,7 +117,8 @@ def rc_interval(ic_lo, ic_hi, re1, re_total, spec, vt):
     rcl = np.maximum(half / ic_hi, g_min * (re1 + vt / ic_hi))
     rl = spec.load_ohms
     with np.errstate(divide="ignore", invalid="ignore"):
-        rc_lo = np.where(rcl < rl, rcl * rl / (rl - rcl), np.inf)
+        # RC with RC‖RL = rcl; an open load (RL = inf) leaves RC itself
+        rc_lo = np.where(np.isinf(rl), rcl, np.where(rcl < rl, rcl * rl / (rl - rcl), np.inf))
         rc_hi = (spec.supply_v - loadline.VCE_SAT_V - half) / ic_lo - re_total
     return rc_lo * (1 - 1e-9), rc_hi * (1 + 1e-9)
 
@@ -143,7 +144,8 @@ def gain_bounds(ic_lo, ic_hi, beta, rc, re1, rth, spec, vt, vaf_v):
     D = Rin/(Rin + RS), Rin = RTH ‖ (rπ + (β + 1)·RE1), R' = RC‖RL (‖ ro ≥ VAF/IC for the low bound).
     Each factor is monotone in gm, so the IC ends bound it; GAIN_SAFETY covers the terms left out.
     """
-    rcl = rc * spec.load_ohms / (rc + spec.load_ohms)
+    rl = spec.load_ohms
+    rcl = rc if np.isinf(rl) else rc * rl / (rc + rl)  # RC‖RL; an open load leaves RC
     gm_lo, gm_hi = ic_lo / vt * (1 - BRACKET_SLACK), ic_hi / vt * (1 + BRACKET_SLACK)
     with np.errstate(divide="ignore", invalid="ignore"):
         rin_hi = _rin(gm_lo, beta, re1, rth)

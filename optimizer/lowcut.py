@@ -19,6 +19,7 @@ import numpy as np
 
 from . import smallsignal
 from .bias import thevenin
+from .circuit import OPEN_LOAD_OHMS
 from .feasible import corner_names
 from .stage import COLLECTOR_FEEDBACK, EMITTER_FOLLOWER
 
@@ -62,6 +63,11 @@ def _stage(topology, r, omega, ce):
     return g_bias, g_fb, 1.0 / r["RC"], _inv(r["RE1"] + _parallel_rc(r["RE2"], ce, omega)), "c"
 
 
+def _load(spec) -> float:
+    """RL (Ω), an open load as the same 1 TΩ stand-in the exact solver uses."""
+    return min(float(spec.load_ohms), OPEN_LOAD_OHMS)
+
+
 def transfer(topology, r, y, rs, rl, omega, cin, cout, ce):
     """Complex gain load voltage / source EMF (broadcast arrays); C = inf is a short, ω in rad/s."""
     r = {k: np.asarray(v, dtype=float) for k, v in r.items()}
@@ -79,8 +85,8 @@ def meets_low_cut(topology, row, spec, cin, cout, ce):
     ok = True
     for corner in corner_names(row):
         y = _y(row, corner)
-        h = transfer(topology, r, y, spec.source_ohms, spec.load_ohms, w, cin, cout, ce)
-        hm = transfer(topology, r, y, spec.source_ohms, spec.load_ohms, w, np.inf, np.inf, np.inf)
+        h = transfer(topology, r, y, spec.source_ohms, _load(spec), w, cin, cout, ce)
+        hm = transfer(topology, r, y, spec.source_ohms, _load(spec), w, np.inf, np.inf, np.inf)
         ok = ok & (np.abs(h) ** 2 >= HALF_POWER * np.abs(hm) ** 2)
     return np.asarray(ok)
 
@@ -92,7 +98,7 @@ class LowCut:
         self.topology = topology
         self.r = {k: float(row[k]) for k in RESISTORS if k in row}
         self.w = 2 * np.pi * spec.low_cut_hz
-        self.rs, self.rl = float(spec.source_ohms), float(spec.load_ohms)
+        self.rs, self.rl = float(spec.source_ohms), _load(spec)
         self.y = [_y(row, c) for c in corner_names(row)]
         r = self.r
         self.h_mid2 = [float(np.abs(transfer(topology, r, y, self.rs, self.rl, self.w, np.inf, np.inf, np.inf)) ** 2)
