@@ -19,11 +19,18 @@ import threading
 from dataclasses import dataclass
 
 import numpy as np
-from ortools.sat.python import cp_model
 
 from . import objective
 
 SEED = 20261201
+
+
+def _cp_model():
+    """OR-Tools' CP-SAT module, loaded on first use: it (with pandas) takes about half a second
+    to import, which a command should not spend before it starts searching."""
+    from ortools.sat.python import cp_model
+
+    return cp_model
 # The row column each objective level equals, when the level is a property of the row alone.
 ROW_COLUMNS = (None, "ge", "nsm", "nf", None, None)
 MAX_TIME_S = 20.0
@@ -52,6 +59,7 @@ class Assignment:
         self.pool = pool
         self.cancel = cancel
         self.stopped = False
+        cp_model = _cp_model()
         m = self.model = cp_model.CpModel()
         n = len(rows["q"])
         self.values = {}
@@ -140,7 +148,7 @@ class Assignment:
         self.model.add_forbidden_assignments(self.vars, tuples)
 
     def _solver(self):
-        s = cp_model.CpSolver()
+        s = _cp_model().CpSolver()
         s.parameters.num_workers = 1
         s.parameters.random_seed = SEED
         s.parameters.max_time_in_seconds = MAX_TIME_S
@@ -230,7 +238,7 @@ class Assignment:
             model.minimize(expr)
             solver = self._solver()
             status = self._run(solver, model)
-            if self.stopped or status not in (cp_model.OPTIMAL, cp_model.FEASIBLE):
+            if self.stopped or status not in (_cp_model().OPTIMAL, _cp_model().FEASIBLE):
                 model.clear_assumptions()
                 return None
             # Each level of the stage is held at its value (not only their weighted sum):

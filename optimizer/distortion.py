@@ -17,11 +17,11 @@ import numpy as np
 from .circuit import NODES, Circuit, build, dc_links, operating_point, q_currents, solve_nonlinear
 from .response import midband
 from .stage import Stage
+from .swing import CUTOFF_FRACTION
 
 POINTS = 256  # samples per period
 HARMONICS = range(2, 11)  # THD counts harmonics 2..10
 VCE_SAT_V = 0.2  # below this the stage is taken as saturated (common practice, no source)
-CUTOFF_FRACTION = 0.05  # ic below 5 % of its quiescent value = cut off (common practice, no source)
 OUT = NODES.index("out")
 
 

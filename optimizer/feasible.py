@@ -16,6 +16,7 @@ import numpy as np
 from . import objective
 from .screen import screen
 from .stopwatch import poll
+from .swing import CUTOFF_FRACTION
 from .thd_screen import thd_at_swing
 from .stage import EMITTER_FOLLOWER
 
@@ -25,6 +26,10 @@ CONSTRAINTS = ("bias", "gain", "swing", "rin", "vce", "current", "ratings", "thd
 # finds a returned design over it (measured gap < 0.3 % relative below 5 % THD).
 THD_SAFETY = 0.98
 THD_DROP = 2.0
+# The load-line swing ends where the current reaches 0 or VCE reaches VCE(sat); the waveform check
+# (distortion.py) calls a stage clipped once its current falls below 5 % of the quiescent, so
+# the asked swing must stay within 95 % of the load-line swing.
+SWING_HEADROOM = 1.0 - CUTOFF_FRACTION
 ROW_KEYS = ("gm", "gpi", "gmu", "go", "vb", "vc", "vn", "ve", "gain")
 
 
@@ -95,7 +100,7 @@ def check(topology, r, q, spec, near: Near | None = None):
         sign = (g > 0) if topology == EMITTER_FOLLOWER else (g < 0)
         ok["bias"][alive] &= s["converged"] & ~s["saturated"] & ~s["cutoff"]
         ok["gain"][alive] &= sign & (np.abs(np.abs(g) / spec.gain - 1.0) <= spec.gain_tol + 1e-12)
-        ok["swing"][alive] &= s["swing_pp"] >= spec.swing_pp
+        ok["swing"][alive] &= SWING_HEADROOM * s["swing_pp"] >= spec.swing_pp
         ok["rin"][alive] &= s["rin"] >= floor
         ok["vce"][alive] &= s["vce"] >= spec.min_vce_v
         if spec.max_supply_a is not None:

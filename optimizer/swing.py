@@ -31,6 +31,7 @@ from __future__ import annotations
 import numpy as np
 
 VCE_SAT_V = 0.2  # common practice, no source
+CUTOFF_FRACTION = 0.05  # ic below 5 % of its quiescent value = cut off (common practice, no source)
 
 
 def collector_swing(*, ic, ie, vce, vc, supply_v, r_ac, re_unbypassed, vce_sat=VCE_SAT_V):
