@@ -22,6 +22,7 @@ from .assign import Assignment, Choice
 from .candidates import POSITIONS, Pool, min_positions, profiles, tuples, usable_transistors
 from .capacitors import capacitor_options
 from .feasible import Near, check, concat
+from .seed import seed_tuples
 from .spec import DEFAULT_DEPTH, DEFAULT_PREFER, DEFAULT_TIME_LIMIT_S, DEFAULT_TOP, PREFERENCES, Bounds  # noqa: F401
 
 MIN_CAPS = 2  # CIN and COUT are always fitted
@@ -127,15 +128,15 @@ def search(rstock, cstock, qlines, spec, *, top=3, depth=3, progress=None, cance
     front = _Front(positions, sol, lambda r: _add_caps(topology, r, spec, options, cap_qty, positions, sol),
                    keep_dominated=accept is not None, spare=spare_parts)
     budget = n_min
+    sol.pool = Pool(rstock, depth)  # a value's fewest parts do not depend on the depth built to
     try:
         with stopwatch.watch(cancel, deadline):
+            _screen_seeds(topology, positions, spec, models, qlines, sol, front)
             for budget in range(n_min, b_max + 1):
                 if budget + MIN_CAPS + 1 > front.fewest_parts + spare_parts:
                     break  # every design left needs more parts than the set spans
                 sol.budget = budget
                 level = min(depth, budget - n_min + 1)
-                if sol.pool is None or sol.pool.depth < level:
-                    sol.pool = Pool(rstock, level)
                 for profile in _anytime_order(profiles(topology, budget, level), sol.pool):
                     for model, members in models.items():
                         q = qlines[members[0]]
@@ -173,6 +174,24 @@ def search(rstock, cstock, qlines, spec, *, top=3, depth=3, progress=None, cance
     if not sol.designs:
         sol.stock_bound = front.stock_bound
     return sol
+
+
+def _screen_seeds(topology, positions, spec, models, qlines, sol, front):
+    """The stocked neighbours of the ideal values (seed.py), screened first: good designs early.
+    The budget loop screens them again in their turn, so the set's completeness rests on it alone."""
+    for members in models.values():
+        q = qlines[members[0]]
+        chunk = seed_tuples(topology, spec, q, sol.pool)
+        if not len(chunk[positions[0]]):
+            continue
+        rows = check(topology, {p: chunk[p] for p in positions}, q, spec)
+        if not len(rows["ge"]):
+            continue
+        rows["nsm"] = -rows["sm"]
+        rows["parts_lb"] = _parts_lb(sol.pool, rows, positions)
+        for qi in members:
+            front.add(dict(rows, q=np.full(len(rows["ge"]), qi, dtype=np.int64)))
+    front.settle()
 
 
 def _anytime_order(profs, pool):
