@@ -485,6 +485,10 @@ def find_designs(drawer, spec, *, top=DEFAULT_TOP, depth=DEFAULT_DEPTH, min_yiel
                                               budget_s=left if left is not None else 20.0)
     doc["optimal"] = bool(sol.exhaustive)
     doc["unexplored"] = sol.unexplored
+    if not sol.designs and not sol.exhaustive and sol.stopped_by in ("time limit", "cancelled"):
+        how = f"within the {limit:g} s limit" if sol.stopped_by == "time limit" else "before the stop"
+        doc["why"].insert(0, f"no design found {how} ({sol.near.screened:,} value tuples screened; not proven "
+                             f"impossible: {sol.unexplored} were left), so a longer --time-limit may find one")
     doc["status"] = "found" if doc["designs"] else ("infeasible" if sol.exhaustive else "unproven")
     if progress:
         progress(1.0, "done")
