@@ -175,9 +175,20 @@ def decode(data: bytes) -> Decoded:
         trouble = "the file is UTF-16; save it as 'CSV UTF-8' instead"
     elif b"\x00" in data:
         trouble = "the file holds NUL bytes; it does not look like a CSV text file"
+    elif _CONTROL.search(data):
+        trouble = "the file holds control bytes; it does not look like a CSV text file"
     bom = data.startswith(b"\xef\xbb\xbf")
     text = data[3 if bom else 0:].decode("utf-8", errors="surrogateescape")
+    if trouble is None:
+        bad = len(_SURROGATE.findall(text))
+        if bad > max(8, len(data) // 100):  # a stray accented letter is a line's problem; this is not text
+            trouble = f"{bad} bytes are not UTF-8; save the file as 'CSV UTF-8'"
     return Decoded(text, bom, trouble)
+
+
+# C0 controls other than TAB, LF, VT, FF, CR (and DEL): no CSV text holds them, binary files do.
+_CONTROL = re.compile(rb"[\x01-\x08\x0e-\x1f\x7f]")
+_SURROGATE = re.compile("[\udc80-\udcff]")
 
 
 def encode(text: str, bom: bool) -> bytes:

@@ -70,13 +70,14 @@ class Drawer:
         self.columns = columns          # column name -> 0-based cell index
         self.parts = parts
         self.problems = problems
+        self.trouble: str | None = None  # a whole-file problem (not UTF-8 text): nothing may be written
         self._by_line = {p.line: p for p in parts}
 
     # ---- reading -------------------------------------------------------------------------
 
     @classmethod
     def load(cls, path: str | Path) -> Drawer:
-        """Read and check the file (OSError when it cannot be read)."""
+        """Read and check the file (OSError when it cannot be read; see `.trouble` for a file that is not text)."""
         return cls.from_bytes(Path(path).read_bytes(), str(path))
 
     @classmethod
@@ -101,7 +102,9 @@ class Drawer:
         problems: list[Problem] = []
         if trouble:
             problems.append(Problem(path, 1, 1, "", trouble))
-            return cls(path, records, dialect, header, {}, [], problems)
+            drawer = cls(path, records, dialect, header, {}, [], problems)
+            drawer.trouble = trouble
+            return drawer
         if header is None:
             problems.append(Problem(path, 1, 1, "", "the file is empty (expected a header line "
                                     "such as kind,value,qty,tolerance,location)"))
@@ -143,7 +146,8 @@ class Drawer:
         return [p for p in self.parts if identity_key(p.identity) == key]
 
     def resistor_stock(self) -> ResistorStock:
-        rs = [p for p in self.parts if p.kind == "resistor" and p.qty > 0]
+        # A 0R link is a legal part but no resistance: it never goes into a resistor network.
+        rs = [p for p in self.parts if p.kind == "resistor" and p.qty > 0 and p.value > 0]
         return ResistorStock(
             line=np.array([p.line for p in rs], dtype=np.int64),
             ohms=np.array([p.value for p in rs], dtype=float),

@@ -16,7 +16,7 @@ from collections.abc import Callable, Iterable
 from pathlib import Path
 
 from . import csvfile
-from .atomic import LockBusy, atomic_write, locked
+from .atomic import LockBusy, atomic_write, interrupts_deferred, locked, remove_stale_temporaries
 from .drawer import Drawer
 from .edits import (
     ConflictError, Edit, NothingToUndo, StockError, StoreError, Txn, apply_edits, change_for, describe,
@@ -77,6 +77,8 @@ class Store:
     def _transact_locked(self, action: str, reason: str, plan: Callable[[Txn], None]) -> Entry:
         data = self._read()
         fresh = Drawer.from_bytes(data, str(self.path))
+        if fresh.trouble:
+            raise StoreError(f"{self.path}: {fresh.trouble}; nothing was written")
         moved = self._base is not None and data != self._base
         txn = Txn(fresh, self._drawer if moved and self._drawer else fresh, moved)
         plan(txn)
@@ -96,13 +98,33 @@ class Store:
         if not os.access(self._real, os.W_OK) or not self._real.stat().st_mode & 0o222:
             # os.replace would replace a read-only file regardless (the folder is what it checks)
             raise StoreError(f"{self.path} is read-only; nothing was written")
-        try:
-            atomic_write(self.path, new_bytes)
-            self.journal.append(entry)
-        except OSError as exc:
-            raise StoreError(f"{self.path}: cannot save ({exc.strerror or exc})") from None
+        self._commit(data, new_bytes, entry)
         self._base, self._drawer = new_bytes, new
         return entry
+
+    def _commit(self, old_bytes: bytes, new_bytes: bytes, entry: Entry) -> None:
+        """Save the drawer and append its journal entry: both, or neither.
+
+        Ctrl-C is held back until both are written; a journal that cannot be appended to puts
+        the drawer's old bytes back (atomically) before the refusal is raised.
+        """
+        remove_stale_temporaries(self._real)  # under the lock: any temporary left is a killed writer's
+        with interrupts_deferred():
+            try:
+                atomic_write(self.path, new_bytes)
+            except OSError as exc:
+                raise StoreError(f"{self.path}: cannot save ({exc.strerror or exc}); nothing was changed") from None
+            try:
+                self.journal.append(entry)
+            except OSError as exc:
+                try:
+                    atomic_write(self.path, old_bytes)
+                except OSError as again:
+                    raise StoreError(f"{self.path}: saved, but its journal {self.journal.path.name} cannot be "
+                                     f"written ({exc.strerror or exc}) and the old file could not be put back "
+                                     f"({again.strerror or again})") from None
+                raise StoreError(f"{self.journal.path}: cannot write the journal ({exc.strerror or exc}); "
+                                 f"the change to {self.path} was not kept") from None
 
     def _target(self, txn: Txn, line: int, *, need_part: bool = True) -> tuple[int, Part | None]:
         """Index in the fresh file, and part, of what was on `line` when this Store loaded."""

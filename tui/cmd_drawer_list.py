@@ -10,11 +10,8 @@ from inventory import values
 from inventory.drawer import Drawer
 from inventory.parts import KINDS, Part
 
+from .cmd_common import InputError, load_drawer
 from .widgets.part_text import COLUMNS, row_cells
-
-
-class InputError(Exception):
-    """Bad command-line input; the message names the option."""
 
 
 def register(sub, guarded, find_path) -> None:
@@ -67,7 +64,7 @@ def part_json(part: Part) -> dict:
 
 
 def run_list(args, path) -> int:
-    drawer = Drawer.load(path)
+    drawer = load_drawer(path)
     parts = select(drawer, args)
     if args.json:
         print(json.dumps([part_json(p) for p in parts], indent=1, ensure_ascii=False))
