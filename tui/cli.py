@@ -98,6 +98,8 @@ def _run(argv: list[str] | None) -> int:
 
 def _silence_stdout() -> None:
     """Point stdout at /dev/null so the interpreter's final flush does not raise again."""
+    if sys.stdout is not sys.__stdout__:  # replaced (tests capturing output): leave the real fd alone
+        return
     try:
         devnull = os.open(os.devnull, os.O_WRONLY)
         os.dup2(devnull, sys.stdout.fileno())

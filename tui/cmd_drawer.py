@@ -40,6 +40,8 @@ def _guarded(fn):
     def run(args) -> int:
         try:
             return fn(args)
+        except BrokenPipeError:
+            raise  # the reader left: tui.cli exits quietly
         except (StockError, ConflictError, NothingToUndo) as exc:
             print(f"drawerfit: {exc}", file=sys.stderr)
             return 1
