@@ -94,7 +94,12 @@ class Store:
                 if not e.change.header:
                     e.change.identity, e.change.row = identity_and_row(new, pos)
         changes = [e.change for e in txn.edits if e.change is not None]  # a new file's header is not
-        entry = Entry(self.journal.next_id(), now_iso(), action, reason, self.path.name, changes, txn.undoes)
+        try:
+            entry_id = self.journal.next_id()
+        except OSError as exc:
+            raise StoreError(f"{self.journal.path}: cannot read the journal ({exc.strerror or exc}); "
+                             "nothing was written") from None
+        entry = Entry(entry_id, now_iso(), action, reason, self.path.name, changes, txn.undoes)
         if not os.access(self._real, os.W_OK) or not self._real.stat().st_mode & 0o222:
             # os.replace would replace a read-only file regardless (the folder is what it checks)
             raise StoreError(f"{self.path} is read-only; nothing was written")
