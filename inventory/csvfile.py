@@ -63,6 +63,21 @@ def split_records(text: str, delimiter: str, first_line: int = 1) -> list[Record
     stops = delimiter + "\r\n"
     plain = re.compile(f"[^{re.escape(stops)}]*")  # an unquoted cell runs to the next stop
     while pos < n:
+        # Fast path: a physical line without quotes is split on the delimiter (most lines of most files).
+        m = _BREAK.search(text, pos)
+        stop = m.start() if m else n
+        if text.find('"', pos, stop) < 0:
+            newline = m.group() if m else ""
+            body = text[pos:stop]
+            cells = body.split(delimiter)
+            spans, start = [], 0
+            for c in cells:
+                spans.append((start, start + len(c)))
+                start += len(c) + 1
+            records.append(Record(line, body + newline, cells, spans, newline))
+            line += 1 if newline else 0
+            pos = stop + len(newline)
+            continue
         cells: list[str] = []
         spans: list[tuple[int, int]] = []
         broken: tuple[int, str] | None = None

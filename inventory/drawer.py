@@ -8,6 +8,7 @@ file as it was read.
 from __future__ import annotations
 
 import difflib
+import gc
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -72,6 +73,8 @@ class Drawer:
         self.problems = problems
         self.trouble: str | None = None  # a whole-file problem (not UTF-8 text): nothing may be written
         self._by_line = {p.line: p for p in parts}
+        self._by_key: dict[tuple, list[Part]] | None = None
+        self._index: dict[int, int] | None = None
 
     # ---- reading -------------------------------------------------------------------------
 
@@ -94,6 +97,18 @@ class Drawer:
 
     @classmethod
     def _build(cls, text: str, bom: bool, trouble: str | None, path: str) -> Drawer:
+        # The records and parts hold no reference cycles; the cyclic collector, run again and again
+        # over the growing heap while they are made, tripled the time of a large file.
+        was = gc.isenabled()
+        gc.disable()
+        try:
+            return cls._build_records(text, bom, trouble, path)
+        finally:
+            if was:
+                gc.enable()
+
+    @classmethod
+    def _build_records(cls, text: str, bom: bool, trouble: str | None, path: str) -> Drawer:
         delimiter = csvfile.sniff_delimiter(text)
         records = csvfile.split_records(text, delimiter)
         header = next((i for i, r in enumerate(records) if not r.blank), None)
@@ -136,14 +151,22 @@ class Drawer:
 
     def record_index(self, line: int) -> int | None:
         """Index into `.records` of the data record starting on `line`."""
-        for i, rec in enumerate(self.records):
-            if rec.line == line and self.header is not None and i > self.header and not rec.blank:
-                return i
-        return None
+        if self._index is None:  # built on first use: a large file is looked up many times
+            self._index = {}
+            if self.header is not None:
+                for i in range(self.header + 1, len(self.records)):
+                    rec = self.records[i]
+                    if not rec.blank:
+                        self._index.setdefault(rec.line, i)
+        return self._index.get(line)
 
     def find(self, key: tuple) -> list[Part]:
-        """Parts whose identity_key(identity) equals `key`."""
-        return [p for p in self.parts if identity_key(p.identity) == key]
+        """Parts whose identity_key(identity) equals `key` (an index built on first use)."""
+        if self._by_key is None:
+            self._by_key = {}
+            for p in self.parts:
+                self._by_key.setdefault(identity_key(p.identity), []).append(p)
+        return list(self._by_key.get(key, ()))
 
     def resistor_stock(self) -> ResistorStock:
         # A 0R link is a legal part but no resistance: it never goes into a resistor network.

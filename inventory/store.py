@@ -20,7 +20,7 @@ from .atomic import LockBusy, atomic_write, interrupts_deferred, locked, remove_
 from .drawer import Drawer
 from .edits import (
     ConflictError, Edit, NothingToUndo, StockError, StoreError, Txn, apply_edits, change_for, describe,
-    find_again, identity_and_row, qty_edit,
+    find_again, identity_and_row, lines_at, qty_edit, record_alone,
 )
 from .journal import Entry, Journal, journal_path, now_iso
 from .parts import Part
@@ -76,23 +76,29 @@ class Store:
 
     def _transact_locked(self, action: str, reason: str, plan: Callable[[Txn], None]) -> Entry:
         data = self._read()
-        fresh = Drawer.from_bytes(data, str(self.path))
+        moved = self._base is not None and data != self._base
+        # Unchanged since this Store read it: the parsed drawer is still right (a large file is read once).
+        fresh = self._drawer if self._drawer is not None and not moved else Drawer.from_bytes(data, str(self.path))
         if fresh.trouble:
             raise StoreError(f"{self.path}: {fresh.trouble}; nothing was written")
-        moved = self._base is not None and data != self._base
-        txn = Txn(fresh, self._drawer if moved and self._drawer else fresh, moved)
+        base = fresh
+        if moved:
+            base = self._drawer if self._drawer is not None else Drawer.from_bytes(self._base, str(self.path))
+        txn = Txn(fresh, base, moved)
         plan(txn)
         if not txn.edits:
             return Entry(0, now_iso(), action, reason, self.path.name, [], txn.undoes)
         out, where = apply_edits(fresh, txn.edits)
         new_bytes = csvfile.encode("".join(out), fresh.dialect.bom)
-        new = Drawer.from_bytes(new_bytes, str(self.path))
+        delim = fresh.dialect.delimiter
+        lines = lines_at(out, {pos for pos in where if pos is not None})
         for e, pos in zip(txn.edits, where, strict=True):
             if pos is not None and e.change is not None:  # the line as saved, and where it sits
                 e.change.raw_after, e.change.index = out[pos], pos
-                e.change.line = new.records[pos].line
+                e.change.line = lines[pos]
                 if not e.change.header:
-                    e.change.identity, e.change.row = identity_and_row(new, pos)
+                    alone, k = record_alone(out, pos, delim, str(self.path))
+                    e.change.identity, e.change.row = identity_and_row(alone, k)
         changes = [e.change for e in txn.edits if e.change is not None]  # a new file's header is not
         try:
             entry_id = self.journal.next_id()
@@ -104,7 +110,7 @@ class Store:
             # os.replace would replace a read-only file regardless (the folder is what it checks)
             raise StoreError(f"{self.path} is read-only; nothing was written")
         self._commit(data, new_bytes, entry)
-        self._base, self._drawer = new_bytes, new
+        self._base, self._drawer = new_bytes, None  # parsed again only when asked for (`.drawer`)
         return entry
 
     def _commit(self, old_bytes: bytes, new_bytes: bytes, entry: Entry) -> None:

@@ -74,10 +74,12 @@ class _Kind:
     zero_ok: bool = False
     si: re.Pattern = field(init=False, repr=False, compare=False)
     rkm: re.Pattern = field(init=False, repr=False, compare=False)
+    cache: dict = field(init=False, repr=False, compare=False)
 
     def __post_init__(self) -> None:
         letters = "|".join(re.escape(k) for k in self.letters)
         unit = rf"(?:\s*(?P<unit>{self.unit}))?"
+        object.__setattr__(self, "cache", {})
         object.__setattr__(self, "si", re.compile(
             rf"(?P<num>(?:{_NUM})(?P<exp>{_EXP})?)(?:\s*(?P<pre>{letters}))?{unit}"))
         object.__setattr__(
@@ -87,6 +89,14 @@ class _Kind:
     def parse(self, text: str) -> float:
         if not isinstance(text, str):
             raise TypeError(f"expected text, got {type(text).__name__}")
+        hit = self.cache.get(text)  # a drawer repeats the same few spellings thousands of times
+        if hit is None:
+            hit = self._parse(text)  # a refusal raises and is not cached
+            if len(self.cache) < 65_536:
+                self.cache[text] = hit
+        return hit
+
+    def _parse(self, text: str) -> float:
         s = text.strip().translate(_FOLD)
         m = self.si.fullmatch(s)
         exp = False
