@@ -63,7 +63,7 @@ def main(argv: list[str] | None = None) -> int:
     except Exception as exc:  # noqa: BLE001 - the one place no exception may pass
         if os.environ.get("DRAWERFIT_DEBUG"):
             raise
-        name = " ".join(a for a in (argv if argv is not None else sys.argv[1:])[:1])
+        name = _COMMAND[0]
         print(f"drawerfit{' ' + name if name else ''}: internal error ({type(exc).__name__}: "
               f"{str(exc)[:200]}); nothing was changed by it. Please report it with the command line "
               "(DRAWERFIT_DEBUG=1 shows the details).", file=sys.stderr)
@@ -86,9 +86,13 @@ def _join_signed(argv: list[str]) -> list[str]:
     return out
 
 
+_COMMAND = [""]  # the subcommand being run, for the one-line internal-error message
+
+
 def _run(argv: list[str] | None) -> int:
     parser = build_parser()
     args = parser.parse_args(_join_signed(list(sys.argv[1:] if argv is None else argv)))
+    _COMMAND[0] = args.command or ""
     if args.command is None:
         from .app import run_app  # Textual is imported only for the app itself
 

@@ -136,8 +136,7 @@ def run_design(args) -> int:
         opts = options_from(args)
         problems = spec.problems()
         if problems:
-            for msg in problems:
-                say(msg)
+            say("; ".join(problems))  # one line, each part naming its option
             return 2
         path = drawer_path(getattr(args, "inventory", None))
         drawer = load_drawer(path)
