@@ -278,3 +278,26 @@ def test_readme_add_options_match_add_help(capsys):
     help_text = capsys.readouterr().out
     missing = [flag for flag in sorted(named) if flag not in help_text]
     assert not missing, missing
+
+
+def test_every_subcommand_is_in_the_lazy_registration_table():
+    import argparse
+
+    from tui.cli import FAMILIES, build_parser
+
+    parser = build_parser()
+    sub = next(a for a in parser._actions if isinstance(a, argparse._SubParsersAction))
+    assert set(sub.choices) == set(FAMILIES)
+    for name, family in FAMILIES.items():  # registering one family gives that command
+        one = build_parser(name)
+        sub = next(a for a in one._actions if isinstance(a, argparse._SubParsersAction))
+        assert name in sub.choices
+
+
+def test_drawer_commands_do_not_load_the_physics():
+    code = ("import sys; from tui.cli import main; main(['--inventory', sys.argv[1], 'list']); "
+            "print(sorted(m for m in ('scipy', 'ortools', 'pandas', 'textual') if m in sys.modules))")
+    demo = Path(__file__).resolve().parents[1] / "inventory" / "demo" / "drawer.csv"
+    done = subprocess.run([sys.executable, "-c", code, str(demo)], capture_output=True, text=True, timeout=120,
+                          cwd=Path(__file__).resolve().parents[1])
+    assert done.stdout.strip().splitlines()[-1] == "[]", done.stderr

@@ -17,7 +17,15 @@ import argparse
 import os
 import sys
 
-from . import cmd_analyze, cmd_design, cmd_drawer
+import importlib
+
+# Which module registers each subcommand: only the family asked for is imported, so `drawerfit list`
+# never loads the physics (scipy) and `design --help` never loads the solver.  tests check the table.
+FAMILIES = {
+    "check": "cmd_drawer", "list": "cmd_drawer", "add": "cmd_drawer", "edit": "cmd_drawer",
+    "count": "cmd_drawer", "remove": "cmd_drawer", "history": "cmd_drawer", "undo": "cmd_drawer",
+    "analyze": "cmd_analyze", "design": "cmd_design", "build": "cmd_design",
+}
 
 EXIT_INTERRUPTED = 130      # 128 + SIGINT, as a shell reports a Ctrl-C
 EXIT_PIPE_CLOSED = 141      # 128 + SIGPIPE, as a shell reports a writer whose reader left
@@ -31,7 +39,8 @@ class _Parser(argparse.ArgumentParser):
         self.exit(2, f"{self.prog}: {message} (see {self.prog} --help)\n")
 
 
-def build_parser() -> argparse.ArgumentParser:
+def build_parser(command: str | None = None) -> argparse.ArgumentParser:
+    """The parser; with `command` only that subcommand's family is registered (all when None or unknown)."""
     parser = _Parser(
         prog="drawerfit",
         description="Design a transistor gain stage from the parts in your drawers.",
@@ -41,10 +50,23 @@ def build_parser() -> argparse.ArgumentParser:
         help="drawer file (CSV); default: $DRAWERFIT_INVENTORY, ./drawer.csv, or your data folder",
     )
     sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
-    cmd_drawer.register(sub)
-    cmd_analyze.register(sub)
-    cmd_design.register(sub)
+    families = [FAMILIES[command]] if command in FAMILIES else list(dict.fromkeys(FAMILIES.values()))
+    for family in families:
+        importlib.import_module(f"{__package__}.{family}").register(sub)
     return parser
+
+
+def _command_of(argv: list[str]) -> str | None:
+    """The subcommand named in argv (the first word that is neither an option nor --inventory's value)."""
+    skip = False
+    for a in argv:
+        if skip:
+            skip = False
+        elif a == "--inventory":
+            skip = True
+        elif not a.startswith("-"):
+            return a
+    return None
 
 
 def main(argv: list[str] | None = None) -> int:
@@ -90,8 +112,9 @@ _COMMAND = [""]  # the subcommand being run, for the one-line internal-error mes
 
 
 def _run(argv: list[str] | None) -> int:
-    parser = build_parser()
-    args = parser.parse_args(_join_signed(list(sys.argv[1:] if argv is None else argv)))
+    argv = _join_signed(list(sys.argv[1:] if argv is None else argv))
+    parser = build_parser(_command_of(argv))
+    args = parser.parse_args(argv)
     _COMMAND[0] = args.command or ""
     if args.command is None:
         from .app import run_app  # Textual is imported only for the app itself
