@@ -8,7 +8,6 @@ so undo can take it out again); an unknown column is refused.
 from __future__ import annotations
 
 from . import csvfile
-from .drawer import Drawer
 from .edits import Edit, StoreError, Txn, apply_edits, change_for, describe, record_alone
 from .journal import Change
 from .rows import COLUMNS, identity_key

@@ -84,10 +84,6 @@ def _temp_range(text: str) -> tuple[float, float]:
     return (value(lo, parse_temperature, "temp-range"), value(hi, parse_temperature, "temp-range"))
 
 
-def _source_like(t: str) -> float:
-    return parse_resistance(t)  # "0" and "0R" are a zero-ohm source (an ideal voltage source)
-
-
 def spec_from(args) -> Spec:
     """The Spec the options describe; InputError naming the option for text that is no value."""
     return Spec(
@@ -96,7 +92,7 @@ def spec_from(args) -> Spec:
         gain_tol=value(args.gain_tol, parse_fraction, "gain-tol"),
         supply_v=value(args.supply, parse_voltage, "supply"),
         load_ohms=value(args.load, parse_resistance, "load"),
-        source_ohms=value(args.source, _source_like, "source"),
+        source_ohms=value(args.source, parse_resistance, "source"),  # "0" is an ideal voltage source
         swing_pp=value(args.swing, parse_voltage, "swing"),
         low_cut_hz=value(args.low_cut, parse_frequency, "low-cut"),
         min_rin_ohms=value(args.min_rin, parse_resistance, "min-rin"),
