@@ -42,6 +42,10 @@ def design_figures(cases: int, time_limit: float, seed: int) -> None:
     kinds = collections.Counter(kind for kind, *_ in tally.failures)
     if kinds:
         print("  failures by kind: " + ", ".join(f"{k}: {v}" for k, v in kinds.most_common()))
+        crashes = collections.Counter(str(detail).strip().splitlines()[-1][-140:] if str(detail).strip() else "?"
+                                      for kind, _, detail in tally.failures if kind == "crash")
+        for message, n in crashes.most_common():
+            print(f"  crash ×{n}: {message}")
         for kind, argv, detail in tally.failures[:5]:
             print(f"  e.g. {kind}: drawerfit {' '.join(argv)} -> {str(detail)[-160:]}")
 
