@@ -11,7 +11,7 @@ import random
 from pathlib import Path
 
 import pytest
-from hypothesis import HealthCheck, given, settings
+from hypothesis import HealthCheck, Phase, given, settings
 from hypothesis import strategies as st
 
 from tests.helpers import design_fuzz as fuzz
@@ -61,7 +61,9 @@ def test_quick_slice_small_drawers_depth_1(tmp_path):
 
 
 @pytest.mark.fuzz
-@settings(max_examples=60, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+# No shrinking: a case is a seed, and shrinking a seed only re-runs searches for minutes.
+@settings(max_examples=60, deadline=None, phases=[Phase.explicit, Phase.reuse, Phase.generate],
+          suppress_health_check=[HealthCheck.function_scoped_fixture])
 @given(seed=st.integers(0, 2**32 - 1), lines=st.integers(1, 400), nonsense=st.booleans())
 def test_hypothesis_drawers_and_requests(tmp_path, seed, lines, nonsense):
     fuzz.warm_up()
