@@ -4,7 +4,9 @@ from __future__ import annotations
 
 import contextlib
 import os
+import signal
 import tempfile
+import threading
 from collections.abc import Iterator
 from pathlib import Path
 
@@ -42,7 +44,7 @@ def atomic_write(path: Path, data: bytes) -> None:
         umask = os.umask(0)
         os.umask(umask)
         mode = 0o666 & ~umask
-    fd, tmp = tempfile.mkstemp(dir=target.parent, prefix=f".{target.name}.", suffix=".tmp")
+    fd, tmp = tempfile.mkstemp(dir=target.parent, prefix=temporary_prefix(target), suffix=".tmp")
     try:
         with os.fdopen(fd, "wb") as f:
             f.write(data)
@@ -82,3 +84,46 @@ def append_durably(path: Path, line: bytes) -> None:
         f.write(line)
         f.flush()
         os.fsync(f.fileno())
+
+
+def temporary_prefix(path: Path) -> str:
+    """Name prefix of `atomic_write`'s temporary files for `path` (suffix ".tmp")."""
+    return f".{Path(path).name}."
+
+
+def remove_stale_temporaries(path: Path) -> int:
+    """Delete temporary files a killed writer of `path` left beside it; returns how many.
+
+    Call it only while holding `locked(path)`: every writer of the drawer takes that lock, so a
+    temporary file seen then belongs to no live writer.
+    """
+    target = Path(os.path.realpath(path))
+    prefix = temporary_prefix(target)
+    gone = 0
+    try:
+        names = [n for n in os.listdir(target.parent) if n.startswith(prefix) and n.endswith(".tmp")]
+    except OSError:
+        return 0
+    for name in names:
+        with contextlib.suppress(OSError):
+            os.unlink(target.parent / name)
+            gone += 1
+    return gone
+
+
+@contextlib.contextmanager
+def interrupts_deferred() -> Iterator[None]:
+    """Hold SIGINT/SIGTERM back for the duration (main thread, POSIX); they are delivered after.
+
+    Two writes that belong together (the drawer and its journal entry) then cannot be split by
+    Ctrl-C.  Elsewhere (another thread, Windows) this does nothing.
+    """
+    if not hasattr(signal, "pthread_sigmask") or threading.current_thread() is not threading.main_thread():
+        yield
+        return
+    held = {signal.SIGINT, signal.SIGTERM}
+    old = signal.pthread_sigmask(signal.SIG_BLOCK, held)
+    try:
+        yield
+    finally:
+        signal.pthread_sigmask(signal.SIG_SETMASK, old)

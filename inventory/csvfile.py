@@ -63,6 +63,21 @@ def split_records(text: str, delimiter: str, first_line: int = 1) -> list[Record
     stops = delimiter + "\r\n"
     plain = re.compile(f"[^{re.escape(stops)}]*")  # an unquoted cell runs to the next stop
     while pos < n:
+        # Fast path: a physical line without quotes is split on the delimiter (most lines of most files).
+        m = _BREAK.search(text, pos)
+        stop = m.start() if m else n
+        if text.find('"', pos, stop) < 0:
+            newline = m.group() if m else ""
+            body = text[pos:stop]
+            cells = body.split(delimiter)
+            spans, start = [], 0
+            for c in cells:
+                spans.append((start, start + len(c)))
+                start += len(c) + 1
+            records.append(Record(line, body + newline, cells, spans, newline))
+            line += 1 if newline else 0
+            pos = stop + len(newline)
+            continue
         cells: list[str] = []
         spans: list[tuple[int, int]] = []
         broken: tuple[int, str] | None = None
@@ -175,9 +190,20 @@ def decode(data: bytes) -> Decoded:
         trouble = "the file is UTF-16; save it as 'CSV UTF-8' instead"
     elif b"\x00" in data:
         trouble = "the file holds NUL bytes; it does not look like a CSV text file"
+    elif _CONTROL.search(data):
+        trouble = "the file holds control bytes; it does not look like a CSV text file"
     bom = data.startswith(b"\xef\xbb\xbf")
     text = data[3 if bom else 0:].decode("utf-8", errors="surrogateescape")
+    if trouble is None:
+        bad = len(_SURROGATE.findall(text))
+        if bad > max(8, len(data) // 100):  # a stray accented letter is a line's problem; this is not text
+            trouble = f"{bad} bytes are not UTF-8; save the file as 'CSV UTF-8'"
     return Decoded(text, bom, trouble)
+
+
+# C0 controls other than TAB, LF, VT, FF, CR (and DEL): no CSV text holds them, binary files do.
+_CONTROL = re.compile(rb"[\x01-\x08\x0e-\x1f\x7f]")
+_SURROGATE = re.compile("[\udc80-\udcff]")
 
 
 def encode(text: str, bom: bool) -> bytes:

@@ -8,6 +8,7 @@ file as it was read.
 from __future__ import annotations
 
 import difflib
+import gc
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -70,13 +71,16 @@ class Drawer:
         self.columns = columns          # column name -> 0-based cell index
         self.parts = parts
         self.problems = problems
+        self.trouble: str | None = None  # a whole-file problem (not UTF-8 text): nothing may be written
         self._by_line = {p.line: p for p in parts}
+        self._by_key: dict[tuple, list[Part]] | None = None
+        self._index: dict[int, int] | None = None
 
     # ---- reading -------------------------------------------------------------------------
 
     @classmethod
     def load(cls, path: str | Path) -> Drawer:
-        """Read and check the file (OSError when it cannot be read)."""
+        """Read and check the file (OSError when it cannot be read; see `.trouble` for a file that is not text)."""
         return cls.from_bytes(Path(path).read_bytes(), str(path))
 
     @classmethod
@@ -93,6 +97,18 @@ class Drawer:
 
     @classmethod
     def _build(cls, text: str, bom: bool, trouble: str | None, path: str) -> Drawer:
+        # The records and parts hold no reference cycles; the cyclic collector, run again and again
+        # over the growing heap while they are made, tripled the time of a large file.
+        was = gc.isenabled()
+        gc.disable()
+        try:
+            return cls._build_records(text, bom, trouble, path)
+        finally:
+            if was:
+                gc.enable()
+
+    @classmethod
+    def _build_records(cls, text: str, bom: bool, trouble: str | None, path: str) -> Drawer:
         delimiter = csvfile.sniff_delimiter(text)
         records = csvfile.split_records(text, delimiter)
         header = next((i for i, r in enumerate(records) if not r.blank), None)
@@ -101,7 +117,9 @@ class Drawer:
         problems: list[Problem] = []
         if trouble:
             problems.append(Problem(path, 1, 1, "", trouble))
-            return cls(path, records, dialect, header, {}, [], problems)
+            drawer = cls(path, records, dialect, header, {}, [], problems)
+            drawer.trouble = trouble
+            return drawer
         if header is None:
             problems.append(Problem(path, 1, 1, "", "the file is empty (expected a header line "
                                     "such as kind,value,qty,tolerance,location)"))
@@ -133,17 +151,26 @@ class Drawer:
 
     def record_index(self, line: int) -> int | None:
         """Index into `.records` of the data record starting on `line`."""
-        for i, rec in enumerate(self.records):
-            if rec.line == line and self.header is not None and i > self.header and not rec.blank:
-                return i
-        return None
+        if self._index is None:  # built on first use: a large file is looked up many times
+            self._index = {}
+            if self.header is not None:
+                for i in range(self.header + 1, len(self.records)):
+                    rec = self.records[i]
+                    if not rec.blank:
+                        self._index.setdefault(rec.line, i)
+        return self._index.get(line)
 
     def find(self, key: tuple) -> list[Part]:
-        """Parts whose identity_key(identity) equals `key`."""
-        return [p for p in self.parts if identity_key(p.identity) == key]
+        """Parts whose identity_key(identity) equals `key` (an index built on first use)."""
+        if self._by_key is None:
+            self._by_key = {}
+            for p in self.parts:
+                self._by_key.setdefault(identity_key(p.identity), []).append(p)
+        return list(self._by_key.get(key, ()))
 
     def resistor_stock(self) -> ResistorStock:
-        rs = [p for p in self.parts if p.kind == "resistor" and p.qty > 0]
+        # A 0R link is a legal part but no resistance: it never goes into a resistor network.
+        rs = [p for p in self.parts if p.kind == "resistor" and p.qty > 0 and p.value > 0]
         return ResistorStock(
             line=np.array([p.line for p in rs], dtype=np.int64),
             ohms=np.array([p.value for p in rs], dtype=float),

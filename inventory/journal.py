@@ -70,13 +70,50 @@ class Entry:
         return asdict(self)
 
     @classmethod
-    def from_json(cls, obj: dict) -> Entry:
-        changes = [Change(**c) for c in obj.get("changes", [])]
+    def from_json(cls, obj: object) -> Entry:
+        """The entry a journal line holds; ValueError for any line of another shape (hand-edited, foreign)."""
+        if not isinstance(obj, dict):
+            raise ValueError("a journal line must be a JSON object")
+        changes = obj.get("changes", [])
+        if not isinstance(changes, list):
+            raise ValueError("changes must be a list")
+        undoes = obj.get("undoes")
+        if undoes is not None and not _is_int(undoes):
+            raise ValueError("undoes must be a change number or null")
+        action = obj.get("action")
+        if action not in ACTIONS or not _is_int(obj.get("id")) or not isinstance(obj.get("time"), str):
+            raise ValueError("id, time or action is missing or of the wrong type")
         return cls(
-            id=int(obj["id"]), time=str(obj["time"]), action=str(obj["action"]),
+            id=obj["id"], time=obj["time"], action=action,
             reason=str(obj.get("reason", "")), file=str(obj.get("file", "")),
-            changes=changes, undoes=obj.get("undoes"),
+            changes=[_change(c) for c in changes], undoes=undoes,
         )
+
+
+def _is_int(x: object) -> bool:
+    return isinstance(x, int) and not isinstance(x, bool)
+
+
+_CHANGE_TYPES = {
+    "line": _is_int, "index": _is_int,
+    "identity": lambda v: v is None or (isinstance(v, list) and all(
+        x is None or isinstance(x, (str, int, float, bool)) for x in v)),
+    "row": lambda v: isinstance(v, dict) and all(isinstance(k, str) and isinstance(x, str) for k, x in v.items()),
+    "raw_before": lambda v: v is None or isinstance(v, str), "raw_after": lambda v: v is None or isinstance(v, str),
+    "qty_before": lambda v: v is None or _is_int(v), "qty_after": lambda v: v is None or _is_int(v),
+    "header": lambda v: isinstance(v, bool), "rewrite": lambda v: isinstance(v, bool),
+}
+
+
+def _change(obj: object) -> Change:
+    """A Change from its JSON, every field of the type the undo code relies on (else ValueError)."""
+    if not isinstance(obj, dict) or set(obj) - set(_CHANGE_TYPES):
+        raise ValueError("a change must be an object with the journal's fields")
+    fields = {"header": False, "rewrite": False, **obj}
+    missing = set(_CHANGE_TYPES) - set(fields)
+    if missing or not all(_CHANGE_TYPES[k](v) for k, v in fields.items()):
+        raise ValueError("a change field is missing or of the wrong type")
+    return Change(**fields)
 
 
 def now_iso() -> str:
@@ -87,6 +124,7 @@ def now_iso() -> str:
 class Journal:
     def __init__(self, path: str | Path) -> None:
         self.path = Path(path)
+        self.skipped = 0  # lines the last read() could not use
 
     def read(self) -> list[Entry]:
         """Every readable entry in order; torn or damaged lines are skipped."""
@@ -95,13 +133,14 @@ class Journal:
         except FileNotFoundError:
             return []
         entries = []
+        self.skipped = 0
         for raw in data.split(b"\n"):
             if not raw.strip():
                 continue
             try:
                 entries.append(Entry.from_json(json.loads(raw)))
-            except (ValueError, KeyError, TypeError):
-                continue  # a torn line from a crash mid-append
+            except (ValueError, RecursionError):  # JSONDecodeError and UnicodeDecodeError are ValueErrors
+                self.skipped += 1  # a torn line from a crash mid-append, or one edited by hand
         return entries
 
     def next_id(self) -> int:

@@ -8,8 +8,7 @@ so undo can take it out again); an unknown column is refused.
 from __future__ import annotations
 
 from . import csvfile
-from .drawer import Drawer
-from .edits import Edit, StoreError, Txn, apply_edits, change_for, describe
+from .edits import Edit, StoreError, Txn, apply_edits, change_for, describe, record_alone
 from .journal import Change
 from .rows import COLUMNS, identity_key
 
@@ -70,19 +69,24 @@ def plan_edit(txn: Txn, idx: int, cells: dict[str, str]) -> None:
 def check_line(txn: Txn, what: str, raw_before: str | None = None) -> None:
     """Refuse the last planned edit's line if it has errors or repeats a part; journal it."""
     out, where = apply_edits(txn.fresh, txn.edits)
-    trial = Drawer.parse("".join(out), str(txn.fresh.path))
-    rec = trial.records[where[-1]]
+    # The line is read under the header alone (not the whole file again); repeats are looked up
+    # among the file's other parts.
+    trial, k = record_alone(out, where[-1], txn.fresh.dialect.delimiter, str(txn.fresh.path))
+    rec = trial.records[k]
     errors = [p for p in trial.problems if p.line == rec.line and p.is_error]
     if errors:
         raise StoreError(f"{what} is not valid: " + "; ".join(p.message for p in errors))
     part = trial.part_at(rec.line)
     if part is None:
         raise StoreError(f"{what} is empty: give at least kind, value and qty")
-    old = txn.fresh.part_at(txn.fresh.records[txn.edits[-1].index].line) if raw_before else None
+    edited = txn.fresh.records[txn.edits[-1].index].line if raw_before else None
+    old = txn.fresh.part_at(edited) if raw_before else None
     key = identity_key(part.identity)
-    same = [p for p in trial.find(key) if p.line != rec.line]
+    same = [p for p in txn.fresh.find(key) if p.line != edited]
     if same and (old is None or identity_key(old.identity) != key):  # a new repeat, not an old one
         raise StoreError(f"{txn.fresh.path}:{same[0].line} already holds this part ({describe(part)}); "
                          "change its count instead")
-    txn.edits[-1].change = change_for(trial, where[-1], raw_before, rec.raw, old.qty if old else None, part.qty)
-    txn.edits[-1].change.rewrite = raw_before is not None
+    change = change_for(trial, k, raw_before, rec.raw, old.qty if old else None, part.qty)
+    change.index = where[-1]  # the Store sets line and index in the saved file
+    txn.edits[-1].change = change
+    change.rewrite = raw_before is not None

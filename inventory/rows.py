@@ -33,10 +33,11 @@ class RowReader:
         self.path, self.line, self.cells, self.columns = path, line, cells, columns
         self.decimal_comma = decimal_comma
         self.problems: list[Problem] = []
+        n = len(cells)
+        self._texts = {name: cells[i].strip() for name, i in columns.items() if i < n}
 
     def text(self, name: str) -> str:
-        i = self.columns.get(name)
-        return self.cells[i].strip() if i is not None and i < len(self.cells) else ""
+        return self._texts.get(name, "")
 
     def column(self, name: str) -> int:
         i = self.columns.get(name)
@@ -137,4 +138,17 @@ def _transistor_fields(r: RowReader) -> dict | None:
 
 def identity_key(identity: tuple) -> tuple:
     """Part.identity with floats rounded to 12 digits, so 4k7 and 4700 match whatever the rounding."""
-    return tuple(float(f"{x:.12g}") if isinstance(x, float) else x for x in identity)
+    return tuple(_rounded(x) if type(x) is float else x for x in identity)
+
+
+_ROUNDED: dict[float, float] = {}
+
+
+def _rounded(x: float) -> float:
+    """float(f"{x:.12g}"), remembered: a drawer holds the same few values on many lines."""
+    r = _ROUNDED.get(x)
+    if r is None:
+        r = float(f"{x:.12g}")
+        if len(_ROUNDED) < 65_536:
+            _ROUNDED[x] = r
+    return r

@@ -16,11 +16,11 @@ from collections.abc import Callable, Iterable
 from pathlib import Path
 
 from . import csvfile
-from .atomic import LockBusy, atomic_write, locked
+from .atomic import LockBusy, atomic_write, interrupts_deferred, locked, remove_stale_temporaries
 from .drawer import Drawer
 from .edits import (
     ConflictError, Edit, NothingToUndo, StockError, StoreError, Txn, apply_edits, change_for, describe,
-    find_again, identity_and_row, qty_edit,
+    find_again, identity_and_row, lines_at, qty_edit, record_alone,
 )
 from .journal import Entry, Journal, journal_path, now_iso
 from .parts import Part
@@ -76,33 +76,66 @@ class Store:
 
     def _transact_locked(self, action: str, reason: str, plan: Callable[[Txn], None]) -> Entry:
         data = self._read()
-        fresh = Drawer.from_bytes(data, str(self.path))
         moved = self._base is not None and data != self._base
-        txn = Txn(fresh, self._drawer if moved and self._drawer else fresh, moved)
+        # Unchanged since this Store read it: the parsed drawer is still right (a large file is read once).
+        fresh = self._drawer if self._drawer is not None and not moved else Drawer.from_bytes(data, str(self.path))
+        if fresh.trouble:
+            raise StoreError(f"{self.path}: {fresh.trouble}; nothing was written")
+        base = fresh
+        if moved:
+            base = self._drawer if self._drawer is not None else Drawer.from_bytes(self._base, str(self.path))
+        txn = Txn(fresh, base, moved)
         plan(txn)
         if not txn.edits:
             return Entry(0, now_iso(), action, reason, self.path.name, [], txn.undoes)
         out, where = apply_edits(fresh, txn.edits)
         new_bytes = csvfile.encode("".join(out), fresh.dialect.bom)
-        new = Drawer.from_bytes(new_bytes, str(self.path))
+        delim = fresh.dialect.delimiter
+        lines = lines_at(out, {pos for pos in where if pos is not None})
         for e, pos in zip(txn.edits, where, strict=True):
             if pos is not None and e.change is not None:  # the line as saved, and where it sits
                 e.change.raw_after, e.change.index = out[pos], pos
-                e.change.line = new.records[pos].line
+                e.change.line = lines[pos]
                 if not e.change.header:
-                    e.change.identity, e.change.row = identity_and_row(new, pos)
+                    alone, k = record_alone(out, pos, delim, str(self.path))
+                    e.change.identity, e.change.row = identity_and_row(alone, k)
         changes = [e.change for e in txn.edits if e.change is not None]  # a new file's header is not
-        entry = Entry(self.journal.next_id(), now_iso(), action, reason, self.path.name, changes, txn.undoes)
+        try:
+            entry_id = self.journal.next_id()
+        except OSError as exc:
+            raise StoreError(f"{self.journal.path}: cannot read the journal ({exc.strerror or exc}); "
+                             "nothing was written") from None
+        entry = Entry(entry_id, now_iso(), action, reason, self.path.name, changes, txn.undoes)
         if not os.access(self._real, os.W_OK) or not self._real.stat().st_mode & 0o222:
             # os.replace would replace a read-only file regardless (the folder is what it checks)
             raise StoreError(f"{self.path} is read-only; nothing was written")
-        try:
-            atomic_write(self.path, new_bytes)
-            self.journal.append(entry)
-        except OSError as exc:
-            raise StoreError(f"{self.path}: cannot save ({exc.strerror or exc})") from None
-        self._base, self._drawer = new_bytes, new
+        self._commit(data, new_bytes, entry)
+        self._base, self._drawer = new_bytes, None  # parsed again only when asked for (`.drawer`)
         return entry
+
+    def _commit(self, old_bytes: bytes, new_bytes: bytes, entry: Entry) -> None:
+        """Save the drawer and append its journal entry: both, or neither.
+
+        Ctrl-C is held back until both are written; a journal that cannot be appended to puts
+        the drawer's old bytes back (atomically) before the refusal is raised.
+        """
+        remove_stale_temporaries(self._real)  # under the lock: any temporary left is a killed writer's
+        with interrupts_deferred():
+            try:
+                atomic_write(self.path, new_bytes)
+            except OSError as exc:
+                raise StoreError(f"{self.path}: cannot save ({exc.strerror or exc}); nothing was changed") from None
+            try:
+                self.journal.append(entry)
+            except OSError as exc:
+                try:
+                    atomic_write(self.path, old_bytes)
+                except OSError as again:
+                    raise StoreError(f"{self.path}: saved, but its journal {self.journal.path.name} cannot be "
+                                     f"written ({exc.strerror or exc}) and the old file could not be put back "
+                                     f"({again.strerror or again})") from None
+                raise StoreError(f"{self.journal.path}: cannot write the journal ({exc.strerror or exc}); "
+                                 f"the change to {self.path} was not kept") from None
 
     def _target(self, txn: Txn, line: int, *, need_part: bool = True) -> tuple[int, Part | None]:
         """Index in the fresh file, and part, of what was on `line` when this Store loaded."""

@@ -33,6 +33,17 @@ def pick(entries: list[Entry], entry_id: int | None) -> Entry:
 def plan_undo(txn: Txn, entries: list[Entry], entry_id: int | None) -> None:
     target = pick(entries, entry_id)
     txn.undoes = target.id
+    try:
+        _plan(txn, target)
+    except (IndexError, KeyError, TypeError, ValueError, AttributeError) as exc:
+        # Field types are checked on reading (journal.from_json); a hand-edited entry can still
+        # hold text that is no drawer line, or lines that do not fit together.
+        txn.edits.clear()
+        raise StoreError(f"cannot undo change {target.id}: its journal entry does not describe a change "
+                         f"this file can take back ({type(exc).__name__}); nothing was written") from None
+
+
+def _plan(txn: Txn, target: Entry) -> None:
     for c in reversed(target.changes):
         what = _name(c, target.id)
         if c.header:

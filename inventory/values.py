@@ -13,8 +13,15 @@ Accepted spellings, and the decisions behind the doubtful ones:
 * Voltage, current, power: a bare number is in V, A or W.  Power also takes ``1/4W``, ``1/8 W``.
 * Tolerance: ``5%``, ``±1%``, ``+/-1 %``; a bare number is in percent (``1`` = 1 %, ``0.05`` = 0.05 %),
   because that is how the column is written; returned as a fraction (0.05 for 5 %).
-* No exponent notation except in `parse_number`: some shops write ``4E7`` for 4.7 Ω, which an
-  exponent reading would turn into 47 MΩ.
+* Exponent notation as scripts and spreadsheets write it: ``1e3``, ``4.7e-06``, ``2.2E+4``.  RKM
+  code never uses the letter e, so it is unambiguous.  A number with an exponent is in the base
+  unit (``4.7e-06`` = 4.7 µF: the bare-number refusal for capacitors does not apply, an exponent
+  says the scale) and takes no prefix letter after it (``1e3k`` is refused).
+* Plain numbers (`parse_number`: hFE, gain, frequency) take the SI prefixes p n u m k M G and
+  RKM spelling too (``1.8k``, ``1k8``); `parse_frequency` also takes ``Hz``; `parse_fraction`
+  takes ``1%`` or ``0.01``; `parse_temperature` takes a signed °C figure above absolute zero.
+* A value may be written with or without its unit; the text is never rewritten: the drawer file
+  keeps the spelling it was given.
 
 Bad text raises `ValueFormatError` and nothing else (non-strings raise `TypeError`).
 """
@@ -28,7 +35,7 @@ from decimal import Decimal
 
 __all__ = [
     "ValueFormatError", "parse_resistance", "parse_capacitance", "parse_voltage", "parse_current",
-    "parse_power", "parse_tolerance", "parse_number", "format_resistance", "format_capacitance",
+    "parse_power", "parse_tolerance", "parse_number", "parse_frequency", "parse_fraction", "parse_temperature", "format_resistance", "format_capacitance",
     "format_si",
 ]
 
@@ -52,6 +59,7 @@ def _show(text: str) -> str:
 _FOLD = str.maketrans({"\u00b5": "u", "\u03bc": "u", "\u2126": "\u03a9"})
 # ASCII digits only: `\d` and float() would also take other scripts' digits.
 _NUM = r"[0-9]+(?:\.[0-9]*)?|\.[0-9]+"
+_EXP = r"[eE][+-]?[0-9]{1,6}"
 
 
 @dataclass(frozen=True)
@@ -66,11 +74,14 @@ class _Kind:
     zero_ok: bool = False
     si: re.Pattern = field(init=False, repr=False, compare=False)
     rkm: re.Pattern = field(init=False, repr=False, compare=False)
+    cache: dict = field(init=False, repr=False, compare=False)
 
     def __post_init__(self) -> None:
         letters = "|".join(re.escape(k) for k in self.letters)
         unit = rf"(?:\s*(?P<unit>{self.unit}))?"
-        object.__setattr__(self, "si", re.compile(rf"(?P<num>{_NUM})(?:\s*(?P<pre>{letters}))?{unit}"))
+        object.__setattr__(self, "cache", {})
+        object.__setattr__(self, "si", re.compile(
+            rf"(?P<num>(?:{_NUM})(?P<exp>{_EXP})?)(?:\s*(?P<pre>{letters}))?{unit}"))
         object.__setattr__(
             self, "rkm", re.compile(rf"(?P<int>[0-9]*)(?P<pre>{letters})(?P<frac>[0-9]+){unit}")
         )
@@ -78,10 +89,21 @@ class _Kind:
     def parse(self, text: str) -> float:
         if not isinstance(text, str):
             raise TypeError(f"expected text, got {type(text).__name__}")
+        hit = self.cache.get(text)  # a drawer repeats the same few spellings thousands of times
+        if hit is None:
+            hit = self._parse(text)  # a refusal raises and is not cached
+            if len(self.cache) < 65_536:
+                self.cache[text] = hit
+        return hit
+
+    def _parse(self, text: str) -> float:
         s = text.strip().translate(_FOLD)
         m = self.si.fullmatch(s)
+        exp = False
         if m:
-            number = m["num"]
+            number, exp = m["num"], bool(m["exp"])
+            if exp and m["pre"] and m["pre"] not in self.markers.split():  # "1e3k": an exponent already says the scale
+                raise ValueFormatError(text, self.noun, self.expected)
         else:
             m = self.rkm.fullmatch(s)
             if not m:
@@ -92,7 +114,7 @@ class _Kind:
             raise ValueFormatError(text, self.noun, self.expected)
         if unit and unit in self.needs_letter.split() and not pre:   # "10f": femto or farad?
             raise ValueFormatError(text, self.noun, self.expected)
-        if not pre and not unit and self.bare_hint:
+        if not pre and not unit and self.bare_hint and not exp:
             raise ValueFormatError(text, self.noun, self.bare_hint)
         # Decimal keeps "100n" at the float nearest 1e-7, not 100 * 1e-9 = 1.0000000000000001e-07.
         value = float(Decimal(number).scaleb(self.letters.get(pre or "", 0)))
@@ -123,9 +145,16 @@ _POWER = _Kind(
     "a power", "expected e.g. 0.25W, 1/4W, 250mW, 0.25",
     {"m": -3, "W": 0, "w": 0}, "W w", r"W|w",
 )
+_NUMBER = _Kind(
+    "a number", "expected e.g. 100, 1.8k, 1e2",
+    {"p": -12, "n": -9, "u": -6, "m": -3, "k": 3, "K": 3, "M": 6, "G": 9}, "", r"(?!)", zero_ok=True,
+)
+_FREQUENCY = _Kind(
+    "a frequency", "expected e.g. 30, 30Hz, 1.8k, 1.8kHz",
+    {"m": -3, "k": 3, "K": 3, "M": 6, "G": 9}, "", r"(?i:hz)", zero_ok=True,
+)
 _FRACTION = re.compile(r"([0-9]{1,6})\s*/\s*([0-9]{1,6})(?:\s*[Ww])?")
 _TOLERANCE = re.compile(rf"(?:±|\+\s*/\s*-|\+-)?\s*({_NUM})\s*%?")
-_PLAIN = re.compile(rf"(?:{_NUM})(?:[eE][+-]?[0-9]+)?")
 
 
 def parse_resistance(text: str) -> float:
@@ -172,13 +201,39 @@ def parse_tolerance(text: str) -> float:
 
 
 def parse_number(text: str) -> float:
-    """A plain non-negative number such as an hFE: ``100``, ``1e2``, ``0.5``."""
+    """A plain non-negative number such as an hFE or a gain: ``100``, ``1e2``, ``0.5``, ``1.8k``, ``1k8``."""
+    return _NUMBER.parse(text)
+
+
+def parse_frequency(text: str) -> float:
+    """Frequency in Hz from ``30``, ``30Hz``, ``1.8k``, ``1k8``, ``1.8 kHz``, ``3e4``."""
+    return _FREQUENCY.parse(text)
+
+
+def parse_fraction(text: str) -> float:
+    """A share as a fraction from ``1%``, ``0.5 %`` or ``0.01`` (a bare number is the fraction itself)."""
     if not isinstance(text, str):
         raise TypeError(f"expected text, got {type(text).__name__}")
     s = text.strip()
-    value = float(s) if _PLAIN.fullmatch(s) else math.nan
+    pct = s.endswith("%")
+    value = _NUMBER.parse(s[:-1]) if pct else _NUMBER.parse(s)
+    return value / 100.0 if pct else value
+
+
+_TEMPERATURE = re.compile(rf"(?P<sign>[+-]?)\s*(?P<num>(?:{_NUM})(?:{_EXP})?)\s*(?:°\s*C|C|°)?", re.IGNORECASE)
+ABSOLUTE_ZERO_C = -273.15
+
+
+def parse_temperature(text: str) -> float:
+    """Temperature in °C from ``25``, ``-10``, ``25°C``, ``-1e1``; at or below absolute zero is refused."""
+    if not isinstance(text, str):
+        raise TypeError(f"expected text, got {type(text).__name__}")
+    m = _TEMPERATURE.fullmatch(text.strip())
+    value = float(m["sign"] + m["num"]) if m else math.nan
     if not math.isfinite(value):
-        raise ValueFormatError(text, "a number", "expected e.g. 100, 1e2")
+        raise ValueFormatError(text, "a temperature", "expected °C, e.g. 25 or -10")
+    if value <= ABSOLUTE_ZERO_C:
+        raise ValueFormatError(text, "a temperature", f"{value:g} °C is at or below absolute zero, -273.15 °C")
     return value
 
 

@@ -69,8 +69,27 @@ class Spec:
         return tuple(sorted({float(lo), NOMINAL_C, float(hi)}))
 
     def problems(self) -> list[str]:
-        """Every reason the spec cannot be meant, as messages naming the option."""
+        """Every reason the spec cannot be meant, as messages naming the option.
+
+        Besides signs and orders, figures no single small-signal stage can be asked for are refused
+        here rather than searched for: NaN or infinite values, a temperature outside -55…150 °C
+        (the usual rated range of small-signal parts, common practice, no source), a gain below
+        0.01 (an attenuator) or above 10 000, a tolerance tighter than the solver's 0.1 % steps,
+        a load or source outside 1 Ω…100 MΩ (beyond the 1 Ω…10 MΩ networks can make).
+        """
         out = []
+        finite = {"--gain": self.gain, "--gain-tol": self.gain_tol, "--supply": self.supply_v,
+                  "--load": self.load_ohms, "--source": self.source_ohms, "--swing": self.swing_pp,
+                  "--low-cut": self.low_cut_hz, "--min-rin": self.min_rin_ohms, "--max-current": self.max_supply_a,
+                  "--max-thd": self.max_thd, "--min-vce": self.min_vce_v,
+                  "--temp-range": self.temp_range_c[0] if len(self.temp_range_c) == 2 else math.nan}
+        if len(self.temp_range_c) == 2:
+            finite["--temp-range "] = self.temp_range_c[1]
+        for flag, x in finite.items():
+            if x is not None and not (isinstance(x, (int, float)) and math.isfinite(x)):
+                out.append(f"{flag.strip()}: {x!r} is not a finite number")
+        if out:
+            return out
         if self.topology not in TOPOLOGIES:
             out.append(f"--topology: {self.topology!r} is not one of {', '.join(TOPOLOGIES)}")
         if not self.supply_v > 0:
@@ -79,14 +98,22 @@ class Spec:
             out.append(f"--supply: {self.supply_v:g} V is beyond what small-signal stages are designed for here (≤ 60 V)")
         if not self.gain > 0:
             out.append(f"--gain: {self.gain:g}; the gain is a magnitude and must be above 0")
+        elif not 0.01 <= self.gain <= 1e4:
+            out.append(f"--gain: {self.gain:g}; one stage gives a gain between 0.01 and 10000")
         if self.topology == "emitter-follower" and self.gain > 1:
             out.append(f"--gain: {self.gain:g}; an emitter follower's gain is below 1")
         if not 0 < self.gain_tol < 1:
             out.append(f"--gain-tol: {self.gain_tol:g}; expected a fraction between 0 and 1 (0.05 = ±5 %)")
+        elif self.gain_tol < 1e-3:
+            out.append(f"--gain-tol: {self.gain_tol:g}; the gain is matched in 0.1 % steps, so at least 0.001")
         if not self.load_ohms > 0:
             out.append(f"--load: {self.load_ohms:g} Ω; the load must be positive")
+        elif not 1.0 <= self.load_ohms <= 1e8:
+            out.append(f"--load: {self.load_ohms:g} Ω; expected 1 Ω…100 MΩ")
         if not self.source_ohms >= 0:
             out.append(f"--source: {self.source_ohms:g} Ω; the source resistance cannot be negative")
+        elif self.source_ohms > 1e8:
+            out.append(f"--source: {self.source_ohms:g} Ω; expected at most 100 MΩ")
         if not self.swing_pp >= 0:
             out.append(f"--swing: {self.swing_pp:g} V; the swing cannot be negative")
         elif self.supply_v > 0 and self.swing_pp >= self.supply_v:
@@ -96,16 +123,22 @@ class Spec:
             )
         if not self.low_cut_hz > 0:
             out.append(f"--low-cut: {self.low_cut_hz:g} Hz; expected a frequency above 0")
+        elif self.low_cut_hz > 1e6:
+            out.append(f"--low-cut: {self.low_cut_hz:g} Hz; expected at most 1 MHz")
         if self.min_rin_ohms is not None and not self.min_rin_ohms >= 0:
             out.append(f"--min-rin: {self.min_rin_ohms:g} Ω cannot be negative")
+        elif self.min_rin_ohms is not None and self.min_rin_ohms > 1e8:
+            out.append(f"--min-rin: {self.min_rin_ohms:g} Ω; no divider from 1 Ω…10 MΩ parts gets near it")
         if self.max_supply_a is not None and not self.max_supply_a > 0:
             out.append(f"--max-current: {self.max_supply_a:g} A must be positive")
         lo, hi = self.temp_range_c
         if not lo <= hi:
             out.append(f"--temp-range: {lo:g}..{hi:g} °C is empty")
+        elif lo < -55 or hi > 150:
+            out.append(f"--temp-range: {lo:g}..{hi:g} °C; small-signal parts are rated for -55…150 °C")
         if not 0 < self.max_thd <= 1:
             out.append(f"--max-thd: {self.max_thd:g}; expected a fraction above 0 and at most 1 (0.01 or 1%)")
-        if not 0 <= self.min_vce_v < max(self.supply_v, 0.0) or self.min_vce_v != self.min_vce_v:
+        if not 0 <= self.min_vce_v < max(self.supply_v, 0.0):
             out.append(f"--min-vce: {self.min_vce_v:g} V; expected at least 0 and below the supply")
         if not 1 <= self.max_parts_per_position <= 3:
             out.append(f"--depth: {self.max_parts_per_position}; expected 1, 2 or 3 parts per position")

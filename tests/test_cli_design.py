@@ -111,7 +111,7 @@ def test_build_refuses_when_stock_changed(drawer, tmp_path):
     line = json.loads(saved.read_text())["designs"][0]["uses"][0]["line"]
     assert drawerfit("--inventory", str(drawer), "count", str(line), "0").returncode == 0
     done = drawerfit("--inventory", str(drawer), "build", str(saved))
-    assert done.returncode == 3
+    assert done.returncode == 1  # refused by the drawer's state (README: exit codes)
     assert f"line {line}" in done.stderr
     done = drawerfit("--inventory", str(drawer), "build", str(saved), "--pick", "9")
     assert done.returncode == 2

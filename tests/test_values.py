@@ -15,7 +15,10 @@ from inventory.values import (
     format_si,
     parse_capacitance,
     parse_current,
+    parse_fraction,
+    parse_frequency,
     parse_number,
+    parse_temperature,
     parse_power,
     parse_resistance,
     parse_tolerance,
@@ -39,7 +42,7 @@ RESISTANCE_TYPED = [
     ("2r2", 2.2), ("0", 0.0), ("0R", 0.0), ("k47", 470.0), ("1.", 1.0), (".5k", 500.0),
 ]
 RESISTANCE_BAD = [
-    "4k7k", "", "   ", "-4k7", "abc", "1..2", "nan", "NaN", "inf", "1e3", "4E7", "4R7Ω", "4 k7",
+    "4k7k", "", "   ", "-4k7", "abc", "1..2", "nan", "NaN", "inf", "1e3k", "4R7Ω", "4 k7",
     "4.7k7", "k", "R", "m", "1kk", "4k7 ohm ohm", "+4k7", "4,7k", "٤k7", "1e999", "9" * 400,
 ]
 CAPACITANCE_TYPED = [
@@ -61,8 +64,31 @@ OTHER_BAD = [
     (parse_current, "A"), (parse_power, "0/4"), (parse_power, "1/0"), (parse_power, "1/4/2"),
     (parse_power, "1kW"), (parse_tolerance, "100%"), (parse_tolerance, "0%"), (parse_tolerance, "-5%"),
     (parse_tolerance, "%"), (parse_tolerance, "5%%"), (parse_number, "-1"), (parse_number, "1e999"),
-    (parse_number, "nan"), (parse_number, ""),
+    (parse_number, "nan"), (parse_number, ""), (parse_capacitance, "1e-400"), (parse_capacitance, "1e3u"),
+    (parse_frequency, "1e400"), (parse_frequency, "-30"), (parse_frequency, "30 kHzz"), (parse_fraction, "%"),
+    (parse_fraction, "-1%"), (parse_temperature, "-300"), (parse_temperature, "-273.15"),
+    (parse_temperature, "-inf"), (parse_temperature, "inf"), (parse_temperature, "nan"), (parse_temperature, "1e400"),
 ]
+# Exponent notation as scripts and spreadsheets write numbers (issue: `--cin 4.7e-06`, `--r1 1e3`).
+EXPONENT = [
+    (parse_resistance, "1e3", 1e3), (parse_resistance, "4E7", 4e7), (parse_resistance, "2.2E+4", 2.2e4),
+    (parse_resistance, "4.7e3 Ω", 4.7e3), (parse_capacitance, "4.7e-06", 4.7e-6), (parse_capacitance, "1E-7F", 1e-7),
+    (parse_voltage, "1.2e1", 12.0), (parse_current, "2e-3", 2e-3), (parse_power, "2.5e-1", 0.25),
+    (parse_number, "1e2", 100.0), (parse_frequency, "1.8e3", 1800.0),
+]
+# SI prefixes and RKM for every plain figure (issue: `--low-cut 1.8k`).
+PLAIN = [
+    (parse_number, "1.8k", 1800.0), (parse_number, "1k8", 1800.0), (parse_number, "100", 100.0),
+    (parse_number, "0", 0.0), (parse_frequency, "1.8k", 1800.0), (parse_frequency, "1.8 kHz", 1800.0),
+    (parse_frequency, "30Hz", 30.0), (parse_frequency, "30", 30.0), (parse_fraction, "1%", 0.01),
+    (parse_fraction, "0.01", 0.01), (parse_fraction, "2.5 %", 0.025), (parse_temperature, "-10", -10.0),
+    (parse_temperature, "25°C", 25.0), (parse_temperature, "+50", 50.0), (parse_temperature, "-2e1", -20.0),
+]
+
+
+@pytest.mark.parametrize(("parse", "text", "value"), EXPONENT + PLAIN)
+def test_exponent_and_prefix_spellings(parse, text, value):
+    assert parse(text) == pytest.approx(value, rel=1e-12)
 
 
 @pytest.mark.parametrize(("text", "ohms"), RKM_STANDARD + RESISTANCE_TYPED)

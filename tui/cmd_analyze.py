@@ -2,7 +2,8 @@
 
 Part options are the build-sheet positions in lower case; an omitted part is
 absent (an absent emitter resistor is a short, an absent CIN/COUT couples
-directly, an absent CE leaves RE2 unbypassed).  Exit 2 on bad input, naming the option.
+directly, an absent CE leaves RE2 unbypassed).  Exit 2 on bad input, naming the option, and on
+a stage the analysis cannot solve.
 """
 
 from __future__ import annotations
@@ -144,9 +145,10 @@ def run(args) -> int:
         return 2
     try:
         report = analyze(stage, swing)
-    except (RuntimeError, ValueError) as exc:  # no convergence, or a singular circuit
-        print(f"drawerfit analyze: this stage could not be solved ({exc})", file=sys.stderr)
-        return 1
+    except (RuntimeError, ValueError, ArithmeticError) as exc:  # no convergence, a singular circuit, overflow
+        # Exit 2: the values given describe a stage this analysis cannot take (README: exit codes).
+        print(f"drawerfit analyze: this stage could not be solved ({str(exc)[:160]})", file=sys.stderr)
+        return 2
     if args.netlist:
         try:
             # Drive the .tran source as the analysis did (its large-signal amplitude for the swing).

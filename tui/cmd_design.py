@@ -1,116 +1,122 @@
-"""`drawerfit design` (find the best stages from the drawer) and `drawerfit build` (take a saved design's parts).
+"""`drawerfit design`: find the stages the drawer can build that meet a specification.
 
-    drawerfit [--inventory F] design --topology T --gain G [--gain-tol 0.05] --supply V --load R
+    drawerfit [--inventory F] design --topology T --gain G [--gain-tol 5%] --supply V --load R
               [--source R] [--swing V] [--low-cut HZ] [--min-rin R] [--max-current A]
-              [--temp-range LO..HI] [--depth 1-3] [--top N] [--min-yield F] [--seed S]
-              [--no-hints] [--json] [--save FILE]
-    drawerfit [--inventory F] build FILE [--pick N] [--reason TEXT]
+              [--max-thd 1%] [--min-vce V] [--temp-range LO..HI] [--depth 1-3] [--top N]
+              [--min-yield F] [--seed S] [--prefer P] [--time-limit S] [--no-hints] [--json] [--save FILE]
 
-Exit codes (design): 0 designs found, 3 no design meets the spec, 2 bad input.
-Exit codes (build): 0 parts taken, 3 the drawer no longer holds the saved design's
-parts (a line changed identity or has too few), 2 bad input (file, --pick).
+Exit codes: 0 designs found (optimal or not), 3 proven that nothing in the drawer meets the
+spec, 4 nothing found within the time limit (not proven impossible), 2 bad input.
+Every value takes the drawer file's spellings (RKM, SI prefixes, exponents): 1.8k, 4k7, 4.7e-6.
 """
 
 from __future__ import annotations
 
 import hashlib
 import json
+import math
 import sys
 from pathlib import Path
 
 from inventory.atomic import atomic_write
-from inventory.drawer import Drawer
-from inventory.edits import StockError, StoreError
-from inventory.locate import InventoryNotFound, find_inventory
 from inventory.rows import identity_key
-from inventory.store import Store
-from inventory.values import ValueFormatError, parse_current, parse_number, parse_resistance, parse_voltage
-from optimizer.spec import Spec
+from inventory.values import (
+    parse_current, parse_fraction, parse_frequency, parse_number, parse_resistance, parse_temperature,
+    parse_voltage,
+)
+from optimizer.spec import DEFAULT_MAX_THD, DEFAULT_MIN_VCE_V, Spec
 from optimizer.stage import TOPOLOGIES
 
-from . import sheet_text
+from . import cmd_build
+from .cmd_common import InputError, drawer_path, load_drawer, say, value, whole
 
-
-class InputError(Exception):
-    """Bad command-line input; the message names the option."""
+EXIT_FOUND, EXIT_INFEASIBLE, EXIT_UNPROVEN = 0, 3, 4
+# Mirrors optimizer.select (PREFERENCES, DEFAULT_PREFER, DEFAULT_TIME_LIMIT_S) so that `--help` does not
+# load the solver; tests/test_cli_design_options.py checks that the two agree.
+PREFERENCES = ("balanced", "parts", "clean", "robust", "frugal")
+DEFAULT_PREFER = "balanced"
+DEFAULT_TIME_LIMIT_S = 10.0
+MAX_TIME_LIMIT_S = 24 * 3600.0
 
 
 def register(sub) -> None:
     p = sub.add_parser("design", help="find the best stages buildable from the drawer",
                        description="Find the stages that meet the spec at both ends of the transistor's hFE "
-                                   "range using only the parts on hand.  Values as on the parts: 22k, 4k7, 12V.")
+                                   "range and of the temperature range, using only the parts on hand.  "
+                                   "Values as on the parts: 22k, 4k7, 12V, 1.8k, 4.7e-6.")
     p.add_argument("--topology", default="common-emitter", choices=TOPOLOGIES)
     p.add_argument("--gain", required=True, help="gain magnitude (a common emitter reports it negative)")
-    p.add_argument("--gain-tol", default="0.05", help="allowed gain error, fraction (default 0.05 = ±5 %%)")
+    p.add_argument("--gain-tol", default="0.05", help="allowed gain error: 5%% or 0.05 (default ±5 %%)")
     p.add_argument("--supply", default="12", metavar="VOLTS", help="supply voltage (default 12 V)")
     p.add_argument("--load", default="22k", metavar="OHMS", help="load resistance (default 22k)")
     p.add_argument("--source", default="0", metavar="OHMS", help="source resistance (default 0)")
     p.add_argument("--swing", default="1", metavar="VOLTS", help="clip-free swing at the load, V p-p (default 1)")
-    p.add_argument("--low-cut", default="100", metavar="HZ", help="low cut-off at or below this (default 100 Hz)")
-    p.add_argument("--min-rin", default="0", metavar="OHMS", help="minimum input resistance (default 0)")
+    p.add_argument("--low-cut", default="100", metavar="HZ", help="low cut-off at or below this, e.g. 30 or "
+                                                                  "1.8k (default 100 Hz)")
+    p.add_argument("--min-rin", metavar="OHMS", help="minimum input resistance (default: 10 × the source, "
+                                                     "at least 1k)")
     p.add_argument("--max-current", metavar="AMPS", help="largest supply current allowed (e.g. 5m)")
-    p.add_argument("--temp-range", default="0..50", metavar="LO..HI", help="°C for the Monte Carlo (default 0..50)")
+    p.add_argument("--max-thd", default=f"{100 * DEFAULT_MAX_THD:g}%", metavar="THD",
+                   help=f"largest THD at the swing: 1%% or 0.01 (default {DEFAULT_MAX_THD:.0%})")
+    p.add_argument("--min-vce", default=f"{DEFAULT_MIN_VCE_V:g}", metavar="VOLTS",
+                   help=f"least quiescent VCE at every corner (default {DEFAULT_MIN_VCE_V:g} V)")
+    p.add_argument("--temp-range", default="0..50", metavar="LO..HI",
+                   help="°C range the design must hold over (default 0..50; 27..27 = room only)")
     p.add_argument("--depth", default="3", help="most parts per position, 1-3 (default 3)")
     p.add_argument("--top", default="3", help="how many distinct designs (default 3)")
-    p.add_argument("--min-yield", metavar="F", help="least Monte Carlo yield a design must have (0..1)")
+    p.add_argument("--min-yield", metavar="F", help="least Monte Carlo yield a design must have: 90%% or 0.9")
     p.add_argument("--seed", default="1", help="Monte Carlo seed (default 1)")
+    p.add_argument("--prefer", default=DEFAULT_PREFER, choices=PREFERENCES,
+                   help=f"which of the trade-off set comes first (default {DEFAULT_PREFER})")
+    p.add_argument("--time-limit", default=f"{DEFAULT_TIME_LIMIT_S:g}", metavar="SECONDS",
+                   help=f"stop searching after this long and show the best so far (default {DEFAULT_TIME_LIMIT_S:g} s)")
     p.add_argument("--no-hints", action="store_true", help="skip the shopping hints when nothing fits")
     p.add_argument("--json", action="store_true", help="print the result document as JSON")
     p.add_argument("--save", metavar="FILE", help="also write the result (with spec and stock fingerprint) here")
     p.set_defaults(handler=run_design)
-
-    b = sub.add_parser("build", help="take a saved design's parts out of the drawer",
-                       description="Mark the parts of a design saved with `design --save` as used "
-                                   "(one journal entry; `drawerfit undo` puts them back).")
-    b.add_argument("file", metavar="FILE")
-    b.add_argument("--pick", default="1", help="which design of the file (1 = the best)")
-    b.add_argument("--reason", default="", help="note for the journal")
-    b.set_defaults(handler=run_build)
+    cmd_build.register(sub)
 
 
-def _num(args, name, parse, flag):
-    text = getattr(args, name)
-    try:
-        return parse(str(text))
-    except (ValueFormatError, ValueError) as exc:
-        raise InputError(f"--{flag}: {exc}") from None
-
-
-def _int(args, name, flag, lo, hi):
-    try:
-        v = int(str(getattr(args, name)))
-    except ValueError:
-        raise InputError(f"--{flag}: {getattr(args, name)!r} is not a whole number") from None
-    if not lo <= v <= hi:
-        raise InputError(f"--{flag}: {v} is outside {lo}..{hi}")
-    return v
+def _temp_range(text: str) -> tuple[float, float]:
+    lo, sep, hi = str(text).strip().partition("..")
+    if not sep:
+        raise InputError(f"--temp-range: {text!r}; expected LO..HI in °C, e.g. 0..50")
+    return (value(lo, parse_temperature, "temp-range"), value(hi, parse_temperature, "temp-range"))
 
 
 def spec_from(args) -> Spec:
-    lo_hi = str(args.temp_range).split("..")
-    if len(lo_hi) != 2:
-        raise InputError(f"--temp-range: {args.temp_range!r}; expected LO..HI in °C, e.g. 0..50")
-    try:
-        temp = (float(lo_hi[0]), float(lo_hi[1]))
-    except ValueError:
-        raise InputError(f"--temp-range: {args.temp_range!r}; expected LO..HI in °C, e.g. 0..50") from None
+    """The Spec the options describe; InputError naming the option for text that is no value."""
     return Spec(
         topology=args.topology,
-        gain=_num(args, "gain", parse_number, "gain"),
-        gain_tol=_num(args, "gain_tol", parse_number, "gain-tol"),
-        supply_v=_num(args, "supply", parse_voltage, "supply"),
-        load_ohms=_num(args, "load", parse_resistance, "load"),
-        source_ohms=_num(args, "source", lambda t: 0.0 if t.strip() == "0" else parse_resistance(t), "source"),
-        swing_pp=_num(args, "swing", parse_voltage, "swing"),
-        low_cut_hz=_num(args, "low_cut", parse_number, "low-cut"),
-        min_rin_ohms=_num(args, "min_rin", lambda t: 0.0 if t.strip() == "0" else parse_resistance(t), "min-rin"),
-        max_supply_a=None if args.max_current is None else _num(args, "max_current", parse_current, "max-current"),
-        temp_range_c=temp,
-        max_parts_per_position=_int(args, "depth", "depth", 1, 3),
+        gain=value(args.gain, parse_number, "gain"),
+        gain_tol=value(args.gain_tol, parse_fraction, "gain-tol"),
+        supply_v=value(args.supply, parse_voltage, "supply"),
+        load_ohms=value(args.load, parse_resistance, "load"),
+        source_ohms=value(args.source, parse_resistance, "source"),  # "0" is an ideal voltage source
+        swing_pp=value(args.swing, parse_voltage, "swing"),
+        low_cut_hz=value(args.low_cut, parse_frequency, "low-cut"),
+        min_rin_ohms=value(args.min_rin, parse_resistance, "min-rin"),
+        max_supply_a=value(args.max_current, parse_current, "max-current"),
+        temp_range_c=_temp_range(args.temp_range),
+        max_parts_per_position=whole(args.depth, "depth", 1, 3),
+        max_thd=value(args.max_thd, parse_fraction, "max-thd"),
+        min_vce_v=value(args.min_vce, parse_voltage, "min-vce"),
     )
 
 
-def fingerprint(drawer: Drawer, lines) -> dict:
+def options_from(args) -> dict:
+    """Solver options other than the spec (top, yield, seed, preference, time limit)."""
+    min_yield = value(args.min_yield, parse_fraction, "min-yield")
+    if min_yield is not None and not 0 <= min_yield <= 1:
+        raise InputError(f"--min-yield: {min_yield:g}; expected a share between 0 and 1 (e.g. 90% or 0.9)")
+    limit = value(args.time_limit, parse_number, "time-limit")
+    if not 0 < limit <= MAX_TIME_LIMIT_S:
+        raise InputError(f"--time-limit: {args.time_limit!r}; expected seconds above 0 and at most a day")
+    return {"top": whole(args.top, "top", 1, 20), "min_yield": min_yield,
+            "seed": whole(args.seed, "seed", 0, 2**31 - 1), "prefer": args.prefer, "time_limit_s": limit}
+
+
+def fingerprint(drawer, lines) -> dict:
     """Identity and count of each used line, and a digest of them, to re-check before a build."""
     out = {}
     for line in sorted(set(lines)):
@@ -121,35 +127,25 @@ def fingerprint(drawer: Drawer, lines) -> dict:
 
 
 def run_design(args) -> int:
-    from optimizer.select import find_designs  # OR-Tools and scipy load only for a design
-
     try:
         spec = spec_from(args)
-        top = _int(args, "top", "top", 1, 20)
-        min_yield = None if args.min_yield is None else _num(args, "min_yield", parse_number, "min-yield")
-        seed = _int(args, "seed", "seed", 0, 2**31 - 1)
-        if min_yield is not None and not 0 <= min_yield <= 1:
-            raise InputError(f"--min-yield: {min_yield:g}; expected a fraction between 0 and 1")
+        opts = options_from(args)
+        problems = spec.problems()
+        if problems:
+            say("; ".join(problems))  # one line, each part naming its option
+            return 2
+        path = drawer_path(getattr(args, "inventory", None))
+        drawer = load_drawer(path)
     except InputError as exc:
-        print(f"drawerfit: {exc}", file=sys.stderr)
+        say(str(exc))
         return 2
-    problems = spec.problems()
-    if problems:
-        for msg in problems:
-            print(f"drawerfit: {msg}", file=sys.stderr)
-        return 2
-    try:
-        path, message = find_inventory(getattr(args, "inventory", None))
-    except InventoryNotFound as exc:
-        print(f"drawerfit: {exc}", file=sys.stderr)
-        return 2
-    if message:
-        print(f"drawerfit: {message}", file=sys.stderr)
-    drawer = Drawer.load(path)
-    for prob in drawer.errors if isinstance(drawer.errors, list) else drawer.errors():
-        print(f"drawerfit: warning: {prob} (line left out)", file=sys.stderr)
-    doc = find_designs(drawer, spec, top=top, depth=spec.max_parts_per_position, min_yield=min_yield,
-                       hints=not args.no_hints, seed=seed)
+    for prob in drawer.errors:
+        say(f"warning: {prob} (line left out)")
+    from optimizer.select import find_designs  # OR-Tools and scipy load only for a design
+
+    with _progress_bar() as progress:
+        doc = find_designs(drawer, spec, depth=spec.max_parts_per_position, hints=not args.no_hints,
+                           progress=progress, **opts)
     doc["inventory"] = str(path)
     if args.save:
         saved = dict(doc)
@@ -157,62 +153,95 @@ def run_design(args) -> int:
         try:
             atomic_write(Path(args.save), (json.dumps(saved, indent=1) + "\n").encode())
         except OSError as exc:
-            print(f"drawerfit: --save {args.save}: {exc}", file=sys.stderr)
+            say(f"--save {args.save}: {exc.strerror or exc}")
             return 2
     if args.json:
         print(json.dumps(doc))
-    elif doc["designs"]:
-        print(sheet_text.table(doc))
-        print()
-        print(sheet_text.sheet(doc["designs"][0], doc.get("spec")))
-        for w in doc.get("why", []):
-            print(f"note: {w}")
     else:
-        print(sheet_text.reasons(doc))
-    return 0 if doc["designs"] else 3
+        print(human(doc, spec))
+    return exit_code(doc)
 
 
-def run_build(args) -> int:
-    try:
-        doc = json.loads(Path(args.file).read_text(encoding="utf-8"))
-        designs = doc["designs"]
-        pick = int(args.pick)
-    except (OSError, ValueError, KeyError, TypeError) as exc:
-        print(f"drawerfit: {args.file}: not a saved design file ({exc})", file=sys.stderr)
-        return 2
-    if not 1 <= pick <= len(designs):
-        print(f"drawerfit: --pick: {args.pick}; {args.file} holds {len(designs)} design(s)", file=sys.stderr)
-        return 2
-    try:
-        path, message = find_inventory(getattr(args, "inventory", None) or doc.get("inventory"))
-    except InventoryNotFound as exc:
-        print(f"drawerfit: {exc}", file=sys.stderr)
-        return 2
-    drawer = Drawer.load(path)
-    uses = designs[pick - 1]["uses"]
-    saved = (doc.get("fingerprint") or {}).get("lines", {})
-    changed = []
-    for u in uses:
-        part = drawer.part_at(int(u["line"]))
-        was = saved.get(str(u["line"]))
-        if part is None or (was and list(identity_key(part.identity)) != was["identity"]):
-            changed.append(f"line {u['line']} no longer holds the part the design was made with")
-        elif part.qty < int(u["qty"]):
-            changed.append(f"line {u['line']} has {part.qty} left, the design needs {u['qty']}")
-    if changed:
-        print(f"drawerfit: {path} changed since {args.file} was saved; not building:", file=sys.stderr)
-        for c in changed:
-            print(f"  {c}", file=sys.stderr)
-        return 3
-    try:
-        entry = Store(path).take([(int(u["line"]), int(u["qty"])) for u in uses],
-                                 args.reason or f"build design {pick} of {Path(args.file).name}")
-    except StockError as exc:
-        print(f"drawerfit: {exc}", file=sys.stderr)
-        return 3
-    except (StoreError, OSError) as exc:
-        print(f"drawerfit: {exc}", file=sys.stderr)
-        return 2
-    print(f"took {sum(int(u['qty']) for u in uses)} parts from {path} (change {getattr(entry, 'id', '?')}; "
-          "`drawerfit undo` puts them back)")
-    return 0
+def exit_code(doc: dict) -> int:
+    if doc.get("designs"):
+        return EXIT_FOUND
+    return EXIT_INFEASIBLE if doc.get("status") == "infeasible" else EXIT_UNPROVEN
+
+
+def human(doc: dict, spec: Spec) -> str:
+    """The table, the preferred design's build sheet, and the defaults that were applied."""
+    from . import sheet_text
+
+    floor = f"input resistance floor: Rin ≥ {spec.rin_floor:,.0f} Ω" + (
+        " (default: 10 × the source, at least 1 kΩ)" if spec.rin_floor_is_default else " (--min-rin)")
+    out = [floor]
+    status = doc.get("status")
+    if doc.get("designs"):
+        out.append(sheet_text.table(doc))
+        out += [f"  #{i}: {line}" for i, d in enumerate(doc["designs"], 1) if (line := _trade(d))]
+        if not doc.get("optimal", True):
+            out.append("not proven optimal within the time limit"
+                       + (f"; unexplored: {_short(doc['unexplored'])}" if doc.get("unexplored") else ""))
+        spec_doc = dict(doc.get("spec") or {})
+        spec_doc["min_rin_ohms"] = spec.rin_floor  # the sheet prints the floor actually applied
+        out += ["", sheet_text.sheet(doc["designs"][0], spec_doc)]
+        out += [f"note: {w}" for w in doc.get("why", [])]
+    else:
+        out.append(sheet_text.reasons(doc))
+        if status != "infeasible":
+            out.append("nothing found within the time limit, and not proven impossible: "
+                       "try a longer --time-limit or a smaller --depth")
+    return "\n".join(out)
+
+
+def _trade(design: dict) -> str:
+    """"best for: cleanest; THD 0.4 %, robustness 0.12, 1.9 mA" from the keys that are present."""
+    score = design.get("score") or {}
+    bits = []
+    if design.get("best_for"):
+        bits.append("best for: " + ", ".join(map(str, design["best_for"])))
+    figures = []
+    if _finite(score.get("thd")):
+        figures.append(f"THD {100 * score['thd']:.2f} %")
+    if _finite(score.get("robustness")):
+        figures.append(f"robustness {score['robustness']:.3g}")
+    if _finite(score.get("supply_a")):
+        figures.append(f"supply {1e3 * score['supply_a']:.3g} mA")
+    if figures:
+        bits.append(", ".join(figures))
+    return "; ".join(bits)
+
+
+def _finite(x) -> bool:
+    return isinstance(x, (int, float)) and not isinstance(x, bool) and math.isfinite(x)
+
+
+def _short(x) -> str:
+    text = x if isinstance(x, str) else json.dumps(x)
+    return text if len(text) <= 160 else text[:157] + "..."
+
+
+class _progress_bar:
+    """A `progress(fraction, text)` callback drawing a bar on stderr when stderr is a terminal, else None."""
+
+    def __enter__(self):
+        if not sys.stderr.isatty():
+            return None
+        from rich.console import Console
+        from rich.progress import BarColumn, Progress, TextColumn, TimeElapsedColumn
+
+        self.bar = Progress(TextColumn("searching"), BarColumn(), TextColumn("{task.percentage:>3.0f} %"),
+                            TimeElapsedColumn(), TextColumn("{task.description}"),
+                            console=Console(stderr=True), transient=True)
+        self.bar.start()
+        task = self.bar.add_task("", total=1.0)
+
+        def progress(fraction: float, text: str = "") -> None:
+            if _finite(fraction):
+                self.bar.update(task, completed=min(max(float(fraction), 0.0), 1.0), description=str(text)[:60])
+
+        return progress
+
+    def __exit__(self, *exc) -> None:
+        if getattr(self, "bar", None) is not None:
+            self.bar.stop()

@@ -30,7 +30,7 @@ from inventory.parts import DIELECTRICS, KINDS
 from inventory.store import Store
 
 from . import cmd_drawer_list
-from .cmd_drawer_list import InputError
+from .cmd_common import InputError
 
 
 def _guarded(fn):
@@ -40,6 +40,8 @@ def _guarded(fn):
     def run(args) -> int:
         try:
             return fn(args)
+        except BrokenPipeError:
+            raise  # the reader left: tui.cli exits quietly
         except (StockError, ConflictError, NothingToUndo) as exc:
             print(f"drawerfit: {exc}", file=sys.stderr)
             return 1
@@ -147,7 +149,11 @@ def _cell_fields(args) -> dict[str, str]:
 # ---- check ----------------------------------------------------------------------------
 
 def run_check(args) -> int:
-    drawer = Drawer.load(_path(args))
+    path = _path(args)
+    try:
+        drawer = Drawer.load(path)
+    except OSError as exc:
+        raise InputError(f"{path}: cannot read the drawer file ({exc.strerror or exc})") from None
     for problem in drawer.problems:
         print(problem)
     n_err, n_warn = len(drawer.errors), len(drawer.warnings)
@@ -239,6 +245,9 @@ def run_undo(args) -> int:
 def run_history(args) -> int:
     store = Store(_path(args))
     entries = store.history()
+    if store.journal.skipped:
+        print(f"drawerfit: warning: {store.journal.skipped} line(s) of {store.journal.path} are not journal "
+              "entries (torn or edited by hand); left out", file=sys.stderr)
     if args.last is not None:
         entries = entries[-args.last:] if args.last > 0 else []
     if args.json:

@@ -1,0 +1,303 @@
+"""Regression tests: nothing a user stocks, types or pipes crashes the command line.  Invented fixtures.
+
+Each test names the finding it pins (numbers as in the reliability issue).
+"""
+
+from __future__ import annotations
+
+import json
+import os
+import subprocess
+import sys
+from pathlib import Path
+
+import pytest
+
+from inventory.drawer import Drawer
+from inventory.journal import journal_path
+from tui.cli import main
+
+GOOD = (b"kind,value,qty,tolerance,voltage,dielectric,part,polarity,hfe_min,hfe_max,location\n"
+        b"resistor,4k7,10,1%,,,,,,,A1\nresistor,0R,5,,,,,,,,A0\nresistor,470k,2,,,,,,,,A2\n"
+        b"capacitor,100n,5,,50V,x7r,,,,,B1\ntransistor,,3,,,,BC547B,NPN,200,450,C1\n")
+
+
+@pytest.fixture
+def drawer(tmp_path, monkeypatch) -> Path:
+    monkeypatch.chdir(tmp_path)
+    monkeypatch.delenv("DRAWERFIT_INVENTORY", raising=False)
+    path = tmp_path / "drawer.csv"
+    path.write_bytes(GOOD)
+    return path
+
+
+def run(*argv: str) -> int:
+    return main(list(argv))
+
+
+# 1. A 0R link is a legal part: `check` accepts it, the solver's stock leaves it out, design answers.
+def test_zero_ohm_link_is_kept_out_of_the_solver_stock(drawer, capsys):
+    d = Drawer.load(drawer)
+    assert run("check") == 0
+    assert 0.0 in [p.value for p in d.parts]
+    stock = d.resistor_stock()
+    assert list(stock.line) == [2, 4] and (stock.ohms > 0).all()
+
+
+def test_design_with_a_zero_ohm_link_does_not_crash(drawer, capsys):
+    code = run("--inventory", str(drawer), "design", "--gain", "5", "--depth", "1", "--no-hints", "--json",
+               "--time-limit", "5")
+    out = capsys.readouterr()
+    assert code in (0, 3, 4), out.err
+    assert "Traceback" not in out.err and "internal error" not in out.err
+    assert isinstance(json.loads(out.out)["designs"], list)
+
+
+def test_analyze_with_a_zero_ohm_emitter_resistor(capsys):
+    # A 0R at RE1 is a wire: the position is absent (README: analyze).
+    code = run("analyze", "--topology", "common-emitter", "--r1", "47k", "--r2", "10k", "--rc", "4k7",
+               "--re1", "0R", "--re2", "1k", "--ce", "100u", "--json")
+    out = capsys.readouterr()
+    assert code == 0, out.err
+    assert json.loads(out.out)["predicted"]["gain"] < 0
+
+
+# 6. and 15. Exponent notation and SI prefixes wherever a figure is read.
+def test_exponent_and_prefix_spellings_on_the_command_line(capsys):
+    base = ["analyze", "--topology", "common-emitter", "--r2", "10k", "--rc", "4k7", "--re1", "1k",
+            "--supply", "12", "--json"]
+    assert run(*base, "--r1", "47k", "--cin", "4u7") == 0
+    plain = json.loads(capsys.readouterr().out)["predicted"]
+    assert run(*base, "--r1", "4.7e4", "--cin", "4.7e-06") == 0
+    expo = json.loads(capsys.readouterr().out)["predicted"]
+    assert expo == plain
+
+
+def test_drawer_file_in_exponent_notation_keeps_its_spelling(drawer, capsys):
+    data = drawer.read_bytes() + b"resistor,2.2e3,4,,,,,,,,A3\n"
+    drawer.write_bytes(data)
+    d = Drawer.load(drawer)
+    assert d.part_at(7).value == 2200.0 and not d.errors
+    assert run("count", "2", "-1") == 0  # another line changes; this one keeps its bytes
+    assert b"resistor,2.2e3,4,,,,,,,,A3\n" in drawer.read_bytes()
+
+
+def test_low_cut_takes_si_prefixes(drawer, capsys):
+    # The issue's `--low-cut 1.8k` was refused as "not a number"; --time-limit 0 is refused after it
+    # is read, so no search runs.
+    assert run("design", "--gain", "5", "--low-cut", "1.8k", "--time-limit", "0") == 2
+    err = capsys.readouterr().err
+    assert "--time-limit" in err and "--low-cut" not in err
+
+
+# 16. Nonsense: a message naming the option, exit 2, no search.
+@pytest.mark.parametrize(("args", "flag"), [
+    (["--temp-range", "-300..-280"], "--temp-range"),
+    (["--temp-range", "-inf..inf"], "--temp-range"),
+    (["--temp-range", "50..0"], "--temp-range"),
+    (["--temp-range", "-80..20"], "--temp-range"),
+    (["--depth", "two"], "--depth"),
+    (["--gain", "1e-6"], "--gain"),
+    (["--gain", "nan"], "--gain"),
+    (["--gain-tol", "1e-9"], "--gain-tol"),
+    (["--source", "1000M"], "--source"),
+    (["--load", "0R01"], "--load"),
+    (["--max-thd", "150%"], "--max-thd"),
+    (["--max-thd", "abc"], "--max-thd"),
+    (["--min-vce", "20"], "--min-vce"),
+    (["--prefer", "cheap"], "--prefer"),
+    (["--time-limit", "inf"], "--time-limit"),
+    (["--time-limit", "-1"], "--time-limit"),
+    (["--min-yield", "2"], "--min-yield"),
+    (["--low-cut", "1e400"], "--low-cut"),
+])
+def test_nonsense_names_the_option(drawer, capsys, args, flag):
+    assert run("design", "--gain", "5", *args) == 2
+    err = capsys.readouterr().err
+    assert flag in err and "Traceback" not in err
+    assert len(err.strip().splitlines()) == 1
+
+
+# 3. Every command piped into `head` exits 0 or 141 quietly.
+@pytest.mark.parametrize("argv", [
+    ["list", "--json"], ["list"], ["history", "--json"], ["check"],
+    ["analyze", "--topology", "common-emitter", "--r1", "47k", "--r2", "10k", "--rc", "4k7", "--re1", "1k",
+     "--json"],
+])
+def test_closed_pipe_exits_quietly(drawer, argv):
+    for i in range(40):  # enough history that `history --json` outgrows a pipe buffer
+        assert main(["count", "2", str(i % 9 + 1)]) == 0 if argv[0] == "history" else True
+    env = {**os.environ, "PYTHONPATH": str(Path(__file__).resolve().parents[1])}
+    cmd = [sys.executable, "-m", "tui", "--inventory", str(drawer), *argv]
+    pipe = subprocess.run(f"{_quote(cmd)} | head -c 1 >/dev/null; echo ${{PIPESTATUS[0]}}", shell=True,
+                          executable="/bin/bash", capture_output=True, text=True, env=env, timeout=120)
+    assert pipe.stdout.strip() in ("0", "141"), pipe.stderr
+    assert "Traceback" not in pipe.stderr and "Error" not in pipe.stderr
+
+
+def _quote(cmd):
+    import shlex
+
+    return " ".join(shlex.quote(c) for c in cmd)
+
+
+def test_broken_pipe_in_process_is_exit_141(drawer, monkeypatch):
+    import tui.cmd_drawer_list as listing
+
+    def closed(*a, **k):
+        raise BrokenPipeError(32, "Broken pipe")
+
+    monkeypatch.setattr(listing, "_table", closed)
+    assert main(["list"]) == 141
+
+
+# Ctrl-C during any command: exit 130, one line, the drawer untouched.
+def test_ctrl_c_exits_130_with_one_line(drawer, monkeypatch, capsys):
+    import optimizer.select
+
+    def interrupted(*a, **k):
+        raise KeyboardInterrupt
+
+    monkeypatch.setattr(optimizer.select, "find_designs", interrupted)
+    before = drawer.read_bytes()
+    assert main(["design", "--gain", "5"]) == 130
+    err = capsys.readouterr().err.strip()
+    assert len(err.splitlines()) == 1 and "interrupted" in err
+    assert drawer.read_bytes() == before
+
+
+def test_ctrl_c_during_a_real_design_subprocess(drawer):
+    import signal
+    import time
+
+    big = GOOD + b"".join(b"resistor,%dR,3,,,,,,,,X%d\n" % (10 + 7 * i, i) for i in range(60))
+    drawer.write_bytes(big)
+    env = {**os.environ, "PYTHONPATH": str(Path(__file__).resolve().parents[1])}
+    proc = subprocess.Popen([sys.executable, "-m", "tui", "--inventory", str(drawer), "design", "--gain", "20",
+                             "--time-limit", "30"], stdout=subprocess.PIPE, stderr=subprocess.PIPE, env=env)
+    time.sleep(1.5)
+    proc.send_signal(signal.SIGINT)
+    out, err = proc.communicate(timeout=30)
+    assert proc.returncode in (0, 3, 4, 130), err
+    assert b"Traceback" not in err
+    if proc.returncode == 130:
+        assert len(err.decode().strip().splitlines()) == 1
+    assert drawer.read_bytes() == big
+
+
+# 10. An unreadable drawer file: a clear message, exit 2.
+@pytest.mark.parametrize("argv", [["design", "--gain", "5"], ["list"], ["check"], ["count", "2", "+1"]])
+def test_unreadable_drawer_is_exit_2(drawer, monkeypatch, capsys, argv):
+    real = Path.read_bytes
+
+    def denied(self):
+        if self.name == "drawer.csv":
+            raise PermissionError(13, "Permission denied", str(self))
+        return real(self)
+
+    monkeypatch.setattr(Path, "read_bytes", denied)
+    assert main(argv) == 2
+    err = capsys.readouterr().err
+    assert "drawer.csv" in err and "Permission denied" in err and "Traceback" not in err
+
+
+# 12. Binary and UTF-16 drawers are refused, untouched.
+@pytest.mark.parametrize("data", [
+    "kind,value,qty\nresistor,1k,1\n".encode("utf-16"),
+    "kind,value,qty\nresistor,1k,1\n".encode("utf-16-le"),
+    bytes(range(256)) * 20,
+    b"\x89PNG\r\n\x1a\n" + bytes(200),
+    "kind,value,qty\n".encode() + "résistor,1k,1\n".encode("latin-1") * 200,
+])
+@pytest.mark.parametrize("argv", [["add", "resistor", "1k", "--qty", "1"], ["remove", "2"], ["count", "2", "5"],
+                                  ["list"], ["design", "--gain", "5"]])
+def test_not_a_utf8_csv_is_refused_untouched(drawer, capsys, data, argv):
+    drawer.write_bytes(data)
+    assert main(argv) == 2
+    assert drawer.read_bytes() == data
+    assert not journal_path(drawer).exists()
+    err = capsys.readouterr().err
+    assert "Traceback" not in err and "drawer.csv" in err
+
+
+def test_utf8_with_bom_is_accepted(drawer):
+    drawer.write_bytes(b"\xef\xbb\xbf" + GOOD)
+    assert main(["count", "2", "+1"]) == 0
+    assert drawer.read_bytes().startswith(b"\xef\xbb\xbf")
+
+
+# 11. A journal line of an odd shape must not crash undo or history.
+ODD_LINES = [
+    b"[1, 2, 3]", b'"text"', b"42", b"null", b'{"id": "x", "time": 1, "action": "count"}',
+    b'{"id": 1, "time": "t", "action": "count", "changes": "abc"}',
+    b'{"id": 1, "time": "t", "action": "count", "changes": [1, 2]}',
+    b'{"id": 1, "time": "t", "action": "count", "changes": [{"line": "x"}]}',
+    b'{"id": 1, "time": "t", "action": "count", "undoes": "x", "changes": []}',
+    b'{"id": 1, "time": "t", "action": "count", "changes": [{"line": 2, "index": 1, "identity": null, "row": {},'
+    b' "raw_before": "", "raw_after": "", "qty_before": 1, "qty_after": 2, "header": true}]}',
+    b'{"id": 1, "time": "t", "action": "count", "changes": [{"line": 2, "index": 1, "identity": [1], "row": {},'
+    b' "raw_before": "x", "raw_after": "y", "qty_before": 1, "qty_after": 2}]}',
+    b'{"id": 1, "time": "t", "action": "add", "changes": [{"line": 2, "index": -5, "identity": null, "row": {},'
+    b' "raw_before": null, "raw_after": "", "qty_before": null, "qty_after": null}]}',
+    b'{"id": 1, "time": "t", "action": "remove", "changes": [{"line": 2, "index": 99, "identity": null,'
+    b' "row": {}, "raw_before": "garbage\\n", "raw_after": null, "qty_before": null, "qty_after": null}]}',
+    b"\xff\xfe\x00", b"{" * 100_000,
+]
+
+
+@pytest.mark.parametrize("odd", ODD_LINES)
+def test_odd_journal_lines_never_crash_undo_or_history(drawer, capsys, odd):
+    journal_path(drawer).write_bytes(odd + b"\n")
+    before = drawer.read_bytes()
+    assert main(["history"]) == 0
+    assert main(["history", "--json"]) == 0
+    code = main(["undo"])
+    err = capsys.readouterr().err
+    assert code in (0, 1, 2) and "Traceback" not in err and "internal error" not in err
+    if code != 0:
+        assert drawer.read_bytes() == before
+
+
+def test_journal_of_odd_shape_then_a_real_change_undoes(drawer, capsys):
+    journal_path(drawer).write_bytes(b"[1]\n")
+    assert main(["count", "2", "7"]) == 0
+    assert main(["undo"]) == 0
+    assert drawer.read_bytes() == GOOD
+    assert main(["history"]) == 0
+    assert "not journal entries" in capsys.readouterr().err
+
+
+# The README names every option `add --help` has (it once claimed `add --part`).
+def test_readme_add_options_match_add_help(capsys):
+    readme = (Path(__file__).resolve().parents[1] / "README.md").read_text()
+    row = next(line for line in readme.splitlines() if "`drawerfit [--inventory F] add " in line)
+    import re
+
+    named = set(re.findall(r"(--[a-z][a-z-]*)", row.split("|")[1])) - {"--inventory"}
+    assert main(["add", "--help"]) == 0
+    help_text = capsys.readouterr().out
+    missing = [flag for flag in sorted(named) if flag not in help_text]
+    assert not missing, missing
+
+
+def test_every_subcommand_is_in_the_lazy_registration_table():
+    import argparse
+
+    from tui.cli import FAMILIES, build_parser
+
+    parser = build_parser()
+    sub = next(a for a in parser._actions if isinstance(a, argparse._SubParsersAction))
+    assert set(sub.choices) == set(FAMILIES)
+    for name, family in FAMILIES.items():  # registering one family gives that command
+        one = build_parser(name)
+        sub = next(a for a in one._actions if isinstance(a, argparse._SubParsersAction))
+        assert name in sub.choices
+
+
+def test_drawer_commands_do_not_load_the_physics():
+    code = ("import sys; from tui.cli import main; main(['--inventory', sys.argv[1], 'list']); "
+            "print(sorted(m for m in ('scipy', 'ortools', 'pandas', 'textual') if m in sys.modules))")
+    demo = Path(__file__).resolve().parents[1] / "inventory" / "demo" / "drawer.csv"
+    done = subprocess.run([sys.executable, "-c", code, str(demo)], capture_output=True, text=True, timeout=120,
+                          cwd=Path(__file__).resolve().parents[1])
+    assert done.stdout.strip().splitlines()[-1] == "[]", done.stderr
