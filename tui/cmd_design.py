@@ -21,21 +21,32 @@ from pathlib import Path
 from inventory.atomic import atomic_write
 from inventory.rows import identity_key
 from inventory.values import (
-    parse_current, parse_fraction, parse_frequency, parse_number, parse_resistance, parse_temperature,
+    format_resistance,
+    parse_current,
+    parse_fraction,
+    parse_frequency,
+    parse_number,
+    parse_resistance,
+    parse_temperature,
     parse_voltage,
 )
-from optimizer.spec import DEFAULT_MAX_THD, DEFAULT_MIN_VCE_V, Spec
+from optimizer.spec import (
+    DEFAULT_DEPTH,
+    DEFAULT_MAX_THD,
+    DEFAULT_MIN_VCE_V,
+    DEFAULT_PREFER,
+    DEFAULT_TIME_LIMIT_S,
+    DEFAULT_TOP,
+    PREFERENCES,
+    Spec,
+)
 from optimizer.stage import TOPOLOGIES
 
 from . import cmd_build
 from .cmd_common import InputError, drawer_path, load_drawer, say, value, whole
 
 EXIT_FOUND, EXIT_INFEASIBLE, EXIT_UNPROVEN = 0, 3, 4
-# Mirrors optimizer.select (PREFERENCES, DEFAULT_PREFER, DEFAULT_TIME_LIMIT_S) so that `--help` does not
-# load the solver; tests/test_cli_design_options.py checks that the two agree.
-PREFERENCES = ("balanced", "parts", "clean", "robust", "frugal")
-DEFAULT_PREFER = "balanced"
-DEFAULT_TIME_LIMIT_S = 10.0
+DEFAULTS = Spec()  # the request's defaults, shared with the app's form (tui/request_fields.py)
 MAX_TIME_LIMIT_S = 24 * 3600.0
 
 
@@ -47,12 +58,17 @@ def register(sub) -> None:
     p.add_argument("--topology", default="common-emitter", choices=TOPOLOGIES)
     p.add_argument("--gain", required=True, help="gain magnitude (a common emitter reports it negative)")
     p.add_argument("--gain-tol", default="0.05", help="allowed gain error: 5%% or 0.05 (default ±5 %%)")
-    p.add_argument("--supply", default="12", metavar="VOLTS", help="supply voltage (default 12 V)")
-    p.add_argument("--load", default="22k", metavar="OHMS", help="load resistance (default 22k)")
-    p.add_argument("--source", default="0", metavar="OHMS", help="source resistance (default 0)")
-    p.add_argument("--swing", default="1", metavar="VOLTS", help="clip-free swing at the load, V p-p (default 1)")
-    p.add_argument("--low-cut", default="100", metavar="HZ", help="low cut-off at or below this, e.g. 30 or "
-                                                                  "1.8k (default 100 Hz)")
+    d = DEFAULTS
+    p.add_argument("--supply", default=f"{d.supply_v:g}", metavar="VOLTS",
+                   help=f"supply voltage (default {d.supply_v:g} V)")
+    p.add_argument("--load", default=format_resistance(d.load_ohms), metavar="OHMS",
+                   help=f"load resistance (default {format_resistance(d.load_ohms)})")
+    p.add_argument("--source", default=format_resistance(d.source_ohms), metavar="OHMS",
+                   help=f"source resistance (default {format_resistance(d.source_ohms)})")
+    p.add_argument("--swing", default=f"{d.swing_pp:g}", metavar="VOLTS",
+                   help=f"clip-free swing at the load, V p-p (default {d.swing_pp:g})")
+    p.add_argument("--low-cut", default=f"{d.low_cut_hz:g}", metavar="HZ",
+                   help=f"low cut-off at or below this, e.g. 30 or 1.8k (default {d.low_cut_hz:g} Hz)")
     p.add_argument("--min-rin", metavar="OHMS", help="minimum input resistance (default: 10 × the source, "
                                                      "at least 1k)")
     p.add_argument("--max-current", metavar="AMPS", help="largest supply current allowed (e.g. 5m)")
@@ -60,10 +76,12 @@ def register(sub) -> None:
                    help=f"largest THD at the swing: 1%% or 0.01 (default {DEFAULT_MAX_THD:.0%})")
     p.add_argument("--min-vce", default=f"{DEFAULT_MIN_VCE_V:g}", metavar="VOLTS",
                    help=f"least quiescent VCE at every corner (default {DEFAULT_MIN_VCE_V:g} V)")
-    p.add_argument("--temp-range", default="0..50", metavar="LO..HI",
-                   help="°C range the design must hold over (default 0..50; 27..27 = room only)")
-    p.add_argument("--depth", default="3", help="most parts per position, 1-3 (default 3)")
-    p.add_argument("--top", default="3", help="how many distinct designs (default 3)")
+    t_lo, t_hi = d.temp_range_c
+    p.add_argument("--temp-range", default=f"{t_lo:g}..{t_hi:g}", metavar="LO..HI",
+                   help=f"°C range the design must hold over (default {t_lo:g}..{t_hi:g}; 27..27 = room only)")
+    p.add_argument("--depth", default=f"{DEFAULT_DEPTH}", help=f"most parts per position, 1-3 (default {DEFAULT_DEPTH})")
+    p.add_argument("--top", default=f"{DEFAULT_TOP}",
+                   help=f"how many designs of the trade-off set (default {DEFAULT_TOP})")
     p.add_argument("--min-yield", metavar="F", help="least Monte Carlo yield a design must have: 90%% or 0.9")
     p.add_argument("--seed", default="1", help="Monte Carlo seed (default 1)")
     p.add_argument("--prefer", default=DEFAULT_PREFER, choices=PREFERENCES,
