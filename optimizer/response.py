@@ -10,7 +10,6 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-from scipy.optimize import brentq
 
 from .circuit import NODES, Circuit, q_currents, solve_small_signal
 
@@ -64,6 +63,8 @@ def lower_corner(circuit: Circuit, op: dict, gain_mid: float) -> float:
         return float(np.abs(transfer(circuit, op, [10.0**log_f])[0])) - target
 
     lo, hi = np.log10(_SCAN_HZ[i]), np.log10(_SCAN_HZ[i + 1])
+    from scipy.optimize import brentq  # loaded on first use: about a second of imports
+
     return float(10.0 ** brentq(excess, lo, hi, xtol=1e-9, rtol=1e-12))
 
 

@@ -13,11 +13,13 @@ from __future__ import annotations
 from dataclasses import dataclass, replace
 
 import numpy as np
-from scipy import constants
-
-ZERO_C_IN_K = constants.zero_Celsius  # 273.15 K
+# Exact by definition in the 2019 SI (BIPM, The International System of Units, 9th ed.); the tests check
+# them against scipy.constants.  Written out so that loading the model does not load scipy.
+BOLTZMANN_J_PER_K = 1.380649e-23
+ELEMENTARY_CHARGE_C = 1.602176634e-19
+ZERO_C_IN_K = 273.15
 TNOM_C = 27.0  # SPICE's default nominal temperature
-BOLTZMANN_OVER_Q = constants.k / constants.e  # V/K
+BOLTZMANN_OVER_Q = BOLTZMANN_J_PER_K / ELEMENTARY_CHARGE_C  # V/K
 
 
 def thermal_voltage(temp_c):
