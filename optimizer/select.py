@@ -12,6 +12,7 @@ Search (exact for the objective in objective.py over the space in candidates.py)
 
 from __future__ import annotations
 
+import sys
 import time
 from dataclasses import dataclass, field
 
@@ -416,7 +417,10 @@ def _stock_qty(pool) -> np.ndarray:
 
 
 
-SEARCH_SHARE = 0.6  # of the time limit, for the search itself
+SEARCH_SHARE = 0.3  # of the time limit, at least, for the search itself
+POST_S_PER_DESIGN = 0.3  # analysing one design shown (measured about 0.2 s on this project's 2-core machines)
+CP_SAT_IMPORT_S = 0.5
+OVERRUN_S = 1.0  # no command ends more than this past its time limit
 HINT_RESERVE_S = 0.3
 HINT_SHARE = 0.3  # of the time limit, at most, for shopping hints when nothing fits
 
@@ -447,9 +451,12 @@ def find_designs(drawer, spec, *, top=DEFAULT_TOP, depth=DEFAULT_DEPTH, min_yiel
     yields = {}
     t0 = time.perf_counter()
     limit = float(time_limit_s) if time_limit_s is not None else None
-    # The search gets the larger share of the limit; the rest is for analysing the designs shown
-    # (exact analysis, Monte Carlo) and, when nothing fits, the shopping hints.
-    deadline = None if limit is None else t0 + SEARCH_SHARE * limit
+    # The search gets what the limit leaves after analysing the designs shown (exact analysis at
+    # three hFE, Monte Carlo) and realising them (CP-SAT, loaded on first use), and at least
+    # SEARCH_SHARE of it; when nothing fits, the shopping hints get what is left.
+    post = POST_S_PER_DESIGN * max(1, top) + (0.0 if "ortools.sat.python.cp_model" in sys.modules else
+                                               CP_SAT_IMPORT_S)
+    deadline = None if limit is None else t0 + max(SEARCH_SHARE * limit, limit - post)
 
     def accept(sol, choice, row):
         y, mc = result.yield_of(sol, choice, spec, seed=mc_seed)
@@ -461,13 +468,17 @@ def find_designs(drawer, spec, *, top=DEFAULT_TOP, depth=DEFAULT_DEPTH, min_yiel
     doc["search"] = {"resistor_part_budget": sol.budget, "tuples_screened": sol.near.screened,
                      "seconds": round(sol.seconds, 3), "exhaustive": sol.exhaustive, "depth": depth,
                      "prefer": prefer, "time_limit_s": limit, "stopped_by": sol.stopped_by}
-    for choice, row, labels in sol.designs:
+    for k, (choice, row, labels) in enumerate(sol.designs):
+        if k and limit is not None and time.perf_counter() - t0 > limit + OVERRUN_S - POST_S_PER_DESIGN:
+            doc["why"].append(f"{len(sol.designs) - k} more design(s) of the trade-off set left out to keep the "
+                              f"{limit:g} s limit")
+            break
         y, mc = yields.get(id(choice)) or result.yield_of(sol, choice, spec, seed=mc_seed)
         doc["designs"].append(result.design_json(sol, choice, row, spec, locations=locations, mc=mc, yld=y,
                                                  labels=labels))
     if sol.stopped_by == "cancelled":
         doc["cancelled"] = True
-    doc["why"] = notes + (sol.notes if sol.designs else [])
+    doc["why"] = notes + (sol.notes if sol.designs else []) + doc["why"]
     if not sol.designs:
         doc["why"] = explain.reasons(sol, spec) + notes
         if min_yield is not None and sol.designs == [] and yields:
