@@ -112,7 +112,8 @@ def labels(c: np.ndarray) -> dict[str, int]:
 
 def shown(c: np.ndarray, prefer: str, top: int) -> list[tuple[int, list[str]]]:
     """At most `top` designs to show, as (index, labels), best first for `prefer` (so the first is
-    the preferred design): every label's winner while room is left, then the next best."""
+    the preferred design): every label's winner while room is left, then the next best whose counts
+    differ from every design already picked."""
     if not len(c):
         return []
     order = preference_order(c, prefer)
@@ -120,10 +121,12 @@ def shown(c: np.ndarray, prefer: str, top: int) -> list[tuple[int, list[str]]]:
     rank = {int(i): k for k, i in enumerate(order)}
     winners = sorted(set(won.values()), key=rank.get)
     pick = winners[:max(1, top)]
-    for i in order:
+    seen = {tuple(c[i]) for i in pick}
+    for i in order:  # then the next best, one per distinct set of counts (equal counts are twins)
         if len(pick) >= top:
             break
-        if int(i) not in pick:
+        if int(i) not in pick and tuple(c[i]) not in seen:
             pick.append(int(i))
+            seen.add(tuple(c[i]))
     pick.sort(key=rank.get)
     return [(i, [lab for lab in LABELS if won[lab] == i]) for i in pick]
