@@ -11,6 +11,7 @@ import time
 import pytest
 from textual.widgets import DataTable, Input, Label, ProgressBar, Select, Static
 
+from optimizer.spec import DEFAULT_TOP
 from tui.app import make_app
 from tui.screens.request import RequestScreen
 from tui.screens.results import ResultsScreen
@@ -129,7 +130,7 @@ async def test_search_gets_every_option_and_shows_progress_then_stops(demo_drawe
                 break
         assert screen.query_one("#solve-progress", ProgressBar).progress == pytest.approx(0.4)
         assert seen["prefer"] == "clean" and seen["time_limit_s"] == 4.0 and seen["min_yield"] == 0.8
-        assert seen["top"] == 3 and seen["spec"].max_thd == 0.02
+        assert seen["top"] == DEFAULT_TOP and seen["spec"].max_thd == 0.02
         started = time.monotonic()
         await pilot.press("escape")
         while not isinstance(app.screen, ResultsScreen) and time.monotonic() - started < 2:

@@ -137,5 +137,9 @@ async def test_escape_stops_a_running_solve(demo_drawer, monkeypatch):
         await app.workers.wait_for_complete()
         await pilot.pause()
         assert pressed.is_set() and screen.cancel.is_set()
-        assert app.screen is screen and not screen.solving  # no results pushed
-        assert "Stopped" in str(screen.query_one("#solve-status").render())
+        if app.screen is screen:  # nothing found before the stop: the form says so
+            assert not screen.solving and "Stopped" in str(screen.query_one("#solve-status").render())
+        else:  # the best designs found before the stop are shown (the search is anytime)
+            from tui.screens.results import ResultsScreen
+
+            assert isinstance(app.screen, ResultsScreen) and app.screen.designs
