@@ -2,7 +2,8 @@
 
 from __future__ import annotations
 
-from textual import on
+from rich.text import Text
+from textual import events, on
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal, VerticalScroll
@@ -11,17 +12,29 @@ from textual.widgets import DataTable, Footer, Header, Input, Label, Static
 
 from inventory.parts import Part
 
-from ..widgets.part_text import COLUMNS, describe, row_cells, sort_key
+from ..widgets.part_text import COLUMNS, BrokenLine, broken_lines, describe, record_cells, row_cells, sort_key
 
 
-def matches(part: Part, words: list[str]) -> bool:
+def matches(cells: tuple[str, ...], words: list[str]) -> bool:
     """Every word of the filter appears in some cell of the row (case ignored)."""
-    text = " ".join(row_cells(part)).lower()
+    text = " ".join(cells).lower()
     return all(w in text for w in words)
 
 
 class DrawerScreen(Screen):
-    """What is in the drawers; add, edit, count and remove parts."""
+    """What is in the drawers; add, edit, count and remove parts.
+
+    Lines with errors are listed first, marked, so they can be fixed (edit) or removed where
+    they are seen.  Typing a character that is not an action key starts the filter.
+    """
+
+    DEFAULT_CSS = """
+    DrawerScreen #no-match {
+        height: auto;
+        margin: 0 2;
+        color: $warning;
+    }
+    """
 
     AUTO_FOCUS = "#parts"
 
@@ -42,13 +55,16 @@ class DrawerScreen(Screen):
         super().__init__()
         self.sort_column = 1
         self.sort_reverse = False
+        self.broken: list[BrokenLine] = []
 
     def compose(self) -> ComposeResult:
         yield Header()
         with Horizontal(id="filter-row"):
             yield Label("Filter", id="filter-label")
-            yield Input(placeholder="type to filter: 4k7, cap, A3 …", id="filter", compact=True)
+            yield Input(placeholder="type to filter: 4k7, 100n, BC547, A3 …", id="filter", compact=True,
+                        select_on_focus=False)
         yield DataTable(id="parts", cursor_type="row", zebra_stripes=True)
+        yield Static("", id="no-match")
         with VerticalScroll(id="problems"):
             yield Static(id="problem-text")
         yield Footer(compact=True, show_command_palette=False)
@@ -66,28 +82,57 @@ class DrawerScreen(Screen):
         self.fill_table()
         self.show_problems()
 
+    def filter_words(self) -> list[str]:
+        return self.query_one("#filter", Input).value.lower().split()
+
     def visible_parts(self) -> list[Part]:
         drawer = self.app.drawer
         if drawer is None:
             return []
-        words = self.query_one("#filter", Input).value.lower().split()
-        parts = [p for p in drawer.parts if matches(p, words)]
+        words = self.filter_words()
+        parts = [p for p in drawer.parts if matches(row_cells(p), words)]
         return sorted(parts, key=sort_key(self.sort_column), reverse=self.sort_reverse)
+
+    def visible_broken(self) -> list[BrokenLine]:
+        """Lines with errors that match the filter; always shown first, in file order."""
+        words = self.filter_words()
+        return [b for b in self.broken if matches((*b.row_cells(), "error", *b.problems), words)]
 
     def fill_table(self) -> None:
         table = self.query_one("#parts", DataTable)
+        drawer = self.app.drawer
+        self.broken = broken_lines(drawer) if drawer is not None else []
         keep = self.selected_line()
         table.clear()
+        for bad in self.visible_broken():
+            table.add_row(*(Text(c, style="bold red") for c in bad.row_cells()), key=str(bad.line))
         for part in self.visible_parts():
             table.add_row(*row_cells(part), key=str(part.line))
         for i, col in enumerate(table.columns.values()):
-            arrow = (" ▼" if self.sort_reverse else " ▲") if i == self.sort_column else ""
-            col.label = f"{COLUMNS[i]}{arrow}"
+            arrow = ("▼" if self.sort_reverse else "▲") if i == self.sort_column else " "
+            col.label = Text(f"{COLUMNS[i]} {arrow}")
+            # The arrow must fit: a column is otherwise only as wide as its widest cell.
+            col.content_width = max(col.content_width, len(COLUMNS[i]) + 2)
         table.refresh()
         if keep is not None and str(keep) in table.rows:
             table.move_cursor(row=table.get_row_index(str(keep)))
-        total = len(self.app.drawer.parts) if self.app.drawer else 0
-        self.query_one("#filter-label", Label).update(f"{table.row_count}/{total} lines ")
+        total = len(drawer.parts) + len(self.broken) if drawer else 0
+        errors = f", {len(self.broken)} with errors" if self.broken else ""
+        self.query_one("#filter-label", Label).update(f"{table.row_count}/{total} lines{errors} ")
+        self.show_no_match(table.row_count, total)
+
+    def show_no_match(self, shown: int, total: int) -> None:
+        """Say why the table is empty: nothing matches the filter, or the file has no lines."""
+        note = self.query_one("#no-match", Static)
+        text = self.query_one("#filter", Input).value.strip()
+        if shown == 0 and text:
+            note.update(f"No line matches \"{text}\" ({total} in the file). Esc on the table clears "
+                        "the filter.")
+        elif shown == 0 and self.app.drawer is not None:
+            note.update("The drawer file has no lines yet: a adds one.")
+        else:
+            note.update("")
+        note.display = shown == 0
 
     def show_problems(self) -> None:
         panel = self.query_one("#problems")
@@ -104,15 +149,25 @@ class DrawerScreen(Screen):
         table = self.query_one("#parts", DataTable)
         if table.row_count == 0:
             return None
-        key = table.coordinate_to_cell_key(table.cursor_coordinate).row_key
-        return int(key.value)
+        try:
+            key = table.coordinate_to_cell_key(table.cursor_coordinate).row_key
+        except Exception:  # noqa: BLE001 - a cursor left outside the rows means no choice
+            return None
+        return int(key.value) if key.value is not None else None
 
-    def selected_part(self) -> Part | None:
+    def selected_broken(self) -> BrokenLine | None:
+        line = self.selected_line()
+        return next((b for b in self.broken if b.line == line), None)
+
+    def selected_part(self, *, quiet: bool = False) -> Part | None:
         line = self.selected_line()
         drawer = self.app.drawer
         part = drawer.part_at(line) if drawer and line is not None else None
-        if part is None:
-            self.notify("No part selected", severity="warning")
+        if part is None and not quiet:
+            if self.selected_broken() is not None:
+                self.notify(f"Line {line} has errors: e fixes it, x removes it", severity="warning")
+            else:
+                self.notify("No part selected", severity="warning")
         return part
 
     # ---- events and actions --------------------------------------------------------------
@@ -125,14 +180,30 @@ class DrawerScreen(Screen):
     def filter_done(self) -> None:
         self.query_one("#parts", DataTable).focus()
 
-    def key_down(self) -> None:
-        # Down from the filter goes to the table (Enter does too), so typing then choosing is one motion.
-        if isinstance(self.focused, Input):
-            self.query_one("#parts", DataTable).focus()
-
-    def key_escape(self) -> None:
-        if isinstance(self.focused, Input):
-            self.query_one("#parts", DataTable).focus()
+    def on_key(self, event: events.Key) -> None:
+        table = self.query_one("#parts", DataTable)
+        filter_box = self.query_one("#filter", Input)
+        if self.focused is filter_box:
+            if event.key in ("down", "escape"):
+                # Down (or Esc) goes to the table, its cursor where it was: stopping the key here
+                # keeps the table's own Down binding from moving it one row on.
+                event.stop()
+                event.prevent_default()
+                table.focus()
+            return
+        if self.focused is table and event.key == "escape" and filter_box.value:
+            event.stop()
+            filter_box.value = ""
+            return
+        if (self.focused is table and event.is_printable and event.character and
+                not event.character.isspace() and event.key not in self.active_bindings):
+            # Typing on the table filters: any character that is not an action key starts it.
+            # It starts a new filter; / goes to the filter box to edit the one there is.
+            event.stop()
+            event.prevent_default()
+            filter_box.value = event.character
+            filter_box.cursor_position = len(filter_box.value)
+            filter_box.focus()
 
     @on(DataTable.HeaderSelected)
     def header_clicked(self, event: DataTable.HeaderSelected) -> None:
@@ -170,11 +241,19 @@ class DrawerScreen(Screen):
     def action_edit(self) -> None:
         from .part_form import PartForm
 
+        bad = self.selected_broken()
+        if bad is not None:
+            self.app.push_screen(
+                PartForm(None, lambda fields: self.fix(bad, fields), cells=bad.cells, line=bad.line,
+                         problems=bad.problems),
+                lambda saved: self.saved(saved, f"Line {bad.line} fixed"),
+            )
+            return
         part = self.selected_part()
         if part is None:
             return
         self.app.push_screen(
-            PartForm(part, lambda fields: self.replace(part, fields), cells=self.cells_of(part)),
+            PartForm(part, lambda fields: self.replace(part, fields), cells=self.cells_of(part.line)),
             lambda saved: self.saved(saved, f"Saved line {part.line}"),
         )
 
@@ -183,11 +262,10 @@ class DrawerScreen(Screen):
         if saved:
             self.notify(text, title="Saved")
 
-    def cells_of(self, part: Part) -> dict[str, str]:
+    def cells_of(self, line: int) -> dict[str, str]:
         """The line's cells as typed in the file, by column name."""
         drawer = self.app.drawer
-        record = drawer.records[drawer.record_index(part.line)]
-        return {name: record.cells[i].strip() for name, i in drawer.columns.items() if i < len(record.cells)}
+        return record_cells(drawer, line) if drawer is not None else {}
 
     def replace(self, part: Part, fields: dict[str, str]) -> None:
         """Save an edited line in place: a new count alone is a count, anything else an edit.
@@ -195,11 +273,15 @@ class DrawerScreen(Screen):
         The store rewrites only the cells whose text changed, as one journal entry.
         """
         store = self.app.store
-        before = {k: v for k, v in self.cells_of(part).items() if v}
-        if {k: v for k, v in before.items() if k != "qty"} == {k: v for k, v in fields.items() if k != "qty" and v}:
+        before = self.cells_of(part.line)
+        if all(before.get(k, "") == v for k, v in fields.items() if k != "qty"):
             store.set_qty(part.line, int(fields["qty"]), reason=f"counted {describe(part)}")
             return
         store.edit_part(part.line, fields, reason=f"edited {describe(part)}")
+
+    def fix(self, bad: BrokenLine, fields: dict[str, str]) -> None:
+        """Rewrite a line with errors; the store refuses it (reason shown in the form) unless it reads."""
+        self.app.store.edit_part(bad.line, fields, reason=f"fixed line {bad.line}")
 
     def action_count(self) -> None:
         from .dialogs import CountDialog
@@ -220,19 +302,20 @@ class DrawerScreen(Screen):
     def action_remove(self) -> None:
         from .dialogs import ConfirmDialog
 
-        part = self.selected_part()
-        if part is None:
+        bad = self.selected_broken()
+        part = None if bad is not None else self.selected_part()
+        if bad is None and part is None:
             return
+        line = bad.line if bad is not None else part.line
+        what = f"line {line} (with errors)" if bad is not None else describe(part)
+        detail = bad.describe() if bad is not None else what
 
         def done(yes: bool | None) -> None:
             if yes:
                 self.app.write(
-                    lambda: self.app.store.remove_part(part.line, reason=f"removed {describe(part)}"),
-                    f"Removed {describe(part)}",
-                )
+                    lambda: self.app.store.remove_part(line, reason=f"removed {what}"), f"Removed {what}")
 
-        self.app.push_screen(ConfirmDialog(
-            "Remove this line from the drawer file?", describe(part), "Remove"), done)
+        self.app.push_screen(ConfirmDialog("Remove this line from the drawer file?", detail, "Remove"), done)
 
     def action_locations(self) -> None:
         from .locations import LocationsScreen
