@@ -126,13 +126,15 @@ class DrawerScreen(Screen):
         note = self.query_one("#no-match", Static)
         text = self.query_one("#filter", Input).value.strip()
         if shown == 0 and text:
-            note.update(f"No line matches \"{text}\" ({total} in the file). Esc on the table clears "
-                        "the filter.")
+            note.update(f"No line matches \"{text}\" ({total} lines in the file). "
+                        "Esc on the table clears the filter.")
         elif shown == 0 and self.app.drawer is not None:
             note.update("The drawer file has no lines yet: a adds one.")
         else:
             note.update("")
         note.display = shown == 0
+        # An empty table shrinks to its header, so the note sits right under it.
+        self.query_one("#parts", DataTable).styles.height = "auto" if shown == 0 else "1fr"
 
     def show_problems(self) -> None:
         panel = self.query_one("#problems")
