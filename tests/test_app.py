@@ -352,3 +352,28 @@ async def test_a_line_with_errors_is_removed(broken_drawer):
         await pilot.pause()
         assert str(line) not in app.screen.query_one("#parts", DataTable).rows
     assert raw_lines(broken_drawer) == before[:-1]
+
+
+async def test_square_brackets_in_the_file_are_text_not_markup(demo_drawer):
+    # Cells are the user's text: "[/b]" once crashed the app at start (read as a closing markup tag).
+    with demo_drawer.open("a", encoding="utf-8") as f:
+        f.write("resistor,3k9,3,5%,1/4W,,,,,,,,,,[/b],[bold]note\nresistor,4k7k,3,5%,1/4W,,,,,,,,,,[/],x\n")
+    n = len(raw_lines(demo_drawer))
+    app = make_app(demo_drawer)
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.pause()
+        assert "[/b]" in str(app.screen.query_one("#parts", DataTable).get_row(str(n - 1))[-1])
+        for keys in (["l"], ["escape"], ["slash", "left_square_bracket", "slash", "right_square_bracket", "enter"],
+                     ["escape"]):
+            await pilot.press(*keys)
+            await pilot.pause()
+        await choose_line(pilot, n - 1)
+        for keys in (["e"], ["escape"], ["c", "1", "enter"], ["x", "y"], ["h", "u"]):
+            await pilot.press(*keys)
+            await pilot.pause()
+        assert isinstance(app.screen, ConfirmDialog)
+        assert "[/b]" in str(app.screen.query_one(".dialog-detail").render())
+        await pilot.press("n")
+        await pilot.pause()
+        assert app.is_running and app._exception is None
+    assert all(p.location != "[/b]" for p in Drawer.load(demo_drawer).parts)  # the removal was saved

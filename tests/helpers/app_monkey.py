@@ -47,6 +47,7 @@ BROKEN_LINES = (
     'transistor,,2,,,,"BC5""47,NPN,abc,800,45V,,,C2,broken quote\n'
     "widget,12,1,,,,,,,,,,,,Z9,unknown kind\n"
     "resistor,10k,4,5%,1/4W,,,,,,,,,,B3,extra,cells,here\n"
+    "resistor,3k9,2,5%,1/4W,,,,,,,,,,[/b],[bold] square brackets are text\n"
 )
 SESSION_TIME_LIMIT_S = 120.0
 
@@ -55,7 +56,8 @@ NAVIGATION = ("up", "down", "left", "right", "pageup", "pagedown", "home", "end"
 ANSWERS = ("enter", "escape", "y", "n", "space")
 ACTIONS = ("a", "e", "c", "x", "s", "S", "l", "d", "h", "u", "b", "slash", "f2", "f5", "ctrl+s", "ctrl+r",
            "ctrl+p", "ctrl+c")
-TYPING = (*"0123456789kKmMuUnpRrVW.%+-", *"abcdefghijklmnopqrstuvwxyz", "backspace", "delete")
+TYPING = (*"0123456789kKmMuUnpRrVW.%+-", *"abcdefghijklmnopqrstuvwxyz", "backspace", "delete",
+          "left_square_bracket", "right_square_bracket")
 KINDS = ((NAVIGATION, 0.3), (ANSWERS, 0.2), (ACTIONS, 0.22), (TYPING, 0.28))
 # (ctrl+p is one action key of 18; the palette then takes the typed keys until esc or enter.)
 # Opening moves, so every screen is reached early in some session.

@@ -7,6 +7,7 @@ from textual import events, on
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal, VerticalScroll
+from textual.markup import escape
 from textual.screen import Screen
 from textual.widgets import DataTable, Footer, Header, Input, Label, Static
 
@@ -64,9 +65,9 @@ class DrawerScreen(Screen):
             yield Input(placeholder="type to filter: 4k7, 100n, BC547, A3 …", id="filter", compact=True,
                         select_on_focus=False)
         yield DataTable(id="parts", cursor_type="row", zebra_stripes=True)
-        yield Static("", id="no-match")
+        yield Static("", id="no-match", markup=False)
         with VerticalScroll(id="problems"):
-            yield Static(id="problem-text")
+            yield Static(id="problem-text", markup=False)
         yield Footer(compact=True, show_command_palette=False)
 
     def on_mount(self) -> None:
@@ -107,7 +108,7 @@ class DrawerScreen(Screen):
         for bad in self.visible_broken():
             table.add_row(*(Text(c, style="bold red") for c in bad.row_cells()), key=str(bad.line))
         for part in self.visible_parts():
-            table.add_row(*row_cells(part), key=str(part.line))
+            table.add_row(*(Text(c) for c in row_cells(part)), key=str(part.line))  # never markup
         for i, col in enumerate(table.columns.values()):
             arrow = ("▼" if self.sort_reverse else "▲") if i == self.sort_column else " "
             col.label = Text(f"{COLUMNS[i]} {arrow}")
@@ -296,7 +297,7 @@ class DrawerScreen(Screen):
             if qty is not None and qty != part.qty:
                 self.app.write(
                     lambda: self.app.store.set_qty(part.line, qty, reason=f"counted {describe(part)}"),
-                    f"{describe(part)}: {part.qty} → {qty}",
+                    escape(f"{describe(part)}: {part.qty} → {qty}"),
                 )
 
         self.app.push_screen(CountDialog(part), done)
@@ -315,7 +316,7 @@ class DrawerScreen(Screen):
         def done(yes: bool | None) -> None:
             if yes:
                 self.app.write(
-                    lambda: self.app.store.remove_part(line, reason=f"removed {what}"), f"Removed {what}")
+                    lambda: self.app.store.remove_part(line, reason=f"removed {what}"), escape(f"Removed {what}"))
 
         self.app.push_screen(ConfirmDialog("Remove this line from the drawer file?", detail, "Remove"), done)
 

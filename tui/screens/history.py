@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from rich.text import Text
 from textual import on
 from textual.app import ComposeResult
 from textual.binding import Binding
@@ -73,7 +74,7 @@ class HistoryScreen(Screen):
 
     def compose(self) -> ComposeResult:
         yield Header()
-        yield Label("", id="history-title", classes="section-title")
+        yield Label("", id="history-title", classes="section-title", markup=False)
         yield DataTable(id="journal", cursor_type="row", zebra_stripes=True)
         yield Footer(compact=True, show_command_palette=False)
 
@@ -97,8 +98,8 @@ class HistoryScreen(Screen):
             return
         undone = undone_ids(self.entries)
         for e in reversed(self.entries):
-            table.add_row(str(e.id), when(e.time), e.action, str(len(e.changes)), state_text(e, undone),
-                          printable(e.reason), key=str(e.id))
+            cells = (str(e.id), when(e.time), e.action, str(len(e.changes)), state_text(e, undone), printable(e.reason))
+            table.add_row(*(Text(c) for c in cells), key=str(e.id))  # Text: a reason is never markup
         if keep is not None and str(keep) in table.rows:
             table.move_cursor(row=table.get_row_index(str(keep)))
         n = len(self.entries)
@@ -136,7 +137,7 @@ class HistoryScreen(Screen):
         try:
             target = pick(self.entries, entry_id)
         except StoreError as exc:
-            self.notify(str(exc), title="Nothing undone", severity="warning")
+            self.notify(str(exc), title="Nothing undone", severity="warning", markup=False)
             return
 
         def done(yes: bool | None) -> None:

@@ -102,7 +102,7 @@ class PartForm(ModalScreen[bool]):
         with Vertical(classes="dialog form"):
             yield Label(title, classes="dialog-title")
             if self.problems:
-                yield Static("\n".join(self.problems), id="line-problems", classes="field-error")
+                yield Static("\n".join(self.problems), id="line-problems", classes="field-error", markup=False)
             with VerticalScroll(classes="form-fields"):
                 with Horizontal(classes="field"):
                     yield Label("Kind", classes="field-label")
@@ -124,8 +124,8 @@ class PartForm(ModalScreen[bool]):
                             yield Input(self.cell(column, ""), placeholder=f"e.g. {hint}" if hint else "",
                                         id=f"f-{column}", compact=True,
                                         validators=[CellCheck(self, column)], validate_on=["changed"])
-                        yield Label("", id=f"e-{column}", classes="field-error")
-            yield Label("", id="form-status", classes="field-error")
+                        yield Label("", id=f"e-{column}", classes="field-error", markup=False)
+            yield Label("", id="form-status", classes="field-error", markup=False)
             with Horizontal(classes="dialog-buttons"):
                 yield Button("Save (ctrl+s)", variant="primary", id="save")
                 yield Button("Cancel (esc)", id="cancel")
