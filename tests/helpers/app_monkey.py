@@ -64,6 +64,7 @@ KINDS = ((NAVIGATION, 0.3), (ANSWERS, 0.2), (ACTIONS, 0.22), (TYPING, 0.28))
 OPENERS = (
     (), ("a",), ("e",), ("c",), ("x",), ("l",), ("h",), ("h", "u"), ("d",), ("d", "f5"),
     ("d", "f5", "enter"), ("d", "f5", "enter", "b"), ("ctrl+p",), ("slash",), ("4", "k"),
+    ("c", "3", "enter"), ("x", "y"), ("e", "2", "ctrl+s"),  # confirmed changes, checked against the journal
 )
 
 

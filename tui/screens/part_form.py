@@ -89,10 +89,6 @@ class PartForm(ModalScreen[bool]):
         typed = self.cells.get("kind", "").strip().lower()
         self._kind = part.kind if part is not None else typed if typed in KINDS else "resistor"
 
-    @property
-    def editing(self) -> bool:
-        return self.line is not None
-
     def compose(self) -> ComposeResult:
         if self.line is None:
             title = "Add a part"

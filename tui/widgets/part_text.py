@@ -110,9 +110,10 @@ def cut(text: str, width: int = CELL_WIDTH) -> str:
 def record_cells(drawer: Drawer, line: int) -> dict[str, str]:
     """The cells of the data line on `line` as typed in the file, by column name ({} if none)."""
     idx = drawer.record_index(line)
-    if idx is None:
-        return {}
-    cells = drawer.records[idx].cells
+    return cells_by_column(drawer, drawer.records[idx].cells) if idx is not None else {}
+
+
+def cells_by_column(drawer: Drawer, cells: list[str]) -> dict[str, str]:
     return {name: cells[i].strip() for name, i in drawer.columns.items() if i < len(cells)}
 
 
@@ -120,10 +121,10 @@ def broken_lines(drawer: Drawer) -> list[BrokenLine]:
     """Every non-blank data line without a part, with its error messages, in file order."""
     if drawer.header is None:
         return []
-    found = []
-    for rec in drawer.records[drawer.header + 1:]:
-        if rec.blank or drawer.part_at(rec.line) is not None:
-            continue
-        problems = tuple(printable(p.message) for p in drawer.problems if p.line == rec.line and p.is_error)
-        found.append(BrokenLine(rec.line, record_cells(drawer, rec.line), problems))
-    return found
+    errors: dict[int, list[str]] = {}
+    for p in drawer.problems:
+        if p.is_error:
+            errors.setdefault(p.line, []).append(printable(p.message))
+    return [BrokenLine(rec.line, cells_by_column(drawer, rec.cells), tuple(errors.get(rec.line, ())))
+            for rec in drawer.records[drawer.header + 1:]
+            if not rec.blank and drawer.part_at(rec.line) is None]
