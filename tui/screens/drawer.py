@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from rich.cells import cell_len
 from rich.text import Text
 from textual import events, on
 from textual.app import ComposeResult
@@ -105,15 +106,16 @@ class DrawerScreen(Screen):
         self.broken = broken_lines(drawer) if drawer is not None else []
         keep = self.selected_line()
         table.clear()
-        for bad in self.visible_broken():
-            table.add_row(*(Text(c, style="bold red") for c in bad.row_cells()), key=str(bad.line))
-        for part in self.visible_parts():
-            table.add_row(*(Text(c) for c in row_cells(part)), key=str(part.line))  # never markup
+        rows = [(bad.line, bad.row_cells(), "bold red") for bad in self.visible_broken()]
+        rows += [(part.line, row_cells(part), "") for part in self.visible_parts()]
+        for line, cells, style in rows:
+            table.add_row(*(Text(c, style=style) for c in cells), key=str(line))  # Text: never markup
         for i, col in enumerate(table.columns.values()):
-            arrow = ("▼" if self.sort_reverse else "▲") if i == self.sort_column else " "
-            col.label = Text(f"{COLUMNS[i]} {arrow}")
-            # The arrow must fit: a column is otherwise only as wide as its widest cell.
-            col.content_width = max(col.content_width, len(COLUMNS[i]) + 2)
+            arrow = (" ▼" if self.sort_reverse else " ▲") if i == self.sort_column else ""
+            col.label = Text(COLUMNS[i] + arrow)
+            # Each column exactly as wide as its label (arrow included) or widest cell: a table
+            # only ever widens its columns, which would hide the arrow or push columns off screen.
+            col.content_width = max([cell_len(col.label.plain), *(cell_len(cells[i]) for _, cells, _ in rows)])
         table.refresh()
         if keep is not None and str(keep) in table.rows:
             table.move_cursor(row=table.get_row_index(str(keep)))
