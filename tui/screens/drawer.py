@@ -8,13 +8,13 @@ from textual import events, on
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal, VerticalScroll
-from textual.markup import escape
 from textual.screen import Screen
 from textual.widgets import DataTable, Footer, Header, Input, Label, Static
 
 from inventory.parts import Part
 
-from ..widgets.part_text import COLUMNS, BrokenLine, broken_lines, describe, record_cells, row_cells, sort_key
+from ..widgets.part_text import COLUMNS, BrokenLine, broken_lines, row_cells, sort_key
+from .drawer_changes import DrawerChanges
 
 
 def matches(cells: tuple[str, ...], words: list[str]) -> bool:
@@ -23,7 +23,7 @@ def matches(cells: tuple[str, ...], words: list[str]) -> bool:
     return all(w in text for w in words)
 
 
-class DrawerScreen(Screen):
+class DrawerScreen(DrawerChanges, Screen):
     """What is in the drawers; add, edit, count and remove parts.
 
     Lines with errors are listed first, marked, so they can be fixed (edit) or removed where
@@ -164,11 +164,11 @@ class DrawerScreen(Screen):
         line = self.selected_line()
         return next((b for b in self.broken if b.line == line), None)
 
-    def selected_part(self, *, quiet: bool = False) -> Part | None:
+    def selected_part(self) -> Part | None:
         line = self.selected_line()
         drawer = self.app.drawer
         part = drawer.part_at(line) if drawer and line is not None else None
-        if part is None and not quiet:
+        if part is None:
             if self.selected_broken() is not None:
                 self.notify(f"Line {line} has errors: e fixes it, x removes it", severity="warning")
             else:
@@ -233,94 +233,6 @@ class DrawerScreen(Screen):
 
     def action_filter(self) -> None:
         self.query_one("#filter", Input).focus()
-
-    def action_add(self) -> None:
-        from .part_form import PartForm
-
-        store = self.app.store
-        self.app.push_screen(
-            PartForm(None, lambda fields: store.add_part(fields, reason="added in the app")),
-            lambda saved: self.saved(saved, "Added a line"),
-        )
-
-    def action_edit(self) -> None:
-        from .part_form import PartForm
-
-        bad = self.selected_broken()
-        if bad is not None:
-            self.app.push_screen(
-                PartForm(None, lambda fields: self.fix(bad, fields), cells=bad.cells, line=bad.line,
-                         problems=bad.problems),
-                lambda saved: self.saved(saved, f"Line {bad.line} fixed"),
-            )
-            return
-        part = self.selected_part()
-        if part is None:
-            return
-        self.app.push_screen(
-            PartForm(part, lambda fields: self.replace(part, fields), cells=self.cells_of(part.line)),
-            lambda saved: self.saved(saved, f"Saved line {part.line}"),
-        )
-
-    def saved(self, saved: bool | None, text: str) -> None:
-        self.app.reload()
-        if saved:
-            self.notify(text, title="Saved")
-
-    def cells_of(self, line: int) -> dict[str, str]:
-        """The line's cells as typed in the file, by column name."""
-        drawer = self.app.drawer
-        return record_cells(drawer, line) if drawer is not None else {}
-
-    def replace(self, part: Part, fields: dict[str, str]) -> None:
-        """Save an edited line in place: a new count alone is a count, anything else an edit.
-
-        The store rewrites only the cells whose text changed, as one journal entry.
-        """
-        store = self.app.store
-        before = self.cells_of(part.line)
-        if all(before.get(k, "") == v for k, v in fields.items() if k != "qty"):
-            store.set_qty(part.line, int(fields["qty"]), reason=f"counted {describe(part)}")
-            return
-        store.edit_part(part.line, fields, reason=f"edited {describe(part)}")
-
-    def fix(self, bad: BrokenLine, fields: dict[str, str]) -> None:
-        """Rewrite a line with errors; the store refuses it (reason shown in the form) unless it reads."""
-        self.app.store.edit_part(bad.line, fields, reason=f"fixed line {bad.line}")
-
-    def action_count(self) -> None:
-        from .dialogs import CountDialog
-
-        part = self.selected_part()
-        if part is None:
-            return
-
-        def done(qty: int | None) -> None:
-            if qty is not None and qty != part.qty:
-                self.app.write(
-                    lambda: self.app.store.set_qty(part.line, qty, reason=f"counted {describe(part)}"),
-                    escape(f"{describe(part)}: {part.qty} → {qty}"),
-                )
-
-        self.app.push_screen(CountDialog(part), done)
-
-    def action_remove(self) -> None:
-        from .dialogs import ConfirmDialog
-
-        bad = self.selected_broken()
-        part = None if bad is not None else self.selected_part()
-        if bad is None and part is None:
-            return
-        line = bad.line if bad is not None else part.line
-        what = f"line {line} (with errors)" if bad is not None else describe(part)
-        detail = bad.describe() if bad is not None else what
-
-        def done(yes: bool | None) -> None:
-            if yes:
-                self.app.write(
-                    lambda: self.app.store.remove_part(line, reason=f"removed {what}"), escape(f"Removed {what}"))
-
-        self.app.push_screen(ConfirmDialog("Remove this line from the drawer file?", detail, "Remove"), done)
 
     def action_locations(self) -> None:
         from .locations import LocationsScreen
