@@ -220,3 +220,160 @@ async def test_edit_changes_the_line_and_keeps_the_rest(demo_drawer):
     assert now[0].line == old.line  # edited in place, not moved to the end
     assert (now[0].qty, now[0].hfe_min, now[0].hfe_max, now[0].vceo_v) == (old.qty, old.hfe_min, old.hfe_max,
                                                                             old.vceo_v)
+
+
+# ---- issue: editing each kind of line; lines with errors shown and fixable ----------------
+
+async def choose_line(pilot, line: int) -> None:
+    """Put the drawer table's cursor on drawer line `line`."""
+    table = pilot.app.screen.query_one("#parts", DataTable)
+    table.focus()
+    table.move_cursor(row=table.get_row_index(str(line)))
+    await pilot.pause()
+
+
+def first_line(path, kind: str) -> int:
+    return next(p.line for p in Drawer.load(path).parts if p.kind == kind and p.qty != 7)
+
+
+def raw_lines(path) -> list[str]:
+    return path.read_bytes().decode("utf-8").splitlines(keepends=True)
+
+
+@pytest.mark.parametrize("kind", ["resistor", "capacitor", "transistor"])
+async def test_edit_opens_on_every_kind_and_a_typed_count_lands_in_qty(demo_drawer, kind):
+    line = first_line(demo_drawer, kind)
+    before = raw_lines(demo_drawer)
+    app = make_app(demo_drawer)
+    async with app.run_test(size=SIZE) as pilot:
+        await choose_line(pilot, line)
+        await pilot.press("e")
+        await pilot.pause()
+        assert isinstance(app.screen, PartForm), app._exception
+        assert app.screen.query_one("#kind").value == kind
+        # The form opens on the count with its text selected: typing a number replaces the count.
+        await pilot.press("7", "ctrl+s")
+        await pilot.pause()
+        assert isinstance(app.screen, DrawerScreen)
+        assert app.is_running and app._exception is None
+    after = raw_lines(demo_drawer)
+    # Only that line changed, and in it only the qty cell (column 3 of the demo's header).
+    assert [i for i, (a, b) in enumerate(zip(before, after, strict=True)) if a != b] == [line - 1]
+    old_cells, new_cells = before[line - 1].split(","), after[line - 1].split(",")
+    assert new_cells[2] == "7"
+    assert old_cells[:2] + old_cells[3:] == new_cells[:2] + new_cells[3:]
+    part = Drawer.load(demo_drawer).part_at(line)
+    assert part.kind == kind and part.qty == 7
+    entry = app.store.history()[-1]
+    assert entry.action == "count" and [c.line for c in entry.changes] == [line]
+
+
+async def test_transistor_form_keeps_type_and_count_apart(demo_drawer):
+    line = first_line(demo_drawer, "transistor")
+    old = Drawer.load(demo_drawer).part_at(line)
+    app = make_app(demo_drawer)
+    async with app.run_test(size=SIZE) as pilot:
+        await choose_line(pilot, line)
+        await pilot.press("e")
+        await pilot.pause()
+        assert app.screen.query_one("#f-part", Input).value == old.part
+        await type_into(pilot, "#f-qty", "12")
+        await type_into(pilot, "#f-location", "T1")
+        await pilot.press("ctrl+s")
+        await pilot.pause()
+        assert isinstance(app.screen, DrawerScreen)
+    new = Drawer.load(demo_drawer).part_at(line)
+    assert (new.part, new.qty, new.location, new.polarity) == (old.part, 12, "T1", old.polarity)
+
+
+BROKEN = ["resistor,4k7k,3,5%,1/4W,,,,,,,,,,B3,typo\n", "capacitor,100n,x,,,,,,,,,,,,C1,\n"]
+
+
+@pytest.fixture
+def broken_drawer(demo_drawer):
+    with demo_drawer.open("a", encoding="utf-8") as f:
+        f.writelines(BROKEN)
+    return demo_drawer
+
+
+async def test_lines_with_errors_are_shown_marked_and_counted(broken_drawer):
+    drawer = Drawer.load(broken_drawer)
+    n_lines = len(raw_lines(broken_drawer)) - 1  # data lines (header excluded)
+    bad = [n_lines, n_lines + 1]  # file line numbers of the two appended lines
+    assert all(drawer.part_at(n) is None for n in bad)
+    app = make_app(broken_drawer)
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.pause()
+        table = app.screen.query_one("#parts", DataTable)
+        assert table_lines(app)[:2] == bad  # listed first, so they are seen
+        assert len(table_lines(app)) == n_lines
+        assert all("✗" in str(table.get_row(str(n))[0]) for n in bad)
+        label = str(app.screen.query_one("#filter-label", Label).render())
+        assert f"{n_lines}/{n_lines} lines" in label and "2 with errors" in label
+        # Counting a line with errors is refused with a hint; nothing opens.
+        await choose_line(pilot, bad[1])
+        await pilot.press("c")
+        await pilot.pause()
+        assert isinstance(app.screen, DrawerScreen)
+
+
+async def test_a_line_with_errors_is_fixed_in_the_form(broken_drawer):
+    line = len(raw_lines(broken_drawer)) - 1  # the first appended line: value "4k7k"
+    app = make_app(broken_drawer)
+    async with app.run_test(size=SIZE) as pilot:
+        await choose_line(pilot, line)
+        await pilot.press("e")
+        await pilot.pause()
+        assert isinstance(app.screen, PartForm)
+        assert "4k7k" in str(app.screen.query_one("#line-problems").render())
+        assert app.screen.query_one("#f-value", Input).value == "4k7k"
+        await type_into(pilot, "#f-value", "4k3")
+        await pilot.press("ctrl+s")
+        await pilot.pause()
+        assert isinstance(app.screen, DrawerScreen)
+        assert "✗" not in str(app.screen.query_one("#parts", DataTable).get_row(str(line))[0])
+    lines = raw_lines(broken_drawer)
+    assert lines[line - 1] == "resistor,4k3,3,5%,1/4W,,,,,,,,,,B3,typo\n"  # only the value cell re-spelt
+    part = Drawer.load(broken_drawer).part_at(line)
+    assert part.value == parse_resistance("4k3") and part.qty == 3
+
+
+async def test_a_line_with_errors_is_removed(broken_drawer):
+    before = raw_lines(broken_drawer)
+    line = len(before)  # the last line: qty "x"
+    app = make_app(broken_drawer)
+    async with app.run_test(size=SIZE) as pilot:
+        await choose_line(pilot, line)
+        await pilot.press("x")
+        await pilot.pause()
+        assert isinstance(app.screen, ConfirmDialog)
+        assert "qty" in str(app.screen.query_one(".dialog-detail").render())
+        await pilot.press("y")
+        await pilot.pause()
+        assert str(line) not in app.screen.query_one("#parts", DataTable).rows
+    assert raw_lines(broken_drawer) == before[:-1]
+
+
+async def test_square_brackets_in_the_file_are_text_not_markup(demo_drawer):
+    # Cells are the user's text: "[/b]" once crashed the app at start (read as a closing markup tag).
+    with demo_drawer.open("a", encoding="utf-8") as f:
+        f.write("resistor,3k9,3,5%,1/4W,,,,,,,,,,[/b],[bold]note\nresistor,4k7k,3,5%,1/4W,,,,,,,,,,[/],x\n")
+    n = len(raw_lines(demo_drawer))
+    app = make_app(demo_drawer)
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.pause()
+        assert "[/b]" in str(app.screen.query_one("#parts", DataTable).get_row(str(n - 1))[-1])
+        for keys in (["l"], ["escape"], ["slash", "left_square_bracket", "slash", "right_square_bracket", "enter"],
+                     ["escape"]):
+            await pilot.press(*keys)
+            await pilot.pause()
+        await choose_line(pilot, n - 1)
+        for keys in (["e"], ["escape"], ["c", "1", "enter"], ["x", "y"], ["h", "u"]):
+            await pilot.press(*keys)
+            await pilot.pause()
+        assert isinstance(app.screen, ConfirmDialog)
+        assert "[/b]" in str(app.screen.query_one(".dialog-detail").render())
+        await pilot.press("n")
+        await pilot.pause()
+        assert app.is_running and app._exception is None
+    assert all(p.location != "[/b]" for p in Drawer.load(demo_drawer).parts)  # the removal was saved

@@ -84,7 +84,7 @@ async def test_filter_design_build_and_undo(demo_drawer):
         await pilot.pause()
         assert isinstance(app.screen, HistoryScreen)
         journal = app.screen.query_one("#journal", DataTable)
-        assert journal.row_count == 1 and "take" in journal.get_row_at(0)
+        assert journal.row_count == 1 and "take" in [str(c) for c in journal.get_row_at(0)]
         await pilot.press("u")
         await pilot.pause()
         await pilot.press("y")

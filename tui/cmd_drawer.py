@@ -28,6 +28,7 @@ from inventory.journal import Entry, undone_ids
 from inventory.locate import InventoryNotFound, find_inventory
 from inventory.parts import DIELECTRICS, KINDS
 from inventory.store import Store
+from inventory.undo import pick
 
 from . import cmd_drawer_list
 from .cmd_common import InputError
@@ -236,10 +237,18 @@ def run_remove(args) -> int:
 
 def run_undo(args) -> int:
     store = _store(args)
-    entry = store.undo(args.entry, args.reason)
+    entry = store.undo(args.entry, args.reason or _undo_reason(store, args.entry))
     print(f"undid change {entry.undoes}")
     _say(store, entry)
     return 0
+
+
+def _undo_reason(store: Store, entry_id: int | None) -> str:
+    """The journal reason of an undo given without --reason: "undo of #N"."""
+    try:
+        return f"undo of #{pick(store.history(), entry_id).id}"
+    except Exception:  # noqa: BLE001 - only the wording; the undo itself then says what is wrong
+        return "undo"
 
 
 def run_history(args) -> int:

@@ -33,9 +33,9 @@ class ConfirmDialog(ModalScreen[bool]):
 
     def compose(self) -> ComposeResult:
         with Vertical(classes="dialog"):
-            yield Label(self.question, classes="dialog-title")
+            yield Label(self.question, classes="dialog-title", markup=False)
             if self.detail:
-                yield Static(self.detail, classes="dialog-detail")
+                yield Static(self.detail, classes="dialog-detail", markup=False)
             with Horizontal(classes="dialog-buttons"):
                 yield Button(f"{self.yes} (y)", variant="primary", id="yes")
                 yield Button("Cancel (n)", id="no")
@@ -88,11 +88,11 @@ class CountDialog(ModalScreen[int | None]):
 
     def compose(self) -> ComposeResult:
         with Vertical(classes="dialog"):
-            yield Label(f"Count of {describe(self.part)}", classes="dialog-title")
+            yield Label(f"Count of {describe(self.part)}", classes="dialog-title", markup=False)
             yield Static(f"Now {self.part.qty}. Type the number counted, or +n / -n.")
             yield Input(str(self.part.qty), id="qty", validators=[CountValidator(self.part.qty)],
                         validate_on=["changed", "submitted"])
-            yield Label("", id="qty-error", classes="field-error")
+            yield Label("", id="qty-error", classes="field-error", markup=False)
             with Horizontal(classes="dialog-buttons"):
                 yield Button("Save (enter)", variant="primary", id="save")
                 yield Button("Cancel (esc)", id="cancel")

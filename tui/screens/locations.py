@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from rich.text import Text
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Vertical
@@ -25,7 +26,8 @@ class LocationsScreen(ModalScreen[None]):
         table = self.query_one("#locations", DataTable)
         table.add_columns("Place", "Lines", "Pieces", "Of which")
         parts = self.app.drawer.parts if self.app.drawer else []
-        table.add_rows([(loc, str(n), str(q), kinds) for loc, n, q, kinds in per_location(parts)])
+        # Text cells: a location is the user's text, never markup.
+        table.add_rows([tuple(Text(str(c)) for c in row) for row in per_location(parts)])
         table.focus()
 
     def action_close(self) -> None:

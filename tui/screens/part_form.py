@@ -9,7 +9,7 @@ store refuses; its reason is shown in the form, which then stays open.
 from __future__ import annotations
 
 import re
-from collections.abc import Callable
+from collections.abc import Callable, Sequence
 
 from textual import on
 from textual.app import ComposeResult
@@ -17,7 +17,7 @@ from textual.binding import Binding
 from textual.containers import Horizontal, Vertical, VerticalScroll
 from textual.screen import ModalScreen
 from textual.validation import ValidationResult, Validator
-from textual.widgets import Button, Footer, Input, Label, Select
+from textual.widgets import Button, Footer, Input, Label, Select, Static
 
 from inventory import values
 from inventory.parts import DIELECTRICS, KINDS, Part
@@ -35,11 +35,11 @@ def parse_qty(text: str) -> float:
 # column -> (label, parser or None for free text, kinds it applies to, required)
 FIELDS: dict[str, tuple[str, Callable[[str], float] | None, tuple[str, ...], bool]] = {
     "value": ("Value", None, ("resistor", "capacitor"), True),
+    "part": ("Type", None, ("transistor",), True),
     "qty": ("Qty", parse_qty, KINDS, True),
     "tolerance": ("Tolerance", values.parse_tolerance, ("resistor", "capacitor"), False),
     "power": ("Power", values.parse_power, ("resistor",), False),
     "voltage": ("Voltage", values.parse_voltage, ("capacitor",), False),
-    "part": ("Type", None, ("transistor",), True),
     "hfe_min": ("hFE min", values.parse_number, ("transistor",), False),
     "hfe_max": ("hFE max", values.parse_number, ("transistor",), False),
     "vceo": ("VCEO", values.parse_voltage, ("transistor",), False),
@@ -66,7 +66,12 @@ class CellCheck(Validator):
 
 
 class PartForm(ModalScreen[bool]):
-    """Add a part (`part` None) or edit one; dismisses True once saved."""
+    """Add a part (`part` and `line` None), edit one, or fix a line with errors (`line` given,
+    `part` None, `problems` its messages); dismisses True once saved.
+
+    The kind is kept on the form (not read back from the Select), because the fields' checks
+    run as soon as their Inputs get a value, before the Select is mounted.
+    """
 
     BINDINGS = [
         Binding("ctrl+s", "save", "Save", id="form.save"),
@@ -74,16 +79,26 @@ class PartForm(ModalScreen[bool]):
     ]
 
     def __init__(self, part: Part | None, commit: Callable[[dict[str, str]], object],
-                 cells: dict[str, str] | None = None) -> None:
+                 cells: dict[str, str] | None = None, *, line: int | None = None,
+                 problems: Sequence[str] = ()) -> None:
         super().__init__()
         self.part, self.commit = part, commit
         self.cells = cells or {}
+        self.line = part.line if part is not None else line
+        self.problems = list(problems)
+        typed = self.cells.get("kind", "").strip().lower()
+        self._kind = part.kind if part is not None else typed if typed in KINDS else "resistor"
 
     def compose(self) -> ComposeResult:
-        title = "Add a part" if self.part is None else f"Edit line {self.part.line}"
-        kind = self.part.kind if self.part else "resistor"
+        if self.line is None:
+            title = "Add a part"
+        else:
+            title = f"{'Edit' if self.part is not None else 'Fix'} line {self.line}"
+        kind = self._kind
         with Vertical(classes="dialog form"):
             yield Label(title, classes="dialog-title")
+            if self.problems:
+                yield Static("\n".join(self.problems), id="line-problems", classes="field-error", markup=False)
             with VerticalScroll(classes="form-fields"):
                 with Horizontal(classes="field"):
                     yield Label("Kind", classes="field-label")
@@ -105,8 +120,8 @@ class PartForm(ModalScreen[bool]):
                             yield Input(self.cell(column, ""), placeholder=f"e.g. {hint}" if hint else "",
                                         id=f"f-{column}", compact=True,
                                         validators=[CellCheck(self, column)], validate_on=["changed"])
-                        yield Label("", id=f"e-{column}", classes="field-error")
-            yield Label("", id="form-status", classes="field-error")
+                        yield Label("", id=f"e-{column}", classes="field-error", markup=False)
+            yield Label("", id="form-status", classes="field-error", markup=False)
             with Horizontal(classes="dialog-buttons"):
                 yield Button("Save (ctrl+s)", variant="primary", id="save")
                 yield Button("Cancel (esc)", id="cancel")
@@ -114,17 +129,22 @@ class PartForm(ModalScreen[bool]):
 
     def cell(self, column: str, default):
         text = self.cells.get(column, "")
-        if column in ("polarity", "dielectric"):
-            text = text.upper() if column == "polarity" else text.lower()
+        if column == "polarity":  # a Select takes only its own options; other text starts blank
+            text = text.upper() if text.upper() in ("NPN", "PNP") else ""
+        elif column == "dielectric":
+            text = text.lower() if text.lower() in DIELECTRICS else ""
         return text if text else default
 
     def on_mount(self) -> None:
         self.show_kind()
-        self.query_one("#f-value" if self.kind in ("resistor", "capacitor") else "#f-part", Input).focus()
+        # An edit is most often a new count: start there (its text selected, so typing replaces it).
+        # A new line starts at what names the part: the value, or a transistor's type.
+        first = "qty" if self.part is not None else "value" if self.kind != "transistor" else "part"
+        self.query_one(f"#f-{first}", Input).focus()
 
     @property
     def kind(self) -> str:
-        return str(self.query_one("#kind", Select).value)
+        return self._kind
 
     def cell_problem(self, column: str, text: str) -> str | None:
         """Why `text` cannot go in `column` for the chosen kind, or None."""
@@ -143,6 +163,11 @@ class PartForm(ModalScreen[bool]):
         return None
 
     @on(Select.Changed, "#kind")
+    def kind_chosen(self, event: Select.Changed) -> None:
+        if isinstance(event.value, str) and event.value in KINDS:
+            self._kind = event.value
+        self.show_kind()
+
     def show_kind(self) -> None:
         kind = self.kind
         for column, (_, _, kinds, _) in FIELDS.items():
@@ -188,8 +213,14 @@ class PartForm(ModalScreen[bool]):
         out["polarity"] = str(self.query_one("#polarity", Select).value) if kind == "transistor" else ""
         dielectric = self.query_one("#dielectric", Select).value
         out["dielectric"] = str(dielectric) if kind == "capacitor" and dielectric != Select.NULL else ""
-        # An empty cell is left out, so a column the file lacks is not added for nothing.
-        return {k: v for k, v in out.items() if v or k in ("kind", "qty")}
+        for column in ("kind", "polarity", "dielectric"):  # "NPN" for "npn" is no change: keep the file's
+            if out[column] and out[column].lower() == self.cells.get(column, "").lower():
+                out[column] = self.cells[column]
+        # An empty cell is left out, so a column the file lacks is not added for nothing; a field of
+        # this kind emptied by the user empties its cell.  Cells of other kinds stay as they are.
+        shown = {c for c, (_, _, kinds, _) in FIELDS.items() if kind in kinds}
+        shown |= {"polarity"} if kind == "transistor" else {"dielectric"} if kind == "capacitor" else set()
+        return {k: v for k, v in out.items() if v or k in ("kind", "qty") or (k in shown and self.cells.get(k))}
 
     @on(Button.Pressed, "#save")
     def action_save(self) -> None:

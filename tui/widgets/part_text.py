@@ -2,11 +2,17 @@
 
 from __future__ import annotations
 
+from dataclasses import dataclass
+
+from inventory.drawer import Drawer
 from inventory.parts import Part
+from inventory.problems import printable
 from inventory.store import describe as store_describe
 from inventory.values import format_capacitance, format_resistance
 
 COLUMNS = ("Line", "Kind", "Value", "Tol", "Rating", "Type", "Qty", "Location")
+BROKEN_MARK = "✗"  # beside the line number of a line with errors
+CELL_WIDTH = 24     # a broken line's cell is shown cut to this many characters
 
 
 def number(value: float) -> str:
@@ -74,3 +80,51 @@ def sort_key(column: int):
         7: lambda p: (p.location, p.line),
     }
     return keys[column]
+
+
+@dataclass(frozen=True)
+class BrokenLine:
+    """A data line the drawer left out of its parts because it has errors."""
+
+    line: int
+    cells: dict[str, str]   # column name -> cell text as typed (stripped)
+    problems: tuple[str, ...]
+
+    def row_cells(self) -> tuple[str, ...]:
+        """The cells as typed, in `COLUMNS` order, escaped and cut to fit a table cell."""
+        c = self.cells
+        raw = (c.get("kind", ""), c.get("value", ""), c.get("tolerance", ""),
+               c.get("power") or c.get("voltage", ""), c.get("part") or c.get("dielectric", ""),
+               c.get("qty", ""), c.get("location", ""))
+        return (f"{self.line} {BROKEN_MARK}", *(cut(printable(t)) for t in raw))
+
+    def describe(self) -> str:
+        """"line 12 (resistor,4k7k,3,…): value "4k7k" is not a resistance …" for dialogs."""
+        return f"line {self.line}: " + "; ".join(self.problems or ("has errors",))
+
+
+def cut(text: str, width: int = CELL_WIDTH) -> str:
+    return text if len(text) <= width else text[:width - 1] + "…"
+
+
+def record_cells(drawer: Drawer, line: int) -> dict[str, str]:
+    """The cells of the data line on `line` as typed in the file, by column name ({} if none)."""
+    idx = drawer.record_index(line)
+    return cells_by_column(drawer, drawer.records[idx].cells) if idx is not None else {}
+
+
+def cells_by_column(drawer: Drawer, cells: list[str]) -> dict[str, str]:
+    return {name: cells[i].strip() for name, i in drawer.columns.items() if i < len(cells)}
+
+
+def broken_lines(drawer: Drawer) -> list[BrokenLine]:
+    """Every non-blank data line without a part, with its error messages, in file order."""
+    if drawer.header is None:
+        return []
+    errors: dict[int, list[str]] = {}
+    for p in drawer.problems:
+        if p.is_error:
+            errors.setdefault(p.line, []).append(printable(p.message))
+    return [BrokenLine(rec.line, cells_by_column(drawer, rec.cells), tuple(errors.get(rec.line, ())))
+            for rec in drawer.records[drawer.header + 1:]
+            if not rec.blank and drawer.part_at(rec.line) is None]
