@@ -13,8 +13,8 @@ from optimizer.spec import Spec
 from tests.demo_job import DEMO
 
 
-def _doc(spec, limit=20.0):
-    return find_designs(Drawer.load(DEMO), spec, time_limit_s=limit, hints=False)
+def _doc(spec, limit=20.0, depth=2):
+    return find_designs(Drawer.load(DEMO), spec, time_limit_s=limit, hints=False, depth=depth)
 
 
 def test_a_source_of_100k_asks_for_1M_by_default_and_is_proven_impossible():
@@ -25,8 +25,8 @@ def test_a_source_of_100k_asks_for_1M_by_default_and_is_proven_impossible():
 
 
 def test_thd_binds_names_the_cleanest_stage_and_the_option():
-    doc = _doc(Spec(gain=10, supply_v=12, swing_pp=5, max_thd=0.001, min_rin_ohms=8e3, source_ohms=1e3))
-    assert doc["designs"] == []
+    doc = _doc(Spec(gain=10, supply_v=12, swing_pp=5, max_thd=0.001, min_rin_ohms=8e3, source_ohms=1e3), depth=1)
+    assert doc["designs"] == [] and doc["status"] == "infeasible"
     thd = [w for w in doc["why"] if w.startswith("THD binds")]
     assert thd and "--max-thd" in thd[0] and "at 5 V p-p" in thd[0], doc["why"]
 
