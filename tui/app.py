@@ -63,7 +63,7 @@ class DrawerfitApp(App[int]):
 
             self.push_screen(ResultsScreen(self.opened))
         if self.notice:
-            self.notify(self.notice, title="Drawer file", timeout=8)
+            self.notify(self.notice, title="Drawer file", timeout=8, markup=False)  # a path is text
 
     def mark_headers(self, screen) -> None:
         """drawerfit's mark in the header of every screen, whichever header widget the screen uses."""
@@ -102,11 +102,12 @@ class DrawerfitApp(App[int]):
             change()
         except (StoreError, ValueError, OSError) as exc:
             message = str(exc) or type(exc).__name__
-            self.notify(message, title="Not saved", severity="error", timeout=10)
+            # The store's messages quote the user's cells; they are text, never markup.
+            self.notify(message, title="Not saved", severity="error", timeout=10, markup=False)
             self.reload()
             return message
         self.reload()
-        self.notify(done, title="Saved")
+        self.notify(done, title="Saved", markup=False)
         return None
 
     # ---- actions -------------------------------------------------------------------------

@@ -1,6 +1,7 @@
 """Print the trial figures the lead quotes: fuzz cases, kill trials, concurrent decrements, design fuzz.
 
-    python -m tests.helpers.figures [--design-cases 2000] [--time-limit 2] [--only design]
+    python -m tests.helpers.figures [--design-cases 2000] [--time-limit 2] [--app-sessions 36]
+                                    [--only drawer|design|app]
 
 The design fuzz (tests/helpers/design_fuzz.py) runs `drawerfit design` through `tui.cli.main` on
 random drawers and requests and prints tracebacks, overruns, stock violations, changed drawer files
@@ -26,12 +27,24 @@ def main() -> None:
     parser.add_argument("--design-cases", type=int, default=2000)
     parser.add_argument("--time-limit", type=float, default=2.0)
     parser.add_argument("--seed", type=int, default=20261202)
-    parser.add_argument("--only", choices=("drawer", "design"))
+    parser.add_argument("--app-sessions", type=int, default=36)
+    parser.add_argument("--app-keys", type=int, default=120)
+    parser.add_argument("--only", choices=("drawer", "design", "app"))
     opts = parser.parse_args()
-    if opts.only != "design":
+    if opts.only in (None, "drawer"):
         drawer_figures()
-    if opts.only != "drawer":
+    if opts.only in (None, "design"):
         design_figures(opts.design_cases, opts.time_limit, opts.seed)
+    if opts.only in (None, "app"):
+        app_figures(opts.app_sessions, opts.app_keys, opts.seed)
+
+
+def app_figures(sessions: int, keys: int, seed: int) -> None:
+    from tests.helpers import app_monkey
+
+    t0 = time.perf_counter()
+    tally = app_monkey.run(sessions, keys, seed=seed)
+    print("\n".join(app_monkey.figures(tally, time.perf_counter() - t0)))
 
 
 def design_figures(cases: int, time_limit: float, seed: int) -> None:
