@@ -18,6 +18,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from .stopwatch import poll
 from .network_table import (
     COUNT, FRACTION, PARALLEL2, PARALLEL3, PARALLEL_IN_SERIES, POSITIVE, RATING, SERIES2, SERIES3,
     SERIES_IN_PARALLEL, SHAPE_NAMES, SINGLE, Distinct, Leaf, PartsTable, Usage, argsort_positive, check_stock,
@@ -146,6 +147,7 @@ class _Builder:
                 for a, b in zip(edges[:-1], edges[1:], strict=True))
 
     def _chunk(self, base, series, start, stop, lo, hi, windowed, rows) -> _Nets:
+        poll()  # a deep table on a large drawer takes seconds: a stop must not wait for it
         b, c = ragged(start[rows], stop[rows])
         b = rows[b]
         self.candidates += len(c)

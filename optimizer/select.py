@@ -129,15 +129,19 @@ def search(rstock, cstock, qlines, spec, *, top=3, depth=3, progress=None, cance
     front = _Front(positions, sol, lambda r: _add_caps(topology, r, spec, options, cap_qty, positions, sol),
                    keep_dominated=accept is not None, spare=spare_parts)
     budget = n_min
-    sol.pool = Pool(rstock, depth)  # a value's fewest parts do not depend on the depth built to
     try:
         with stopwatch.watch(cancel, deadline):
+            # Pools grow with the budget (a deep table on a large drawer takes seconds); a value's
+            # fewest parts are the same in every pool that holds it, so rows keep their meaning.
+            sol.pool = Pool(rstock, min(depth, 2))
             _screen_seeds(topology, positions, spec, models, qlines, sol, front)
             for budget in range(n_min, b_max + 1):
                 if budget + MIN_CAPS + 1 > front.fewest_parts + spare_parts:
                     break  # every design left needs more parts than the set spans
                 sol.budget = budget
                 level = min(depth, budget - n_min + 1)
+                if sol.pool.depth < level:
+                    sol.pool = Pool(rstock, level)
                 for profile in _anytime_order(profiles(topology, budget, level), sol.pool):
                     for model, members in models.items():
                         q = qlines[members[0]]
