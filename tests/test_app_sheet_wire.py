@@ -11,6 +11,7 @@ import errno
 import io
 import json
 import re
+import threading
 
 import pytest
 from textual.widgets import DataTable, Input, Label, RadioSet, Static
@@ -27,6 +28,7 @@ from tui.screens.drawer import DrawerScreen
 from tui.screens.export_dialog import ExportDialog
 from tui.screens.history import HistoryScreen
 from tui.screens.sheet import SheetScreen
+from tui.widgets import crosscheck_panel as panel_module
 
 from .app_fixtures import demo_drawer, type_into  # noqa: F401  (fixtures)
 from .demo_job import DEMO
@@ -145,6 +147,48 @@ async def test_without_ngspice_the_sheet_says_how_to_install_it(demo_drawer, mon
         status = str(app.screen.query_one("#xcheck-status", Static).render())
         assert status == xc.NOT_INSTALLED and "apt-get install ngspice" in status
         assert app.screen.query_one("#xcheck", DataTable).row_count == 0 and app.is_running
+
+
+async def test_a_running_check_is_not_doubled_and_leaving_the_sheet_is_safe(demo_drawer, monkeypatch):
+    release = threading.Event()
+
+    def slow(design, spec, **kw):
+        release.wait(10)
+        return xc.CrossCheck(True, True, "done", [])
+
+    monkeypatch.setattr(panel_module, "crosscheck", slow)
+    app = make_app(demo_drawer)
+    async with app.run_test(size=(100, 32)) as pilot:
+        await open_sheet(pilot, trade_doc())
+        await pilot.press("n")
+        await pilot.pause()
+        assert "Simulating" in str(app.screen.query_one("#xcheck-status", Static).render())
+        await pilot.press("n")
+        await pilot.pause()
+        assert any("still running" in n for n in notes(app))
+        await pilot.press("escape")  # leave while ngspice "runs"
+        await pilot.pause()
+        release.set()
+        await settle(pilot)
+        assert isinstance(app.screen, DrawerScreen) and app.is_running
+
+
+async def test_an_unexpected_failure_of_the_check_is_shown_not_raised(demo_drawer, monkeypatch):
+    def broken(design, spec, **kw):
+        raise ZeroDivisionError("float division by zero")
+
+    monkeypatch.setattr(panel_module, "crosscheck", broken)
+    app = make_app(demo_drawer)
+    async with app.run_test(size=(100, 32)) as pilot:
+        await open_sheet(pilot, trade_doc())
+        await pilot.press("n")
+        await settle(pilot)
+        status = str(app.screen.query_one("#xcheck-status", Static).render())
+        assert status.startswith("the ngspice check stopped") and "division by zero" in status
+        await pilot.press("n")  # and it can be run again
+        await pilot.pause()
+        assert not any("still running" in n for n in notes(app))
+    assert app.return_code in (None, 0)
 
 
 # ---- building twice (issue 10, item 7) and the past build's sheet -------------------------------

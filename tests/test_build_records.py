@@ -128,3 +128,5 @@ def test_crosscheck_rows_are_spelled_by_the_one_rule():
     assert table[2][2:] == ("22.9 Hz", "–", "–")
     assert table[3][2:] == ("1.20 %", "1.21 %", "+0.83 %")
     assert deviation_text({"relative": -0.0123}) == "-1.23 %"
+    assert deviation_text({"relative": -1e-7}) == "0.00 %"  # no "-0.00 %"
+    assert table_rows([{**rows[0], "hfe": 252.982}])[0][1] == "hFE min (253)"

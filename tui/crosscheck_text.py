@@ -18,10 +18,11 @@ SPELL = {"vb": figures.volts, "ve": figures.volts, "vc": figures.volts, "gain": 
 
 
 def deviation_text(row: dict) -> str:
-    """"+0.31 %" (relative, signed), the difference in the figure's unit, or a dash."""
+    """"+0.31 %" (relative, signed; "0.00 %" when it rounds to nothing), the difference in the figure's
+    unit, or a dash."""
     rel = row.get("relative")
     if rel is not None:
-        return f"{100 * rel:+.2f} %"
+        return "0.00 %" if abs(rel) < 5e-5 else f"{100 * rel:+.2f} %"  # no sign on what rounds to zero
     dev = row.get("deviation")
     if dev is None:
         return figures.DASH
@@ -30,9 +31,9 @@ def deviation_text(row: dict) -> str:
 
 
 def corner_text(row: dict) -> str:
-    """"hFE min (200)"."""
+    """"hFE min (200)", the hFE to three digits as the sheet's title spells it."""
     hfe = row.get("hfe")
-    return f"hFE {row.get('corner', '')}" + (f" ({hfe:g})" if isinstance(hfe, (int, float)) else "")
+    return f"hFE {row.get('corner', '')}" + (f" ({hfe:.3g})" if isinstance(hfe, (int, float)) else "")
 
 
 def table_rows(rows: list[dict]) -> list[tuple[str, str, str, str, str]]:

@@ -14,21 +14,19 @@ from pathlib import Path
 from textual import work
 from textual.app import ComposeResult
 from textual.binding import Binding
-from textual.containers import Vertical, VerticalScroll
+from textual.containers import VerticalScroll
 from textual.screen import Screen
 from textual.widgets import DataTable, Footer, Label, Static
 from textual.worker import Worker, WorkerState
 
 from inventory.atomic import atomic_write
 from optimizer import network_tree
-from optimizer.crosscheck import CrossCheck, crosscheck
-
-from .. import crosscheck_text
 from ..builds import build_record, last_build, record_problem, sheet_document, tag_of
 from ..schematic import draw_stage, position_text
 from ..sheet_text import best_for_text, cautions
 from ..widgets import figures
 from ..widgets.chart import Chart, draw_histogram, draw_response
+from ..widgets.crosscheck_panel import BAD_DESIGN, CrossCheckPanel
 from ..widgets.masthead import Masthead
 from ..widgets.part_text import rating_text, tolerance_text, type_text, value_text
 
@@ -127,9 +125,6 @@ def figures_text(design: dict) -> str:
 
 __all__ = ["SheetScreen", "build_record", "open_past_sheet"]  # build_record: tui/builds.py, kept importable here
 
-XCHECK_TIMEOUT_S = 60.0  # per hFE corner; the demo job takes well under a second per corner
-BAD_DESIGN = (KeyError, TypeError, ValueError, IndexError, AttributeError, RuntimeError)  # a hand-edited figure
-
 
 class SheetScreen(Screen):
     """How to build design #rank from the drawer."""
@@ -146,7 +141,6 @@ class SheetScreen(Screen):
     def __init__(self, rank: int, design: dict, result: dict) -> None:
         super().__init__()
         self.rank, self.design, self.result = rank, design, result
-        self.checking = False
 
     @classmethod
     def from_record(cls, record: dict) -> SheetScreen:
@@ -279,48 +273,20 @@ class SheetScreen(Screen):
 
     # ---- ngspice beside drawerfit ------------------------------------------------------------
 
-    def action_crosscheck(self) -> None:
-        if self.checking:
+    async def action_crosscheck(self) -> None:
+        panels = self.query(CrossCheckPanel)
+        if panels:
+            panel = panels.first()
+        else:
+            panel = CrossCheckPanel(self.design, self.result.get("spec") or {}, id="xcheck-section")
+            await self.query_one("#sheet", VerticalScroll).mount(panel, after="#predicted")
+        if not panel.start():
             self.notify("ngspice is still running", severity="warning")
-            return
-        sheet = self.query_one("#sheet", VerticalScroll)
-        if not self.query("#xcheck-section"):
-            sheet.mount(Vertical(Label("ngspice beside drawerfit", classes="section-title"),
-                                 Static("", id="xcheck-status"),
-                                 DataTable(id="xcheck", cursor_type="none", zebra_stripes=True),
-                                 id="xcheck-section"), after="#predicted")
-        self.checking = True
-        self.call_after_refresh(self.show_check_status, "Simulating in ngspice at hFE min, typical and max …")
-        self.run_crosscheck()
-
-    def show_check_status(self, text: str) -> None:
-        status = self.query_one("#xcheck-status", Static)
-        status.update(text)
-        self.query_one("#sheet", VerticalScroll).scroll_to_widget(self.query_one("#xcheck-section"))
-
-    @work(thread=True, exclusive=True, group="sheet-ngspice", exit_on_error=False)
-    def run_crosscheck(self) -> None:
-        try:
-            check = crosscheck(self.design, self.result.get("spec") or {}, timeout_s=XCHECK_TIMEOUT_S)
-        except BAD_DESIGN as exc:  # the engine reports ngspice's troubles itself; this is a damaged design
-            check = CrossCheck(True, False, f"design #{self.rank} cannot be simulated ({exc!r})")
-        self.app.call_from_thread(self.show_crosscheck, check)
-
-    def show_crosscheck(self, check: CrossCheck) -> None:
-        self.checking = False
-        if not self.is_mounted:  # the sheet was left while ngspice ran
-            return
-        self.show_check_status(check.message)
-        table = self.query_one("#xcheck", DataTable)
-        table.clear(columns=True)
-        if check.rows:
-            table.add_columns(*crosscheck_text.COLUMNS)
-            table.add_rows(crosscheck_text.table_rows(check.rows))
+        self.call_after_refresh(lambda: self.query_one("#sheet", VerticalScroll).scroll_to_widget(
+            panel, top=True, animate=False))
 
     def on_worker_state_changed(self, event: Worker.StateChanged) -> None:
-        if event.state == WorkerState.ERROR and event.worker.group == "sheet-ngspice":
-            self.show_crosscheck(CrossCheck(True, False, f"the ngspice check stopped: {event.worker.error!r}"))
-        elif event.state == WorkerState.ERROR and event.worker.group == "sheet-export":
+        if event.state == WorkerState.ERROR and event.worker.group == "sheet-export":
             self.notify(f"The sheet was not written: {event.worker.error!r}", title="Not written", severity="error")
 
 
