@@ -89,7 +89,7 @@ async def test_the_export_is_in_the_palette_and_a_bad_place_is_said_not_raised(d
     app = make_app(demo_drawer)
     async with app.run_test(size=(100, 32)) as pilot:
         await open_sheet(pilot, trade_doc())
-        await pilot.press("ctrl+p", *"Write to a file")
+        await pilot.press("ctrl+p", *"Write out")
         await pilot.pause(0.3)
         await pilot.press("enter")
         await pilot.pause()

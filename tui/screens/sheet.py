@@ -131,9 +131,9 @@ class SheetScreen(Screen):
 
     BINDINGS = [
         Binding("b", "build", "Take the parts", id="sheet.build", tooltip="Build it: take these parts off the drawer counts"),
-        Binding("w", "export", "Write to a file", id="sheet.export",
-                tooltip="Write this sheet as html (to print), svg, md, csv (pick list) or cir (SPICE bench)"),
-        Binding("n", "crosscheck", "Check in ngspice", id="sheet.ngspice",
+        Binding("w", "export", "Write out", id="sheet.export",
+                tooltip="Write this sheet to a file: html (to print), svg, md, csv (pick list) or cir (SPICE bench)"),
+        Binding("n", "crosscheck", "ngspice check", id="sheet.ngspice",
                 tooltip="Simulate the design in ngspice at hFE min, typical and max, beside drawerfit's figures"),
         Binding("escape", "back", "Back", id="sheet.back", tooltip="Back to the designs"),
     ]
