@@ -269,12 +269,13 @@ def _check_count(qty: object, what: str, positive: bool = False) -> None:
 
 
 def _json_object(design: object) -> dict | None:
-    """A copy of `design` as the journal will hold it, checked before anything is written."""
+    """A copy of `design` as the journal will hold it (strict JSON: a NaN or infinite figure becomes null),
+    checked before anything is written."""
     if design is None:
         return None
     if not isinstance(design, dict):
         raise StoreError(f"a build's design record must be a JSON object, not {type(design).__name__}")
     try:
-        return json.loads(json.dumps(design))
+        return json.loads(json.dumps(design), parse_constant=lambda name: None)
     except (TypeError, ValueError, RecursionError) as exc:
         raise StoreError(f"a build's design record cannot be journaled ({exc})") from None

@@ -38,6 +38,14 @@ def test_take_keeps_the_record_and_other_entries_stay_as_they_were(drawer):  # n
     assert store.history()[0].design["rank"] == 2
 
 
+def test_a_record_is_journaled_as_strict_json(drawer):  # noqa: F811
+    store = Store(drawer)
+    store.take([(2, 1)], "built", design={"design": {"predicted": {"thd": float("nan"), "rout": float("inf")}}})
+    line = journal_path(drawer).read_text()
+    assert "NaN" not in line and "Infinity" not in line
+    assert store.history()[0].design == {"design": {"predicted": {"thd": None, "rout": None}}}
+
+
 @pytest.mark.parametrize("odd", ["text", 3, [1, 2], None, True])
 def test_a_record_of_an_odd_shape_is_ignored_not_the_entry(tmp_path, odd):
     path = tmp_path / "j.jsonl"
