@@ -17,8 +17,9 @@ removed line back where it was.  Two optional flags: "rewrite": true marks an ed
 line (undo puts raw_before back), "header": true the header line, changed when an added part
 needed a column the file lacked.  A take may carry "design": the build's record (a JSON
 object: the design, its rank and request) so its build sheet can be shown again; a value of
-another shape is ignored on reading, and entries without it are written without the key.  An undo entry names the entry it reverts in `undoes` and lists
-the changes it made, so it can be undone in turn.  Ids count up from 1.
+another shape is ignored on reading, and entries without it are written without the key.  An
+undo entry names the entry it reverts in `undoes` and lists the changes it made, so it can be
+undone in turn.  Ids count up from 1.
 
 The drawer file is saved before its entry is appended (both under the drawer's lock): a crash
 between the two leaves a change without an entry, never an entry for a change not made.  A torn

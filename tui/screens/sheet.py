@@ -212,7 +212,8 @@ class SheetScreen(Screen):
             self.notify(f"{self.app.store.journal.path}: cannot read the journal ({exc.strerror or exc})",
                         title="Not built", severity="error", timeout=10)
             return
-        what = f"{'another copy of ' if built else ''}design #{self.rank} ({self.design.get('topology', '')}, gain {gain})"
+        copy = "another copy of " if built else ""
+        what = f"{copy}design #{self.rank} ({self.design.get('topology', '')}, gain {gain})"
         record = build_record(self.rank, self.design, self.result)
 
         def done(yes: bool | None) -> None:
@@ -233,9 +234,9 @@ class SheetScreen(Screen):
                 f"{len(uses)} drawer lines again? If that build never happened, undo change #{built.id} "
                 "in the history instead.", "Build another copy"), done)
             return
-        self.app.push_screen(ConfirmDialog("Build this design and take its parts from the drawer?",
-                                           f"{pieces} parts from {len(uses)} drawer lines will be taken off the counts.",
-                                           "Build"), done)
+        self.app.push_screen(ConfirmDialog(
+            "Build this design and take its parts from the drawer?",
+            f"{pieces} parts from {len(uses)} drawer lines will be taken off the counts.", "Build"), done)
 
     # ---- the sheet as a file -------------------------------------------------------------
 
