@@ -75,7 +75,10 @@ async def test_md_and_csv_written_from_the_sheet(demo_drawer, tmp_path):
         await open_sheet(pilot, doc, rank=2)
         await write_as(pilot, 2, tmp_path / "sheet.md")
         await write_as(pilot, 3, tmp_path / "picks.csv")
+        await write_as(pilot, 0, tmp_path / "sheet.html")  # plots drawn with matplotlib in the worker thread
         assert isinstance(app.screen, SheetScreen) and app.is_running
+    html = (tmp_path / "sheet.html").read_text(encoding="utf-8")
+    assert html.lstrip().lower().startswith("<!doctype html") and "<svg" in html
     md = (tmp_path / "sheet.md").read_text(encoding="utf-8")
     assert "Design 2 of `drawer.csv`" in md
     rows = list(csv.DictReader(io.StringIO((tmp_path / "picks.csv").read_text(encoding="utf-8"))))
