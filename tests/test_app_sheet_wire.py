@@ -14,7 +14,8 @@ import re
 import threading
 
 import pytest
-from textual.widgets import DataTable, Input, Label, RadioSet, Static
+from textual.widgets import DataTable, Label, RadioSet, Static
+from textual.worker import WorkerState
 
 from inventory.drawer import Drawer
 from inventory.store import Store
@@ -169,11 +170,12 @@ async def test_a_running_check_is_not_doubled_and_leaving_the_sheet_is_safe(demo
         await pilot.press("n")
         await pilot.pause()
         assert any("still running" in n for n in notes(app))
-        await pilot.press("escape")  # leave while ngspice "runs"
-        await pilot.pause()
-        release.set()
+        (worker,) = [w for w in app.workers if w.group == "ngspice"]
+        await pilot.press("escape")  # leave while ngspice "runs": the worker stops waiting for it
         await settle(pilot)
+        assert worker.state == WorkerState.CANCELLED and not release.is_set()
         assert isinstance(app.screen, DrawerScreen) and app.is_running
+        release.set()
 
 
 async def test_an_unexpected_failure_of_the_check_is_shown_not_raised(demo_drawer, monkeypatch):

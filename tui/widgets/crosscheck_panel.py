@@ -3,15 +3,22 @@
 The simulation (optimizer.crosscheck, one bounded ngspice run per hFE corner) runs in a thread
 worker; the thread never touches a widget, it hands the result back with `call_from_thread`.
 When ngspice is absent the engine's own message (how to install it) is shown.
+
+The engine cannot be interrupted mid-run, so the worker runs it on a daemon thread and waits
+for it in short steps: leaving the sheet or quitting cancels the worker at once (the result is
+dropped; a running ngspice finishes its corner on its own), instead of holding the app's exit
+for up to a corner's time limit.
 """
 
 from __future__ import annotations
+
+import threading
 
 from textual import work
 from textual.app import ComposeResult
 from textual.containers import Vertical
 from textual.widgets import DataTable, Label, Static
-from textual.worker import Worker, WorkerState
+from textual.worker import Worker, WorkerState, get_current_worker
 
 from optimizer.crosscheck import CrossCheck, crosscheck
 
@@ -52,11 +59,26 @@ class CrossCheckPanel(Vertical):
 
     @work(thread=True, exclusive=True, group="ngspice", exit_on_error=False)
     def simulate(self) -> None:
-        try:
-            check = crosscheck(self.design, self.spec, timeout_s=TIMEOUT_S)
-        except BAD_DESIGN as exc:  # the engine reports ngspice's own troubles; this is a damaged design
-            check = CrossCheck(True, False, f"this design cannot be simulated ({exc!r})")
-        self.app.call_from_thread(self.show, check)
+        worker = get_current_worker()
+        done, box = threading.Event(), {}
+
+        def run() -> None:
+            try:
+                box["check"] = crosscheck(self.design, self.spec, timeout_s=TIMEOUT_S)
+            except BAD_DESIGN as exc:  # the engine reports ngspice's own troubles; this is a damaged design
+                box["check"] = CrossCheck(True, False, f"this design cannot be simulated ({exc!r})")
+            except Exception as exc:  # handed to the worker, which reports it (on_worker_state_changed)
+                box["error"] = exc
+            finally:
+                done.set()
+
+        threading.Thread(target=run, name="drawerfit-ngspice", daemon=True).start()
+        while not done.wait(0.1):
+            if worker.is_cancelled:
+                return
+        if "error" in box:
+            raise box["error"]
+        self.app.call_from_thread(self.show, box["check"])
 
     def show(self, check: CrossCheck) -> None:
         self.running = False
