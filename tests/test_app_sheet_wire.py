@@ -117,6 +117,30 @@ async def test_the_export_is_in_the_palette_and_a_bad_place_is_said_not_raised(d
     assert list(tmp_path.iterdir()) == [demo_drawer]
 
 
+async def test_a_file_that_exists_is_replaced_only_when_asked_twice(demo_drawer, tmp_path):
+    mine = tmp_path / "notes.md"
+    mine.write_text("my own notes\n")
+    app = make_app(demo_drawer)
+    async with app.run_test(size=(100, 32)) as pilot:
+        await open_sheet(pilot, trade_doc())
+        await pilot.press("w")
+        await pilot.pause()
+        await type_into(pilot, "#path", str(mine))
+        await pilot.press("enter")
+        await pilot.pause()
+        assert isinstance(app.screen, ExportDialog)
+        assert "exists" in str(app.screen.query_one("#path-error", Label).render())
+        assert mine.read_text() == "my own notes\n"
+        await pilot.press("escape")
+        await pilot.pause()
+        await write_as(pilot, 2, mine)  # md; asked once more below
+        assert isinstance(app.screen, ExportDialog)
+        await pilot.press("enter")
+        await settle(pilot)
+        assert isinstance(app.screen, SheetScreen)
+    assert mine.read_text(encoding="utf-8").startswith("# Build sheet")
+
+
 # ---- ngspice from the app (issue: "The ngspice check runs from the app in a Pilot test") ----------
 
 @pytest.mark.ngspice

@@ -49,6 +49,7 @@ class ExportDialog(ModalScreen[tuple[str, Path] | None]):
     def __init__(self, default_name: str, fmt: str = "html") -> None:
         super().__init__()
         self.default_name, self.fmt = default_name, fmt
+        self.replace_ok: Path | None = None  # a file that exists, replaced only when asked twice
 
     def compose(self) -> ComposeResult:
         with Vertical(classes="dialog wide"):
@@ -56,7 +57,8 @@ class ExportDialog(ModalScreen[tuple[str, Path] | None]):
             with RadioSet(id="format"):
                 for fmt in FORMATS:
                     yield RadioButton(f"{fmt}: {WHAT[fmt]}", value=fmt == self.fmt, id=f"fmt-{fmt}")
-            yield Static("The file (a path, ~ allowed); it is replaced whole if it exists.", classes="dialog-detail")
+            yield Static("The file (a path, ~ allowed). A file that exists is replaced only when you write twice.",
+                         classes="dialog-detail")
             yield Input(f"{self.default_name}.{self.fmt}", id="path")
             yield Label("", id="path-error", classes="field-error")
             with Horizontal(classes="dialog-buttons"):
@@ -78,10 +80,14 @@ class ExportDialog(ModalScreen[tuple[str, Path] | None]):
     def write(self) -> None:
         text = self.query_one("#path", Input).value
         problem = target_problem(text)
+        path = Path(text.strip()).expanduser()
+        if not problem and path.exists() and self.replace_ok != path:
+            self.replace_ok = path
+            problem = f"{path.name} exists: Write again to replace it."
         if problem:
             self.query_one("#path-error", Label).update(problem)
             return
-        self.dismiss((self.fmt, Path(text.strip()).expanduser()))
+        self.dismiss((self.fmt, path))
 
     @on(Button.Pressed, "#cancel")
     def action_cancel(self) -> None:
