@@ -15,8 +15,11 @@ it (for a remove: as it was); `identity` is Part.identity, null for a line with 
 then found again by its raw text.  `index` is the record's position in the file, used to put a
 removed line back where it was.  Two optional flags: "rewrite": true marks an edit of the whole
 line (undo puts raw_before back), "header": true the header line, changed when an added part
-needed a column the file lacked.  An undo entry names the entry it reverts in `undoes` and lists
-the changes it made, so it can be undone in turn.  Ids count up from 1.
+needed a column the file lacked.  A take may carry "design": the build's record (a JSON
+object: the design, its rank and request) so its build sheet can be shown again; a value of
+another shape is ignored on reading, and entries without it are written without the key.  An
+undo entry names the entry it reverts in `undoes` and lists the changes it made, so it can be
+undone in turn.  Ids count up from 1.
 
 The drawer file is saved before its entry is appended (both under the drawer's lock): a crash
 between the two leaves a change without an entry, never an entry for a change not made.  A torn
@@ -65,9 +68,13 @@ class Entry:
     file: str
     changes: list[Change] = field(default_factory=list)
     undoes: int | None = None
+    design: dict | None = None  # a build's record (take only); kept out of the line when absent
 
     def to_json(self) -> dict:
-        return asdict(self)
+        out = asdict(self)
+        if out["design"] is None:
+            del out["design"]
+        return out
 
     @classmethod
     def from_json(cls, obj: object) -> Entry:
@@ -87,6 +94,7 @@ class Entry:
             id=obj["id"], time=obj["time"], action=action,
             reason=str(obj.get("reason", "")), file=str(obj.get("file", "")),
             changes=[_change(c) for c in changes], undoes=undoes,
+            design=obj["design"] if isinstance(obj.get("design"), dict) else None,  # odd shapes: no record
         )
 
 

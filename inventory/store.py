@@ -10,6 +10,7 @@ the file is kept.  Undo works on the current file by identity, so it survives ot
 
 from __future__ import annotations
 
+import json
 import os
 from collections import defaultdict
 from collections.abc import Callable, Iterable
@@ -67,14 +68,15 @@ class Store:
 
     # ---- the transaction -------------------------------------------------------------------
 
-    def _transact(self, action: str, reason: str, plan: Callable[[Txn], None]) -> Entry:
+    def _transact(self, action: str, reason: str, plan: Callable[[Txn], None], design: dict | None = None) -> Entry:
         try:
             with locked(self._real, self.lock_timeout_s):
-                return self._transact_locked(action, reason, plan)
+                return self._transact_locked(action, reason, plan, design)
         except LockBusy as exc:
             raise StoreError(str(exc)) from None
 
-    def _transact_locked(self, action: str, reason: str, plan: Callable[[Txn], None]) -> Entry:
+    def _transact_locked(self, action: str, reason: str, plan: Callable[[Txn], None],
+                         design: dict | None = None) -> Entry:
         data = self._read()
         moved = self._base is not None and data != self._base
         # Unchanged since this Store read it: the parsed drawer is still right (a large file is read once).
@@ -105,7 +107,7 @@ class Store:
         except OSError as exc:
             raise StoreError(f"{self.journal.path}: cannot read the journal ({exc.strerror or exc}); "
                              "nothing was written") from None
-        entry = Entry(entry_id, now_iso(), action, reason, self.path.name, changes, txn.undoes)
+        entry = Entry(entry_id, now_iso(), action, reason, self.path.name, changes, txn.undoes, design)
         if not os.access(self._real, os.W_OK) or not self._real.stat().st_mode & 0o222:
             # os.replace would replace a read-only file regardless (the folder is what it checks)
             raise StoreError(f"{self.path} is read-only; nothing was written")
@@ -192,11 +194,14 @@ class Store:
 
         return self._transact("count", reason, plan)
 
-    def take(self, uses: Iterable, reason: str = "") -> Entry:
+    def take(self, uses: Iterable, reason: str = "", design: dict | None = None) -> Entry:
         """Take a build's parts: uses = [(line, qty), …] (or [{"line", "qty"}, …]); one entry for all.
 
-        Refused with StockError naming every short line when any line lacks stock.
+        `design`: the build's record (a JSON object, e.g. the design, its rank and request), kept in
+        the journal entry so the build's sheet can be shown again.  Refused with StockError naming
+        every short line when any line lacks stock.
         """
+        design = _json_object(design)
         wanted: dict[int, int] = defaultdict(int)
         for use in uses:
             line, qty = (use["line"], use["qty"]) if isinstance(use, dict) else use
@@ -213,7 +218,7 @@ class Store:
             for _, idx, part, need in found:
                 qty_edit(txn, idx, part, part.qty - need)
 
-        return self._transact("take", reason, plan)
+        return self._transact("take", reason, plan, design)
 
     def remove_part(self, line: int, reason: str = "") -> Entry:
         """Remove the line (a line with errors too); refused if it was edited since loading."""
@@ -261,3 +266,16 @@ def _check_count(qty: object, what: str, positive: bool = False) -> None:
     if not isinstance(qty, int) or isinstance(qty, bool) or qty < (1 if positive else 0):
         least = "1 or more" if positive else "0 or more"
         raise StoreError(f"{what} must be a whole number, {least}, not {qty!r}")
+
+
+def _json_object(design: object) -> dict | None:
+    """A copy of `design` as the journal will hold it (strict JSON: a NaN or infinite figure becomes null),
+    checked before anything is written."""
+    if design is None:
+        return None
+    if not isinstance(design, dict):
+        raise StoreError(f"a build's design record must be a JSON object, not {type(design).__name__}")
+    try:
+        return json.loads(json.dumps(design), parse_constant=lambda name: None)
+    except (TypeError, ValueError, RecursionError) as exc:
+        raise StoreError(f"a build's design record cannot be journaled ({exc})") from None

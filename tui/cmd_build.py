@@ -5,7 +5,8 @@
 The saved file is checked whole before anything is touched (it may be hand-edited or come from
 elsewhere).  A design already built from this file is refused unless `--again` asks for
 another copy: the journal entry of a build carries a tag `[design <digest>]` naming the saved
-design, and a build whose entry is not undone counts.
+design, and a build whose entry is not undone counts (tui/builds.py; the app does the same).
+The entry also keeps the build's record (the design and its request) for the app's history.
 
 Exit codes: 0 parts taken, 1 refused by the drawer's state (it changed since the design was
 saved, too few parts left, already built), 2 bad input (the file, --pick).
@@ -13,16 +14,17 @@ saved, too few parts left, already built), 2 bad input (the file, --pick).
 
 from __future__ import annotations
 
-import hashlib
 import json
 from pathlib import Path
 
 from inventory.edits import ConflictError, StockError, StoreError
-from inventory.journal import undone_ids
 from inventory.rows import identity_key
 from inventory.store import Store
 
+from .builds import build_record, design_tag, last_build
 from .cmd_common import InputError, drawer_path, load_drawer, say, whole
+
+__all__ = ["register", "read_saved", "design_tag", "run_build"]
 
 MAX_SAVED_BYTES = 50_000_000  # a saved design is a few kB; anything this big is not one
 MAX_QTY = 1_000_000_000
@@ -96,13 +98,6 @@ def _shown(x) -> str:
     return text if len(text) <= 60 else text[:57] + "..."
 
 
-def design_tag(doc: dict, pick: int) -> str:
-    """`[design 1a2b3c4d5e6f]`: the same saved design gives the same tag, another design another."""
-    basis = json.dumps({"fingerprint": doc.get("fingerprint"), "uses": doc["designs"][pick - 1]["uses"],
-                        "pick": pick}, sort_keys=True)
-    return f"[design {hashlib.sha256(basis.encode()).hexdigest()[:12]}]"
-
-
 def run_build(args) -> int:
     try:
         doc = read_saved(args.file)
@@ -122,12 +117,11 @@ def run_build(args) -> int:
     except OSError as exc:
         say(f"{store.journal.path}: cannot read the journal ({exc.strerror or exc})")
         return 2
-    undone = undone_ids(history)
-    built = [e for e in history if e.action == "take" and tag in e.reason and e.id not in undone]
-    if built and not args.again:
-        say(f"design {pick} of {args.file} was already built (change {built[-1].id}, {built[-1].time[:10]}); "
+    built = last_build(history, tag)
+    if built is not None and not args.again:
+        say(f"design {pick} of {args.file} was already built (change {built.id}, {built.time[:10]}); "
             "not taking its parts twice. Use --again for another copy, or `drawerfit undo "
-            f"{built[-1].id}` if that build did not happen")
+            f"{built.id}` if that build did not happen")
         return 1
     uses = designs[pick - 1]["uses"]
     saved = (doc.get("fingerprint") or {}).get("lines", {})
@@ -147,7 +141,9 @@ def run_build(args) -> int:
     reason = f"{args.reason or f'build design {pick} of {Path(args.file).name}'} {tag}"
     try:
         store.base_on(drawer)
-        entry = store.take([(u["line"], u["qty"]) for u in uses], reason)
+        # The record lets the app show this build's sheet from the history.
+        entry = store.take([(u["line"], u["qty"]) for u in uses], reason,
+                           design=build_record(pick, designs[pick - 1], doc))
     except (StockError, ConflictError) as exc:  # the drawer's state: exit 1, as for every change
         say(str(exc))
         return 1

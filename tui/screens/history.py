@@ -150,3 +150,12 @@ class HistoryScreen(Screen):
 
     def action_back(self) -> None:
         self.app.pop_screen()
+
+    # ---- the sheet of a past build (added with the build records; the logic is in sheet.py) ----
+    BINDINGS = [*BINDINGS, Binding("s", "past_sheet", "Build sheet", id="history.sheet",
+                                   tooltip="Show the build sheet of the highlighted build")]
+
+    def action_past_sheet(self) -> None:
+        from .sheet import open_past_sheet
+
+        open_past_sheet(self.app, self.chosen_id())

@@ -1,23 +1,32 @@
 """The build sheet of one design: drawing, parts and where they are, meter checks, figures, plots.
 
 Everything shown is what the solver computed (the design's JSON); the screen only
-lays it out.  `b` takes the parts from the drawer after a confirmation.
+lays it out.  `b` takes the parts from the drawer after a confirmation (a second build of
+the same design only as "another copy"), `w` writes the sheet to a file as `drawerfit sheet`
+does, `n` simulates the design in ngspice beside drawerfit's figures.  Long work (the
+html sheet, ngspice) runs in thread workers that hand back through `call_from_thread`.
 """
 
 from __future__ import annotations
 
+from pathlib import Path
+
+from textual import work
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import VerticalScroll
 from textual.screen import Screen
 from textual.widgets import DataTable, Footer, Label, Static
+from textual.worker import Worker, WorkerState
 
+from inventory.atomic import atomic_write
 from optimizer import network_tree
-
+from ..builds import build_record, last_build, record_problem, sheet_document, tag_of
 from ..schematic import draw_stage, position_text
 from ..sheet_text import best_for_text, cautions
 from ..widgets import figures
 from ..widgets.chart import Chart, draw_histogram, draw_response
+from ..widgets.crosscheck_panel import BAD_DESIGN, CrossCheckPanel
 from ..widgets.masthead import Masthead
 from ..widgets.part_text import rating_text, tolerance_text, type_text, value_text
 
@@ -114,9 +123,7 @@ def figures_text(design: dict) -> str:
     return "\n".join(f"  {label:<20} {text}" for label, text in rows)
 
 
-def build_record(rank: int, design: dict, result: dict) -> dict:
-    """What a build's journal entry should keep to reopen its sheet later: the design and its request."""
-    return {"rank": rank, "design": design, "spec": result.get("spec") or {}}
+__all__ = ["SheetScreen", "build_record", "open_past_sheet"]  # build_record: tui/builds.py, kept importable here
 
 
 class SheetScreen(Screen):
@@ -124,6 +131,10 @@ class SheetScreen(Screen):
 
     BINDINGS = [
         Binding("b", "build", "Take the parts", id="sheet.build", tooltip="Build it: take these parts off the drawer counts"),
+        Binding("w", "export", "Write out", id="sheet.export",
+                tooltip="Write this sheet to a file: html (to print), svg, md, csv (pick list) or cir (SPICE bench)"),
+        Binding("n", "crosscheck", "ngspice check", id="sheet.ngspice",
+                tooltip="Simulate the design in ngspice at hFE min, typical and max, beside drawerfit's figures"),
         Binding("escape", "back", "Back", id="sheet.back", tooltip="Back to the designs"),
     ]
 
@@ -134,7 +145,10 @@ class SheetScreen(Screen):
     @classmethod
     def from_record(cls, record: dict) -> SheetScreen:
         """The sheet of a past build from its `build_record` (as kept in the journal)."""
-        return cls(int(record.get("rank", 1)), record["design"], {"spec": record.get("spec") or {}})
+        result = {"spec": record.get("spec") or {}}
+        if record.get("fingerprint") is not None:  # a saved file's build: the same design tag as then
+            result["fingerprint"] = record["fingerprint"]
+        return cls(int(record.get("rank", 1)), record["design"], result)
 
     def compose(self) -> ComposeResult:
         design, spec = self.design, self.result.get("spec", {})
@@ -191,18 +205,105 @@ class SheetScreen(Screen):
         uses = [(int(u["line"]), int(u["qty"])) for u in self.design.get("uses", [])]
         pieces = sum(q for _, q in uses)
         gain = figures.gain(self.design.get("predicted", {}).get("gain"))
-        reason = f"built design #{self.rank} ({self.design.get('topology', '')}, gain {gain})"
-        detail = f"{pieces} parts from {len(uses)} drawer lines will be taken off the counts."
+        tag = tag_of(self.rank, self.design, self.result)  # the CLI's tag: each refuses the other's second build
+        try:
+            built = last_build(self.app.store.history(), tag)
+        except OSError as exc:
+            self.notify(f"{self.app.store.journal.path}: cannot read the journal ({exc.strerror or exc})",
+                        title="Not built", severity="error", timeout=10)
+            return
+        copy = "another copy of " if built else ""
+        what = f"{copy}design #{self.rank} ({self.design.get('topology', '')}, gain {gain})"
+        record = build_record(self.rank, self.design, self.result)
 
         def done(yes: bool | None) -> None:
             if not yes:
                 return
-            failed = self.app.write(lambda: self.app.store.take(uses, reason=reason), f"Taken: {reason}")
+            failed = self.app.write(lambda: self.app.store.take(uses, reason=f"built {what} {tag}", design=record),
+                                    f"Taken: built {what}")
             if failed is None:
                 from .drawer import DrawerScreen
 
                 while not isinstance(self.app.screen, DrawerScreen) and len(self.app.screen_stack) > 1:
                     self.app.pop_screen()
 
-        self.app.push_screen(ConfirmDialog("Build this design and take its parts from the drawer?",
-                                           detail, "Build"), done)
+        if built is not None:
+            self.app.push_screen(ConfirmDialog(
+                f"Design #{self.rank} was built already (change #{built.id}, {built.time[:10]}).",
+                f"Its parts came off the counts then. Build another copy and take {pieces} parts from "
+                f"{len(uses)} drawer lines again? If that build never happened, undo change #{built.id} "
+                "in the history instead.", "Build another copy"), done)
+            return
+        self.app.push_screen(ConfirmDialog(
+            "Build this design and take its parts from the drawer?",
+            f"{pieces} parts from {len(uses)} drawer lines will be taken off the counts.", "Build"), done)
+
+    # ---- the sheet as a file -------------------------------------------------------------
+
+    def action_export(self) -> None:
+        from .export_dialog import ExportDialog
+
+        def chosen(answer: tuple[str, Path] | None) -> None:
+            if answer is not None:
+                self.notify(f"Writing {answer[1]} …", timeout=3)
+                self.write_sheet(*answer)
+
+        self.app.push_screen(ExportDialog(f"design-{self.rank}"), chosen)
+
+    @work(thread=True, exclusive=True, group="sheet-export", exit_on_error=False)
+    def write_sheet(self, fmt: str, path: Path) -> None:
+        """Render (the html sheet draws its plots: a second or two) and write atomically, off the UI thread."""
+        from ..cmd_sheet import render
+        from ..export.content import SheetInputError
+
+        source = self.app.inventory_path.name
+        error = None
+        try:
+            doc, pick = sheet_document(self.rank, self.design, self.result)
+            atomic_write(path, render(doc, pick, fmt, source).encode("utf-8"))
+        except SheetInputError as exc:
+            error = str(exc)
+        except OSError as exc:
+            error = f"{path}: cannot write it ({exc.strerror or exc})"
+        except BAD_DESIGN as exc:
+            error = f"design #{self.rank} cannot be drawn ({exc!r})"
+        if error:
+            self.app.call_from_thread(self.app.notify, error, title="Not written", severity="error", timeout=10)
+        else:
+            self.app.call_from_thread(self.app.notify, f"Wrote {path} ({fmt})", title="Sheet written")
+
+    # ---- ngspice beside drawerfit ------------------------------------------------------------
+
+    async def action_crosscheck(self) -> None:
+        panels = self.query(CrossCheckPanel)
+        if panels:
+            panel = panels.first()
+        else:
+            panel = CrossCheckPanel(self.design, self.result.get("spec") or {}, id="xcheck-section")
+            await self.query_one("#sheet", VerticalScroll).mount(panel, after="#predicted")
+        if not panel.start():
+            self.notify("ngspice is still running", severity="warning")
+        self.call_after_refresh(lambda: self.query_one("#sheet", VerticalScroll).scroll_to_widget(
+            panel, top=True, animate=False))
+
+    def on_worker_state_changed(self, event: Worker.StateChanged) -> None:
+        if event.state == WorkerState.ERROR and event.worker.group == "sheet-export":
+            self.notify(f"The sheet was not written: {event.worker.error!r}", title="Not written", severity="error")
+
+
+def open_past_sheet(app, entry_id: int | None) -> None:
+    """Show the build sheet kept with journal entry `entry_id`, or say why there is none (the history's `s`)."""
+    if entry_id is None:
+        app.notify("No change chosen", severity="warning")
+        return
+    try:
+        history = app.store.history()
+    except OSError as exc:
+        app.notify(f"The journal cannot be read: {exc.strerror or exc}", severity="error")
+        return
+    entry = next((e for e in history if e.id == entry_id), None)
+    problem = record_problem(entry, entry_id)
+    if problem:
+        app.notify(problem, title="No sheet", severity="warning", timeout=8)
+        return
+    app.push_screen(SheetScreen.from_record(entry.design))
