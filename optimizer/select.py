@@ -423,7 +423,9 @@ def _stock_qty(pool) -> np.ndarray:
 
 SEARCH_SHARE = 0.3  # of the time limit, at least, for the search itself
 POST_S_PER_DESIGN = 0.3  # analysing one design shown (measured about 0.2 s on this project's 2-core machines)
-CP_SAT_IMPORT_S = 0.5
+# Modules loaded on first use after the search (CP-SAT to realise the designs, scipy's root finder for
+# the exact f_low) and what importing each costs on this project's machines, in seconds.
+LAZY_IMPORTS_S = {"ortools.sat.python.cp_model": 0.5, "scipy.optimize": 0.6}
 OVERRUN_S = 1.0  # no command ends more than this past its time limit
 HINT_RESERVE_S = 0.3
 HINT_SHARE = 0.3  # of the time limit, at most, for shopping hints when nothing fits
@@ -458,8 +460,7 @@ def find_designs(drawer, spec, *, top=DEFAULT_TOP, depth=DEFAULT_DEPTH, min_yiel
     # The search gets what the limit leaves after analysing the designs shown (exact analysis at
     # three hFE, Monte Carlo) and realising them (CP-SAT, loaded on first use), and at least
     # SEARCH_SHARE of it; when nothing fits, the shopping hints get what is left.
-    post = POST_S_PER_DESIGN * max(1, top) + (0.0 if "ortools.sat.python.cp_model" in sys.modules else
-                                               CP_SAT_IMPORT_S)
+    post = POST_S_PER_DESIGN * max(1, top) + sum(s for m, s in LAZY_IMPORTS_S.items() if m not in sys.modules)
     deadline = None if limit is None else t0 + max(SEARCH_SHARE * limit, limit - post)
 
     def accept(sol, choice, row):
