@@ -21,7 +21,7 @@ from .transistor import terminal_currents
 
 NODES = ("0", "vcc", "src", "in", "base", "emit", "mid", "coll", "out")
 # An unloaded output still needs a DC path; the netlist uses the same stand-in.
-OPEN_LOAD_OHMS = 1e12
+from .spec import OPEN_LOAD_OHMS  # noqa: E402,F401  one stand-in for "no load"
 
 
 @dataclass(frozen=True)

@@ -449,6 +449,7 @@ def find_designs(drawer, spec, *, top=DEFAULT_TOP, depth=DEFAULT_DEPTH, min_yiel
     if problems:
         doc["why"] = problems
         doc["error"] = "spec"
+        doc["status"] = "invalid"  # the CLI exits 2 before it gets here
         return doc
     rstock, cstock = drawer.resistor_stock(), drawer.capacitor_stock()
     qlines, notes = usable_transistors(drawer.transistors())

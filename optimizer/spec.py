@@ -13,6 +13,7 @@ DEFAULT_MIN_VCE_V = 1.0  # quiescent VCE headroom above saturation (common pract
 RIN_FLOOR_SOURCE_RATIO = 10.0  # Rin ≥ 10 × the source resistance: < 1 dB loading (common practice, no source)
 RIN_FLOOR_MIN_OHMS = 1e3  # and never below 1 kΩ (common practice, no source)
 NOMINAL_C = 27.0
+OPEN_LOAD_OHMS = 1e12  # "no load": the exact solver's stand-in (circuit.OPEN_LOAD_OHMS)
 # How the search answers (read by the CLI and the app, so both offer the same).
 PREFERENCES = ("balanced", "parts", "clean", "robust", "frugal")
 DEFAULT_PREFER = "balanced"
@@ -75,11 +76,13 @@ class Spec:
         here rather than searched for: NaN or infinite values, a temperature outside -55…150 °C
         (the usual rated range of small-signal parts, common practice, no source), a gain below
         0.01 (an attenuator) or above 10 000, a tolerance tighter than the solver's 0.1 % steps,
-        a load or source outside 1 Ω…100 MΩ (beyond the 1 Ω…10 MΩ networks can make).
+        a load or source outside 1 Ω…100 MΩ (beyond the 1 Ω…10 MΩ networks can make).  An open load
+        (`--load open`: a scope probe or an ADC input; inf or the 1 TΩ stand-in) is a load the solver knows.
         """
         out = []
+        open_load = self.load_ohms in (math.inf, OPEN_LOAD_OHMS)
         finite = {"--gain": self.gain, "--gain-tol": self.gain_tol, "--supply": self.supply_v,
-                  "--load": self.load_ohms, "--source": self.source_ohms, "--swing": self.swing_pp,
+                  "--load": 1.0 if open_load else self.load_ohms, "--source": self.source_ohms, "--swing": self.swing_pp,
                   "--low-cut": self.low_cut_hz, "--min-rin": self.min_rin_ohms, "--max-current": self.max_supply_a,
                   "--max-thd": self.max_thd, "--min-vce": self.min_vce_v,
                   "--temp-range": self.temp_range_c[0] if len(self.temp_range_c) == 2 else math.nan}
@@ -108,7 +111,7 @@ class Spec:
             out.append(f"--gain-tol: {self.gain_tol:g}; the gain is matched in 0.1 % steps, so at least 0.001")
         if not self.load_ohms > 0:
             out.append(f"--load: {self.load_ohms:g} Ω; the load must be positive")
-        elif not 1.0 <= self.load_ohms <= 1e8:
+        elif not 1.0 <= self.load_ohms <= 1e8 and not open_load:
             out.append(f"--load: {self.load_ohms:g} Ω; expected 1 Ω…100 MΩ")
         if not self.source_ohms >= 0:
             out.append(f"--source: {self.source_ohms:g} Ω; the source resistance cannot be negative")

@@ -8,6 +8,7 @@ design that exposed it (gain 4.5 ± 10 % on 15.8 V from a 600 Ω source, ≤ 1 m
 from __future__ import annotations
 
 import numpy as np
+import pytest
 
 from optimizer import ce_boxes
 from optimizer.feasible import check
@@ -32,3 +33,24 @@ def test_search_finds_designs_on_an_open_load():
     rs = resistors([(2, 300e3, 1), (3, 56e3, 1), (4, 13e3, 1), (5, 2700.0, 1), (6, 330.0, 1)])
     sol = search(rs, CAPS, QS, SPEC, top=3, depth=1)
     assert sol.designs and sol.exhaustive
+
+
+def test_cli_takes_an_open_load_and_answers_in_finite_json(tmp_path):
+    import json
+    import math
+    import shutil
+    from contextlib import redirect_stdout
+    from io import StringIO
+
+    from tests.demo_job import DEMO
+    from tui.cli import main
+
+    drawer = tmp_path / "drawer.csv"
+    shutil.copy(DEMO, drawer)
+    out = StringIO()
+    with redirect_stdout(out):
+        code = main(["--inventory", str(drawer), "design", "--gain", "20", "--load", "open", "--depth", "1",
+                     "--json"])
+    doc = json.loads(out.getvalue(), parse_constant=lambda c: pytest.fail(f"{c} in the JSON"))
+    assert code == 0 and doc["designs"] and math.isfinite(doc["spec"]["load_ohms"])
+    assert Spec(load_ohms=float("inf")).problems() == []

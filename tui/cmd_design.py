@@ -37,6 +37,7 @@ from optimizer.spec import (
     DEFAULT_PREFER,
     DEFAULT_TIME_LIMIT_S,
     DEFAULT_TOP,
+    OPEN_LOAD_OHMS,
     PREFERENCES,
     Spec,
 )
@@ -46,6 +47,9 @@ from . import cmd_build
 from .cmd_common import InputError, drawer_path, load_drawer, say, value, whole
 
 EXIT_FOUND, EXIT_INFEASIBLE, EXIT_UNPROVEN = 0, 3, 4
+# `--load open`: nothing connected (a scope probe, an ADC input), as the exact solver's 1 TΩ stand-in,
+# so the JSON stays finite.
+OPEN_LOAD_WORDS = ("open", "none", "inf")
 DEFAULTS = Spec()  # the request's defaults, shared with the app's form (tui/request_fields.py)
 MAX_TIME_LIMIT_S = 24 * 3600.0
 
@@ -62,7 +66,7 @@ def register(sub) -> None:
     p.add_argument("--supply", default=f"{d.supply_v:g}", metavar="VOLTS",
                    help=f"supply voltage (default {d.supply_v:g} V)")
     p.add_argument("--load", default=format_resistance(d.load_ohms), metavar="OHMS",
-                   help=f"load resistance (default {format_resistance(d.load_ohms)})")
+                   help=f"load resistance, or `open` (default {format_resistance(d.load_ohms)})")
     p.add_argument("--source", default=format_resistance(d.source_ohms), metavar="OHMS",
                    help=f"source resistance (default {format_resistance(d.source_ohms)})")
     p.add_argument("--swing", default=f"{d.swing_pp:g}", metavar="VOLTS",
@@ -109,7 +113,8 @@ def spec_from(args) -> Spec:
         gain=value(args.gain, parse_number, "gain"),
         gain_tol=value(args.gain_tol, parse_fraction, "gain-tol"),
         supply_v=value(args.supply, parse_voltage, "supply"),
-        load_ohms=value(args.load, parse_resistance, "load"),
+        load_ohms=(OPEN_LOAD_OHMS if str(args.load).strip().lower() in OPEN_LOAD_WORDS
+                   else value(args.load, parse_resistance, "load")),
         source_ohms=value(args.source, parse_resistance, "source"),  # "0" is an ideal voltage source
         swing_pp=value(args.swing, parse_voltage, "swing"),
         low_cut_hz=value(args.low_cut, parse_frequency, "low-cut"),
