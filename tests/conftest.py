@@ -37,3 +37,18 @@ def ngspice() -> str:
 @pytest.fixture
 def tmux() -> str:
     return need_program("tmux")
+
+
+@pytest.fixture
+def drawer_at(tmp_path, monkeypatch):
+    """`drawer_at(data) -> Path`: `data` written as drawer.csv in a fresh working folder, with no
+    DRAWERFIT_INVENTORY set, so a command finds that file and no other."""
+
+    def make(data: bytes):
+        monkeypatch.chdir(tmp_path)
+        monkeypatch.delenv("DRAWERFIT_INVENTORY", raising=False)
+        path = tmp_path / "drawer.csv"
+        path.write_bytes(data)
+        return path
+
+    return make

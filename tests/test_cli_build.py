@@ -24,12 +24,8 @@ USES = [{"line": 2, "qty": 1}, {"line": 3, "qty": 1}, {"line": 4, "qty": 1}, {"l
 
 
 @pytest.fixture
-def drawer(tmp_path, monkeypatch) -> Path:
-    monkeypatch.chdir(tmp_path)
-    monkeypatch.delenv("DRAWERFIT_INVENTORY", raising=False)
-    path = tmp_path / "drawer.csv"
-    path.write_bytes(DRAWER)
-    return path
+def drawer(drawer_at) -> Path:
+    return drawer_at(DRAWER)
 
 
 def saved(tmp_path: Path, drawer: Path, **change) -> Path:

@@ -17,12 +17,8 @@ GOOD = b"kind,value,qty,tolerance,voltage,dielectric,part,polarity,hfe_min,hfe_m
 
 
 @pytest.fixture
-def drawer(tmp_path, monkeypatch) -> Path:
-    monkeypatch.chdir(tmp_path)
-    monkeypatch.delenv("DRAWERFIT_INVENTORY", raising=False)
-    path = tmp_path / "drawer.csv"
-    path.write_bytes(GOOD)
-    return path
+def drawer(drawer_at) -> Path:
+    return drawer_at(GOOD)
 
 
 def run(*argv: str) -> int:

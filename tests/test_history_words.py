@@ -20,12 +20,8 @@ DRAWER = b"kind,value,qty,location\nresistor,4k7,10,A1\nresistor,470k,2,A2\nresi
 
 
 @pytest.fixture
-def drawer(tmp_path, monkeypatch) -> Path:
-    monkeypatch.chdir(tmp_path)
-    monkeypatch.delenv("DRAWERFIT_INVENTORY", raising=False)
-    path = tmp_path / "drawer.csv"
-    path.write_bytes(DRAWER)
-    return path
+def drawer(drawer_at) -> Path:
+    return drawer_at(DRAWER)
 
 
 def counts(path: Path, n: int) -> Store:

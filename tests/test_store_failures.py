@@ -23,12 +23,8 @@ GOOD = b"kind,value,qty,location\nresistor,4k7,10,A1\nresistor,1k,5,A2\n"
 
 
 @pytest.fixture
-def drawer(tmp_path, monkeypatch) -> Path:
-    monkeypatch.chdir(tmp_path)
-    monkeypatch.delenv("DRAWERFIT_INVENTORY", raising=False)
-    path = tmp_path / "drawer.csv"
-    path.write_bytes(GOOD)
-    return path
+def drawer(drawer_at) -> Path:
+    return drawer_at(GOOD)
 
 
 def _temporaries(folder: Path) -> list[Path]:
