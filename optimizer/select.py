@@ -33,6 +33,7 @@ MAX_REJECTED = 30  # designs the yield constraint may turn down before the searc
 # spec: past that, more parts buy too little to be worth a bench's time (design decision).
 SPARE_PARTS = 2
 SETTLE_ROWS = 4000  # pending rows folded into the trade-off set at a time
+SETTLE_GRACE_S = 0.2  # after a stop, for the rows screened just before it
 EXACT_BATCH = 16  # front rows made exact (capacitors chosen) at a time
 
 Cancelled = stopwatch.Cancelled
@@ -173,7 +174,15 @@ def search(rstock, cstock, qlines, spec, *, top=3, depth=3, progress=None, cance
         sol.unexplored = _unexplored(sol, budget, b_max, front)
         sol.notes.append(f"search stopped after {sol.near.screened:,} tuples (≤ {budget} resistor parts); "
                          "designs are the best found so far")
-    front.settle()
+    if sol.stopped_by in ("time limit", "cancelled"):
+        # Rows screened just before the stop are folded in only as far as a short grace allows.
+        try:
+            with stopwatch.watch(deadline=time.perf_counter() + SETTLE_GRACE_S):
+                front.settle()
+        except stopwatch.Stopped:
+            pass
+    else:
+        front.settle()
     sol.designs = front.pick(prefer, top, accept)
     sol.seconds = time.perf_counter() - t0
     if not sol.designs:
