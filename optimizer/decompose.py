@@ -123,6 +123,7 @@ def rc_interval(ic_lo, ic_hi, re1, re_total, spec, vt):
     return rc_lo * (1 - 1e-9), rc_hi * (1 + 1e-9)
 
 
+PAIR_CHUNK = 500_000  # (entry, RC) pairs through the gain bounds at a time (bounds the memory of a call)
 GAIN_SAFETY = 0.03  # the gain bounds leave out ro feedback and gμ; 3 % covers them with room to spare
 
 
@@ -225,15 +226,23 @@ def exact_tuples(r1, r2, re1, re2, rc, spec, transistor, betas, vce_min, emit):
     r1, r2, re1, re2, u, vth, rth = (x[live] for x in (r1, r2, re1, re2, u, vth, rth))
     brackets = [ic_bracket(vth, rth, u, bf=beta, **kw) for beta in betas]
     lo, hi = rc_window(brackets, betas, re1, re1, u, rth, spec, vt)
-    owner, idx = ragged(np.searchsorted(rc, lo, "left"), np.searchsorted(rc, hi, "right"))
-    if len(idx) == 0:
-        return
+    first, last = np.searchsorted(rc, lo, "left"), np.searchsorted(rc, hi, "right")
     g_min, g_max = spec.gain * (1 - spec.gain_tol), spec.gain * (1 + spec.gain_tol)
-    ok = np.ones(len(idx), dtype=bool)
-    for beta, (ic_lo, ic_hi) in zip(betas, brackets, strict=True):
-        a_lo, a_hi, _ = gain_bounds(ic_lo[owner], ic_hi[owner], beta, rc[idx], re1[owner], rth[owner], spec, vt,
-                                    transistor.vaf_v)
-        ok &= (a_lo <= g_max) & (a_hi >= g_min)
-    owner, idx = owner[ok], idx[ok]
-    if len(idx):
-        emit({"R1": r1[owner], "R2": r2[owner], "RC": rc[idx], "RE1": re1[owner], "RE2": re2[owner]})
+    # (entry, RC) pairs a slice at a time: a wide RC window on many entries would otherwise
+    # expand to tens of millions of pairs at once.
+    ends = np.cumsum(np.maximum(last - first, 0))
+    start = 0
+    while start < len(first):
+        stop = max(start + 1, int(np.searchsorted(ends, (ends[start - 1] if start else 0) + PAIR_CHUNK, "right")))
+        owner, idx = ragged(first[start:stop], last[start:stop])
+        owner = owner + start
+        if len(idx):
+            ok = np.ones(len(idx), dtype=bool)
+            for beta, (ic_lo, ic_hi) in zip(betas, brackets, strict=True):
+                a_lo, a_hi, _ = gain_bounds(ic_lo[owner], ic_hi[owner], beta, rc[idx], re1[owner], rth[owner], spec,
+                                            vt, transistor.vaf_v)
+                ok &= (a_lo <= g_max) & (a_hi >= g_min)
+            owner, idx = owner[ok], idx[ok]
+            if len(idx):
+                emit({"R1": r1[owner], "R2": r2[owner], "RC": rc[idx], "RE1": re1[owner], "RE2": re2[owner]})
+        start = stop
