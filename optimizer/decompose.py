@@ -22,6 +22,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from .stopwatch import poll
 from . import swing as loadline
 from .network_table import ragged
 
@@ -233,6 +234,7 @@ def exact_tuples(r1, r2, re1, re2, rc, spec, transistor, betas, vce_min, emit):
     ends = np.cumsum(np.maximum(last - first, 0))
     start = 0
     while start < len(first):
+        poll()
         stop = max(start + 1, int(np.searchsorted(ends, (ends[start - 1] if start else 0) + PAIR_CHUNK, "right")))
         owner, idx = ragged(first[start:stop], last[start:stop])
         owner = owner + start
