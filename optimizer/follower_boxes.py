@@ -28,7 +28,6 @@ Every test below holds for each design meeting the spec at the hFE corner tested
 
 from __future__ import annotations
 
-import numpy as np
 
 from . import swing as loadline
 from .bias import thevenin

@@ -148,13 +148,7 @@ def search(rstock, cstock, qlines, spec, *, top=3, depth=3, progress=None, cance
                         q = qlines[members[0]]
                         for chunk in tuples(topology, profile, sol.pool, bounds, q):
                             stopwatch.poll()
-                            rows = check(topology, chunk, q, spec, sol.near)
-                            if not len(rows["ge"]):
-                                continue
-                            rows["nsm"] = -rows["sm"]
-                            rows["parts_lb"] = _parts_lb(sol.pool, rows, positions)
-                            for qi in members:  # lines of one transistor type share the physics
-                                front.add(dict(rows, q=np.full(len(rows["ge"]), qi, dtype=np.int64)))
+                            _add_rows(check(topology, chunk, q, spec, sol.near), members, positions, sol, front)
                     front.settle()
                     if sol.near.screened > MAX_SCREENED:
                         raise _Overrun()
@@ -198,14 +192,18 @@ def _screen_seeds(topology, positions, spec, models, qlines, sol, front):
         chunk = seed_tuples(topology, spec, q, sol.pool)
         if not len(chunk[positions[0]]):
             continue
-        rows = check(topology, {p: chunk[p] for p in positions}, q, spec)
-        if not len(rows["ge"]):
-            continue
-        rows["nsm"] = -rows["sm"]
-        rows["parts_lb"] = _parts_lb(sol.pool, rows, positions)
-        for qi in members:
-            front.add(dict(rows, q=np.full(len(rows["ge"]), qi, dtype=np.int64)))
+        _add_rows(check(topology, {p: chunk[p] for p in positions}, q, spec), members, positions, sol, front)
     front.settle()
+
+
+def _add_rows(rows, members, positions, sol, front):
+    """Checked rows into the trade-off set, once per line of the transistor type (same physics)."""
+    if not len(rows["ge"]):
+        return
+    rows["nsm"] = -rows["sm"]
+    rows["parts_lb"] = _parts_lb(sol.pool, rows, positions)
+    for qi in members:
+        front.add(dict(rows, q=np.full(len(rows["ge"]), qi, dtype=np.int64)))
 
 
 def _anytime_order(profs, pool):
