@@ -28,7 +28,6 @@ Every test below holds for each design meeting the spec at the hFE corner tested
 
 from __future__ import annotations
 
-
 from . import swing as loadline
 from .bias import thevenin
 from .box_search import boxes, limits_ok, reverse_bc_kw
