@@ -17,7 +17,7 @@ from .circuit import NODES, build, operating_point, q_currents, solve_small_sign
 from .distortion import distortion
 from .ratings import check_ratings
 from .response import capacitor_corners, curve, lower_corner, midband, small_signal_params
-from .stage import COLLECTOR_FEEDBACK, EMITTER_FOLLOWER, Stage
+from .stage import Stage
 
 PREDICTED_KEYS = ("gain", "vb", "ve", "vc", "ic", "rin", "rout", "f_low", "swing_pp", "thd")
 CUTOFF_A = 1e-6  # below 1 µA the stage is not amplifying (common practice, no source)
@@ -92,9 +92,8 @@ def analyze(stage: Stage, swing_pp: float | None = None, *, ratings: dict | None
     ic, ib = (float(x) for x in q_currents(circuit, op)[:2])
     vb, ve, vc = op["base"], op["emit"], op["coll"]
     vce, vbe = vc - ve, vb - ve
-    follower = stage.topology == EMITTER_FOLLOWER
     i_supply = sum((op[p.a] - op[p.b]) / p.value for p in circuit.parts if p.kind == "R" and p.a == "vcc")
-    i_supply += ic if follower else 0.0
+    i_supply += ic if ("coll", "vcc") in circuit.shorts else 0.0  # a collector tied to the supply
     point = {"vb": vb, "ve": ve, "vc": vc, "vmid": op["mid"], "vce": vce, "vbe": vbe, "ic": ic, "ib": ib,
              "ie": ic + ib, "i_supply": i_supply, "saturated": vce < loadline.VCE_SAT_V, "cutoff": ic < CUTOFF_A}
     power = {p.name: (op[p.a] - op[p.b]) ** 2 / p.value for p in circuit.parts if p.kind == "R" and p.name not in ("RS", "RL")}
@@ -140,21 +139,13 @@ def analyze(stage: Stage, swing_pp: float | None = None, *, ratings: dict | None
 def _swing_limits(stage: Stage, circuit, op, ic, vce) -> dict:
     """Clip-free peak swings at the load along the AC load line (swing.py's formulas, exact bias)."""
     ie = ic + float(q_currents(circuit, op)[1])
-    load = stage.load_ohms
-    if stage.topology == EMITTER_FOLLOWER:
-        r_ac = 1.0 / (1.0 / stage.r("RE") + 1.0 / load)
-        up, down = loadline.follower_swing(ie=ie, vce=vce, r_ac=r_ac)
-    else:
-        if stage.topology == COLLECTOR_FEEDBACK:
-            # Base-to-collector gain from the exact small-signal solution.
-            v = solve_small_signal(circuit, op)[0]
-            a = (v[NODES.index("coll")] / v[NODES.index("base")]).real
-            r_ac = loadline.feedback_load(stage.r("RC"), load, stage.r("RB"), a)
-        else:
-            r_ac = 1.0 / (1.0 / stage.r("RC") + 1.0 / load)
-        re_ac = stage.r("RE1") + (0.0 if stage.capacitors.get("CE") else stage.r("RE2"))
-        up, down = loadline.collector_swing(ic=ic, ie=ie, vce=vce, vc=op["coll"], supply_v=stage.supply_v,
-                                            r_ac=r_ac, re_unbypassed=re_ac)
+    kind = stage.kind
+    # Base-to-collector gain from the exact small-signal solution (the feedback kinds' load line needs it).
+    v = solve_small_signal(circuit, op)[0]
+    a_bc = (v[NODES.index("coll")] / v[NODES.index("base")]).real
+    r = {p: stage.r(p) for p in kind.resistors}
+    up, down = kind.swing(r, ic=ic, ie=ie, vce=vce, vc=op["coll"], vcc=stage.supply_v, rl=stage.load_ohms,
+                          re_ac=_re_ac(stage), a_bc=a_bc)
     up, down = max(float(up), 0.0), max(float(down), 0.0)
     return {"up": up, "down": down, "pp": 2.0 * min(up, down)}
 
@@ -163,19 +154,26 @@ def _textbook(stage: Stage, ic: float, vt: float) -> dict:
     """Hand formulas for the explanation: re' = Vt/IC, VB ≈ VTH, gain ≈ −RC‖RL/(re' + RE1)."""
     re_prime = vt / ic if ic > 0 else float("inf")
     out = {"re_prime": re_prime}
-    if stage.topology != COLLECTOR_FEEDBACK:
+    kind = stage.kind
+    if kind.bias == "divider":
         r1, r2 = stage.r("R1"), stage.r("R2")
         out["vb_thevenin"] = stage.supply_v * r2 / (r1 + r2)
         out["r_thevenin"] = r1 * r2 / (r1 + r2)
     load = stage.load_ohms
-    if stage.topology == EMITTER_FOLLOWER:
-        r_ac = 1.0 / (1.0 / stage.r("RE") + 1.0 / load)
+    if kind.output == "e":  # the follower's gain: RE‖RL over re' + RE‖RL
+        r_ac = 1.0 / (1.0 / stage.r(kind.emitter[0]) + 1.0 / load)
         out["gain_textbook"] = r_ac / (r_ac + re_prime)
     else:
         r_ac = 1.0 / (1.0 / stage.r("RC") + 1.0 / load)
-        re_ac = stage.r("RE1") + (0.0 if stage.capacitors.get("CE") else stage.r("RE2"))
-        out["gain_textbook"] = -r_ac / (re_prime + re_ac)
+        out["gain_textbook"] = -r_ac / (re_prime + _re_ac(stage))
     return out
+
+
+def _re_ac(stage: Stage) -> float:
+    """The emitter resistance signals see (Ω): CE, where fitted, shorts the last emitter part."""
+    parts = stage.kind.emitter
+    bypassed = len(parts) > 1 and bool(stage.capacitors.get("CE"))
+    return sum(stage.r(p) for p in (parts[:-1] if bypassed else parts))
 
 
 def _warnings(stage: Stage, point: dict) -> list[str]:

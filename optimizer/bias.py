@@ -19,7 +19,7 @@ from typing import NamedTuple
 
 import numpy as np
 
-from .stage import COLLECTOR_FEEDBACK, COMMON_EMITTER, EMITTER_FOLLOWER
+from . import kinds
 from .transistor import terminal_currents
 
 TOLERANCE_V = 1e-9  # Newton stops when both junction steps are below this
@@ -58,23 +58,8 @@ def thevenin(v_top, r_top, r_bottom):
 
 
 def bias_network(topology, r, supply_v) -> Network:
-    """The DC network (capacitors open) of `topology`; `r` maps position → ohms arrays.
-
-    Divider stages: VB = VTH − RTH·IB, VC = VCC − RC·IC (RC = 0 for the follower).
-    Collector feedback: RC carries IC + IB, RB carries IB from collector to base.
-    """
-    zero = np.zeros_like(supply_v)
-    if topology in (COMMON_EMITTER, EMITTER_FOLLOWER):
-        vth, rth = thevenin(supply_v, r["R1"], r["R2"])
-        if topology == COMMON_EMITTER:
-            rc, re = r["RC"], r["RE1"] + r["RE2"]
-        else:
-            rc, re = zero, r["RE"]
-        return Network(vth, rth, zero, supply_v + zero, zero, rc, zero, re)
-    if topology == COLLECTOR_FEEDBACK:
-        rc, rb = r["RC"], r["RB"]
-        return Network(supply_v + zero, rc + rb, rc, supply_v + zero, rc, rc, zero, r["RE1"] + r["RE2"])
-    raise ValueError(f"unknown topology {topology!r}")
+    """The DC network (capacitors open) of `topology`; `r` maps position → ohms arrays (`Kind.bias_network`)."""
+    return kinds.get(topology).bias_network(r, supply_v)
 
 
 def junction_derivatives(vbe, vbc, is_a, bf, br, vaf_v, vt_v):

@@ -25,18 +25,13 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from . import ce_boxes, feedback_boxes, follower_boxes
+from . import kinds
 from .networks import NetworkTable, resistor_networks
-from .stage import COLLECTOR_FEEDBACK, COMMON_EMITTER, EMITTER_FOLLOWER
 from .transistor import Transistor
 
 WINDOW_OHMS = (1.0, 10e6)
-POSITIONS = {
-    COMMON_EMITTER: ("R1", "R2", "RC", "RE1", "RE2"),
-    EMITTER_FOLLOWER: ("R1", "R2", "RE"),
-    COLLECTOR_FEEDBACK: ("RB", "RC", "RE1", "RE2"),
-}
-OPTIONAL = {COMMON_EMITTER: ("RE1", "RE2"), EMITTER_FOLLOWER: (), COLLECTOR_FEEDBACK: ("RE1", "RE2")}
+POSITIONS = kinds.ByKind("resistors")
+OPTIONAL = kinds.ByKind("optional")  # includes optional capacitors, which resistor profiles never name
 CAP_POSITIONS = ("CIN", "COUT", "CE")
 CHUNK = 32_768
 
@@ -121,20 +116,15 @@ def profiles(topology: str, budget: int, depth: int):
 def tuples(topology: str, profile: dict, pool: Pool, spec, q: QLine):
     """Chunks (dict position → ohms array) of the value tuples of one profile that survive the bounds.
 
-    Each topology has its branch and bound over boxes of sorted values (ce_boxes.py,
-    follower_boxes.py, feedback_boxes.py), pruning only by conditions every design meeting
-    the spec satisfies at hFE min and max.
+    Each kind has its branch and bound over boxes of sorted values (`Kind.boxes`), pruning only
+    by conditions every design meeting the spec satisfies at hFE min and max.
     """
     g = {p: pool.group(k) for p, k in profile.items()}
     if any(len(v) == 0 for v in g.values()):
         return
     betas = (q.transistor.hfe_min, q.transistor.hfe_max)
-    if topology == COMMON_EMITTER:
-        out = ce_boxes.ce_chunks(g, spec, q.transistor, betas)
-    else:  # generators: the surviving tuples stream through, never all in memory at once
-        boxes = follower_boxes.follower_chunks if topology == EMITTER_FOLLOWER else feedback_boxes.feedback_chunks
-        out = boxes(g, spec, q.transistor, betas)
-    for chunk in out:
+    # Generators, most of them: the surviving tuples stream through, never all in memory at once.
+    for chunk in kinds.get(topology).boxes(g, spec, q.transistor, betas):
         yield from _split(chunk)
 
 

@@ -27,10 +27,9 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from . import objective
+from . import kinds, objective
 from .feasible import corner_names
 from .lowcut import LowCut
-from .stage import EMITTER_FOLLOWER
 
 CAP_VOLTAGE_MARGIN = 1.5  # rating ≥ 1.5 × the DC across the part (common practice, no source)
 CAP_POSITIONS = ("CIN", "COUT", "CE")
@@ -39,8 +38,8 @@ GRID_CHUNK = 200_000  # value combinations tested per call
 
 def dc_across(topology, row) -> dict[str, float]:
     """Largest DC voltage (V) across each capacitor over the row's corners; + faces the stage side."""
-    out_node = "ve" if topology == EMITTER_FOLLOWER else "vc"
-    v = {"CIN": "vb", "COUT": out_node, "CE": "vn"}
+    v = dict(kinds.get(topology).cap_nodes)
+    v.setdefault("CE", "vn")  # rows of kinds without CE still answer for it (a 0 V node)
     return {p: max(float(row[f"{c}_{k}"]) for c in corner_names(row)) for p, k in v.items()}
 
 

@@ -16,7 +16,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .stage import COLLECTOR_FEEDBACK, EMITTER_FOLLOWER, OPTIONAL_POSITIONS, RESISTOR_POSITIONS, Stage
+from .stage import Stage
 from .transistor import terminal_currents
 
 NODES = ("0", "vcc", "src", "in", "base", "emit", "mid", "coll", "out")
@@ -46,8 +46,7 @@ class Circuit:
 
 def missing_positions(stage: Stage) -> list[str]:
     """Required resistor positions with no (positive) value."""
-    optional = OPTIONAL_POSITIONS[stage.topology]
-    return [p for p in RESISTOR_POSITIONS[stage.topology] if p not in optional and not stage.r(p) > 0]
+    return [p for p in stage.kind.required if not stage.r(p) > 0]
 
 
 def build(stage: Stage) -> Circuit:
@@ -65,26 +64,11 @@ def build(stage: Stage) -> Circuit:
 
     two("RS", "R", "src", "in", stage.source_ohms)
     two("CIN", "C", "in", "base", stage.capacitors.get("CIN", 0.0))
-    out_from = "emit" if stage.topology == EMITTER_FOLLOWER else "coll"
-    two("COUT", "C", out_from, "out", stage.capacitors.get("COUT", 0.0))
+    kind = stage.kind
+    two("COUT", "C", kind.output_node, "out", stage.capacitors.get("COUT", 0.0))
     load = stage.load_ohms if np.isfinite(stage.load_ohms) else OPEN_LOAD_OHMS
     two("RL", "R", "out", "0", load)
-    if stage.topology == EMITTER_FOLLOWER:
-        two("R1", "R", "vcc", "base", stage.r("R1"))
-        two("R2", "R", "base", "0", stage.r("R2"))
-        two("RE", "R", "emit", "0", stage.r("RE"))
-        shorts.append(("coll", "vcc"))
-    else:
-        if stage.topology == COLLECTOR_FEEDBACK:
-            two("RB", "R", "coll", "base", stage.r("RB"))
-        else:
-            two("R1", "R", "vcc", "base", stage.r("R1"))
-            two("R2", "R", "base", "0", stage.r("R2"))
-        two("RC", "R", "vcc", "coll", stage.r("RC"))
-        two("RE1", "R", "emit", "mid", stage.r("RE1"))
-        two("RE2", "R", "mid", "0", stage.r("RE2"))
-        if stage.r("RE2") > 0:
-            two("CE", "C", "mid", "0", stage.capacitors.get("CE", 0.0))
+    kind.wire(stage, two, lambda a, b: shorts.append((a, b)))
     used = {n for p in parts for n in (p.a, p.b)} | {n for s in shorts for n in s} | {"coll", "base", "emit"}
     shorts += [(n, "0") for n in NODES if n not in used]  # e.g. "mid" of a follower: tie it down
     t = stage.transistor

@@ -10,11 +10,9 @@ from __future__ import annotations
 
 from inventory.values import format_capacitance, format_resistance, format_si
 
-from . import capchoice
-from . import swing as loadline
+from . import capchoice, kinds
 from .analysis import analyze
 from .stage import Stage
-from .transistor import thermal_voltage
 
 
 def rin_text(spec) -> str:
@@ -80,7 +78,7 @@ def no_purchase_helps(sol, spec, hint_max_ohms: float) -> str | None:
     network, which a bought resistor of at most hint_max_ohms can raise only to 3 × the larger of it and
     the largest part on hand (three in series).
     """
-    if sol.near.screened or sol.why or spec.topology != "common-emitter":
+    if sol.near.screened or sol.why or kinds.get(spec.topology).spec_bounds is None:
         return None
     if {"gain", "current"} & set(_bounds(sol, spec)):
         return "no part bought would help: the bound above is set by the supply, the swing and the load"
@@ -94,37 +92,9 @@ def no_purchase_helps(sol, spec, hint_max_ohms: float) -> str | None:
 
 
 def _bounds(sol, spec) -> dict[str, str]:
-    """The spec-level bounds that rule out every common-emitter value tuple at once, in words, by name."""
-    if spec.topology != "common-emitter":
-        return {}
-    out = {}
-    vt = float(thermal_voltage(27.0))
-    headroom = spec.supply_v - loadline.VCE_SAT_V - spec.swing_pp / 2
-    g_min = spec.gain * (1 - spec.gain_tol)
-    if headroom <= g_min * vt:
-        out["gain"] = (f"gain binds: with {spec.swing_pp:g} V p-p on {spec.supply_v:g} V no common emitter "
-                       f"reaches {g_min:.3g}: |gain| < gm·RC ≤ (VCC − VCE(sat) − swing/2)/Vt = {headroom / vt:.3g}")
-    i_need = spec.swing_pp / (2 * spec.load_ohms)
-    if spec.max_supply_a is not None and spec.max_supply_a < i_need:
-        out["current"] = (f"supply current binds: {spec.swing_pp:g} V p-p into {format_resistance(spec.load_ohms)} "
-                          f"needs IC ≥ swing/(2·RL) = {i_need * 1e3:.3g} mA (asked ≤ {spec.max_supply_a * 1e3:.3g} mA)")
-    b = sol.bounds
-    if b is not None and sol.options is not None and len(sol.options):
-        c_max = float(sol.options.value.max())
-        r = b.min_re2_ohms
-        if r - spec.source_ohms > max(spec.rin_floor, 0.0) or r > spec.load_ohms:
-            out["low_cut"] = (f"low cut-off binds: the largest capacitance on hand, {format_capacitance(c_max)}, "
-                              f"meets {spec.low_cut_hz:g} Hz only where it sees ≥ {format_resistance(r)} (corner "
-                              f"1/(2π·R·C)): CIN needs RS + Rin and COUT needs RC + RL at least that, which no stage "
-                              f"here reaches")
-    pool = sol.pool
-    if pool is not None and len(pool.distinct):
-        top = float(pool.distinct.value[-1])
-        if spec.rin_floor > top / 2:
-            out["rin"] = (f"input resistance binds: Rin ≤ R1‖R2, at most {format_resistance(top / 2)} from the "
-                          f"resistors on hand (largest network {format_resistance(top)}; asked ≥ "
-                          f"{format_resistance(spec.rin_floor)})")
-    return out
+    """The kind's spec-level bounds that rule out every value tuple at once, in words, by name."""
+    hook = kinds.get(spec.topology).spec_bounds
+    return hook(sol, spec) if hook is not None else {}
 
 
 def _capacitor_reason(sol, spec) -> str:
@@ -142,7 +112,7 @@ def _capacitor_reason(sol, spec) -> str:
             best[p] = float(opts.value[idx].max())
     if missing:
         return "; ".join(missing)
-    res = {k: float(row[k]) for k in ("R1", "R2", "RC", "RE1", "RE2", "RE", "RB") if k in row and row[k] > 0}
+    res = {k: float(row[k]) for k in kinds.get(spec.topology).resistors if k in row and row[k] > 0}
     stage = Stage(spec.topology, res, best, spec.supply_v, spec.source_ohms, spec.load_ohms,
                   q.transistor.with_beta(q.transistor.hfe_min))
     f_low = analyze(stage).predicted["f_low"]

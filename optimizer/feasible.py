@@ -13,12 +13,11 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from . import objective
+from . import kinds, objective
 from .screen import screen
 from .stopwatch import poll
 from .swing import CUTOFF_FRACTION
 from .thd_screen import thd_at_swing
-from .stage import EMITTER_FOLLOWER
 
 TRANSISTOR_PD_DERATING = 0.5  # dissipation ≤ 50 % of PD(max) (common practice, no source)
 CONSTRAINTS = ("bias", "gain", "swing", "rin", "vce", "current", "ratings", "thd")
@@ -84,6 +83,7 @@ def check(topology, r, q, spec, near: Near | None = None):
     fraction of any limit at any corner) and "isup" (worst-corner supply current, A).
     """
     t = q.transistor
+    kind = kinds.get(topology)
     cs = corners(q, spec)
     n = len(next(iter(r.values())))
     ok = {k: np.ones(n, dtype=bool) for k in CONSTRAINTS}
@@ -97,7 +97,7 @@ def check(topology, r, q, spec, near: Near | None = None):
                    load_ohms=spec.load_ohms, beta=b, temp_c=temp)
         res[c] = (alive, s)
         g = s["gain"]
-        sign = (g > 0) if topology == EMITTER_FOLLOWER else (g < 0)
+        sign = (g < 0) if kind.inverting else (g > 0)
         ok["bias"][alive] &= s["converged"] & ~s["saturated"] & ~s["cutoff"]
         ok["gain"][alive] &= sign & (np.abs(np.abs(g) / spec.gain - 1.0) <= spec.gain_tol + 1e-12)
         ok["swing"][alive] &= SWING_HEADROOM * s["swing_pp"] >= spec.swing_pp

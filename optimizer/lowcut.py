@@ -17,25 +17,18 @@ from __future__ import annotations
 
 import numpy as np
 
-from . import smallsignal
-from .bias import thevenin
+from . import kinds, smallsignal
+from .kinds.blocks import inv as _inv
 from .circuit import OPEN_LOAD_OHMS
 from .feasible import corner_names
-from .stage import COLLECTOR_FEEDBACK, EMITTER_FOLLOWER
 
 SHORT = smallsignal.SHORT_S
 HALF_POWER = 0.5
-RESISTORS = ("R1", "R2", "RC", "RE1", "RE2", "RE", "RB")
 
 
 def _y(row, corner):
     gm, gpi, gmu, go = (np.asarray(row[f"{corner}_{k}"]) for k in ("gm", "gpi", "gmu", "go"))
     return gpi, gmu, gm + go, -go - gmu  # inverse of smallsignal.hybrid_pi
-
-
-def _inv(z):
-    z = np.asarray(z, dtype=complex)
-    return np.where(z == 0, SHORT, 1.0 / np.where(z == 0, 1.0, z))
 
 
 def _zc(c, omega):
@@ -44,23 +37,9 @@ def _zc(c, omega):
     return np.where(np.isinf(c), 0.0, 1.0 / (1j * omega * np.where(np.isinf(c), 1.0, c)))
 
 
-def _parallel_rc(r, c, omega):
-    """R ‖ C impedance (Ω); C = inf → 0 (bypassed), R = 0 → 0."""
-    c = np.asarray(c, dtype=float)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        z = r / (1.0 + 1j * omega * r * np.where(np.isinf(c), 1.0, c))
-    return np.where(np.isinf(c) | (r == 0), 0.0, z)
-
-
 def _stage(topology, r, omega, ce):
-    """(g_bias, g_feedback, g_collector, g_emitter, output) of the stage with CE fitted (S)."""
-    if topology == COLLECTOR_FEEDBACK:
-        g_bias, g_fb = 0.0, 1.0 / r["RB"]
-    else:
-        g_bias, g_fb = 1.0 / thevenin(1.0, r["R1"], r["R2"])[1], 0.0
-    if topology == EMITTER_FOLLOWER:
-        return g_bias, g_fb, SHORT, 1.0 / r["RE"], "e"
-    return g_bias, g_fb, 1.0 / r["RC"], _inv(r["RE1"] + _parallel_rc(r["RE2"], ce, omega)), "c"
+    """(g_bias, g_feedback, g_collector, g_emitter, output) of the stage with CE fitted (S): `Kind.ac_network`."""
+    return kinds.get(topology).ac_network(r, omega, ce)
 
 
 def _load(spec) -> float:
@@ -80,7 +59,7 @@ def transfer(topology, r, y, rs, rl, omega, cin, cout, ce):
 
 def meets_low_cut(topology, row, spec, cin, cout, ce):
     """Bool array: f_low ≤ spec.low_cut_hz at both hFE corners for the capacitor arrays given (F)."""
-    r = {k: row[k] for k in RESISTORS if k in row}
+    r = {k: row[k] for k in kinds.get(topology).resistors if k in row}
     w = 2 * np.pi * spec.low_cut_hz
     ok = True
     for corner in corner_names(row):
@@ -96,7 +75,7 @@ class LowCut:
 
     def __init__(self, topology, row, spec):
         self.topology = topology
-        self.r = {k: float(row[k]) for k in RESISTORS if k in row}
+        self.r = {k: float(row[k]) for k in kinds.get(topology).resistors if k in row}
         self.w = 2 * np.pi * spec.low_cut_hz
         self.rs, self.rl = float(spec.source_ohms), _load(spec)
         self.y = [_y(row, c) for c in corner_names(row)]

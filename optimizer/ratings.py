@@ -20,8 +20,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from . import network_tree
-from .stage import EMITTER_FOLLOWER
+from . import kinds, network_tree
 from .transistor import Transistor
 
 RESISTOR_DERATING = 0.5  # common practice, no source
@@ -62,22 +61,13 @@ def _toward(high_side, low_side, v):
 
 def capacitor_voltages(topology, op) -> dict:
     """DC voltage (V) across each capacitor, positive when the first-named side is higher."""
-    out_node = op["ve"] if topology == EMITTER_FOLLOWER else op["vc"]
-    volts = {"CIN": op["vb"], "COUT": out_node}
-    if topology != EMITTER_FOLLOWER:
-        volts["CE"] = op["vn"]
-    return volts
+    return {p: op[key] for p, key in kinds.get(topology).cap_nodes.items()}
 
 
 def orientation(topology, op) -> dict:
     """"+ toward …" for each capacitor position, from the DC voltages."""
     v = capacitor_voltages(topology, op)
-    out_side = "the emitter" if topology == EMITTER_FOLLOWER else "the collector"
-    text = {"CIN": _toward("the base", "the source", v["CIN"]),
-            "COUT": _toward(out_side, "the load", v["COUT"])}
-    if "CE" in v:
-        text["CE"] = _toward("the emitter resistors", "ground", v["CE"])
-    return text
+    return {p: _toward(*kinds.get(topology).cap_sides[p], v[p]) for p in v}
 
 
 def check_ratings(topology, op: Mapping, *, transistor: Transistor, supply_v,

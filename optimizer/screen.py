@@ -16,7 +16,7 @@ from collections.abc import Mapping
 import numpy as np
 
 from . import bias, smallsignal, swing
-from .stage import COLLECTOR_FEEDBACK, EMITTER_FOLLOWER, OPTIONAL_POSITIONS, RESISTOR_POSITIONS, TOPOLOGIES
+from . import kinds
 from .transistor import Transistor
 
 CUTOFF_A = 1e-6  # common practice, no source: below 1 µA the stage is not amplifying
@@ -24,19 +24,18 @@ CHUNK = 32768  # candidates per pass
 
 
 def required_positions(topology: str) -> tuple[str, ...]:
-    return tuple(p for p in RESISTOR_POSITIONS[topology] if p not in OPTIONAL_POSITIONS[topology])
+    return kinds.get(topology).required
 
 
 def _flat_inputs(topology, r, extra):
-    if topology not in TOPOLOGIES:
-        raise ValueError(f"unknown topology {topology!r} (expected one of {', '.join(TOPOLOGIES)})")
+    positions = kinds.get(topology).resistors
     missing = [p for p in required_positions(topology) if p not in r]
     if missing:
         raise ValueError(f"{topology}: no value for {', '.join(missing)}")
-    unknown = [p for p in r if p not in RESISTOR_POSITIONS[topology]]
+    unknown = [p for p in r if p not in positions]
     if unknown:
-        raise ValueError(f"{topology}: no position {', '.join(unknown)} (expected {', '.join(RESISTOR_POSITIONS[topology])})")
-    arrays = {p: np.asarray(r.get(p, 0.0), dtype=float) for p in RESISTOR_POSITIONS[topology]}
+        raise ValueError(f"{topology}: no position {', '.join(unknown)} (expected {', '.join(positions)})")
+    arrays = {p: np.asarray(r.get(p, 0.0), dtype=float) for p in positions}
     arrays.update({k: np.asarray(v, dtype=float) for k, v in extra.items()})
     shape = np.broadcast_shapes(*(a.shape for a in arrays.values()))
     # Single values stay scalars (numpy broadcasts them for free); the rest become 1-D.
@@ -104,53 +103,39 @@ def screen(
 
 def _screen_flat(topology, f, q, n):
     """One chunk of n candidates; entries of f are length-n arrays or scalars."""
+    kind = kinds.get(topology)
     vcc = np.broadcast_to(f["supply"], (n,))
     is_t, bf_t, br_t, vt = f["is_t"], f["bf_t"], f["br_t"], f["vt"]  # scalars when shared
-    net = bias.bias_network(topology, f, vcc)
+    net = kind.bias_network(f, vcc)
     dc = bias.solve_operating_point(net, is_t, bf_t, br_t, q.vaf_v, vt)
     ic, ib = dc["ic"], dc["ib"]
     ie = ic + ib
     vb, vc, ve = net.voltages(ib, ic)
-    follower = topology == EMITTER_FOLLOWER
-    feedback = topology == COLLECTOR_FEEDBACK
-    re2 = 0.0 if follower else f["RE2"]
-    out = {"vb": vb, "ve": ve, "vc": vc, "vn": ie * re2, "vce": vc - ve, "vbe": dc["vbe"],
+    ac = kind.ac_terms(f, net, f["bypassed"] > 0)
+    out = {"vb": vb, "ve": ve, "vc": vc, "vn": ie * ac["re2"], "vce": vc - ve, "vbe": dc["vbe"],
            "ic": ic, "ib": ib, "ie": ie, "converged": dc["converged"],
            "iterations": dc["iterations"]}
     out["saturated"] = out["vce"] < swing.VCE_SAT_V
     out["cutoff"] = ic < CUTOFF_A
-    rc = 0.0 if follower else f["RC"]
-    i_top = (vcc - vb) / f["R1"] if not feedback else 0.0
-    # The supply feeds the top of the divider and RC (which also carries IB under collector feedback).
-    out["i_supply"] = i_top + (ie if feedback else ic)
+    out["i_supply"] = kind.supply_current(f, vcc, vb, ic, ib)
 
     # Small signal at the operating point, exact derivatives of the same model.
     y = bias.junction_derivatives(dc["vbe"], dc["vbc"], is_t, bf_t, br_t, q.vaf_v, vt)
     gm, gpi, gmu, go = smallsignal.hybrid_pi(*y)
     out.update(gm=gm, gpi=gpi, gmu=gmu, go=go, re_prime=vt / ic, ro=1.0 / go)
-    bypassed = f["bypassed"] > 0
-    re_ac = f["RE"] if follower else f["RE1"] + np.where(bypassed, 0.0, re2)
-    r_bias = np.inf if feedback else net.rbb  # R1‖R2
-    rb = f["RB"] if feedback else np.inf
+    rc, re_ac, r_bias, rb = ac["rc"], ac["re_ac"], ac["r_bias"], ac["rb"]
     g = smallsignal.conductance
     ss = smallsignal.midband(
         y, g_source=g(f["rs"]), g_bias=1.0 / r_bias, g_feedback=1.0 / rb,
-        g_collector=g(rc), g_emitter=g(re_ac), g_load=1.0 / f["rl"], output="e" if follower else "c")
+        g_collector=g(rc), g_emitter=g(re_ac), g_load=1.0 / f["rl"], output=kind.output)
     out.update(gain=ss["gain"], rin=ss["rin"], rout=ss["rout"])
-    tb = smallsignal.textbook(topology, re_prime=out["re_prime"], beta=ic / ib, r_bias=r_bias,
-                              re_ac=re_ac, rc=rc, rb=rb, rl=f["rl"], rs=f["rs"])
+    tb = kind.textbook(re_prime=out["re_prime"], beta=ic / ib, r_bias=r_bias,
+                       re_ac=re_ac, rc=rc, rb=rb, rl=f["rl"], rs=f["rs"])
     out.update(gain_textbook=tb[0], rin_textbook=tb[1], rout_textbook=tb[2])
 
     # Swing along the AC load line.
-    if follower:
-        up, down = swing.follower_swing(ie=ie, vce=out["vce"], r_ac=smallsignal.parallel(re_ac, f["rl"]))
-    else:
-        if feedback:
-            r_ac = swing.feedback_load(rc, f["rl"], rb, ss["gain_base_to_collector"])
-        else:
-            r_ac = smallsignal.parallel(rc, f["rl"])
-        up, down = swing.collector_swing(ic=ic, ie=ie, vce=out["vce"], vc=vc, supply_v=vcc,
-                                         r_ac=r_ac, re_unbypassed=re_ac)
+    up, down = kind.swing(f, ic=ic, ie=ie, vce=out["vce"], vc=vc, vcc=vcc, rl=f["rl"], re_ac=re_ac,
+                          a_bc=ss.get("gain_base_to_collector"))
     out.update(swing_up=up, swing_down=down, swing_pp=2.0 * np.minimum(up, down))
     out.update(dissipation(topology, f, vcc=vcc, vb=vb, vc=vc, ie=ie, ic=ic, ib=ib,
                            vce=out["vce"], vbe=dc["vbe"]))
@@ -160,17 +145,5 @@ def _screen_flat(topology, f, q, n):
 def dissipation(topology, r, *, vcc, vb, vc, ie, ic, ib, vce, vbe):
     """p_<position> for each resistor and p_q = VCE·IC + VBE·IB for the transistor (W)."""
     p = {"p_q": vce * ic + vbe * ib}
-    if topology == COLLECTOR_FEEDBACK:
-        p["p_RB"] = (vc - vb) ** 2 / r["RB"]
-        p["p_RC"] = (ic + ib) ** 2 * r["RC"]
-    else:
-        p["p_R1"] = (vcc - vb) ** 2 / r["R1"]
-        p["p_R2"] = vb ** 2 / r["R2"]
-    if topology == EMITTER_FOLLOWER:
-        p["p_RE"] = ie ** 2 * r["RE"]
-    else:
-        if topology != COLLECTOR_FEEDBACK:
-            p["p_RC"] = ic ** 2 * r["RC"]
-        p["p_RE1"] = ie ** 2 * r["RE1"]
-        p["p_RE2"] = ie ** 2 * r["RE2"]
+    p.update(kinds.get(topology).dissipation(r, vcc=vcc, vb=vb, vc=vc, ie=ie, ic=ic, ib=ib))
     return p

@@ -23,9 +23,8 @@ import math
 
 import numpy as np
 
-from .stage import COLLECTOR_FEEDBACK, EMITTER_FOLLOWER, RESISTOR_POSITIONS
-from .swing import VCE_SAT_V
-from .transistor import thermal_voltage
+from . import kinds
+from .stage import RESISTOR_POSITIONS
 
 VBE_V = 0.65  # a small-signal silicon junction at about 1 mA (common practice, no source)
 DIVIDER_STIFFNESS = 10.0  # divider current / base current at hFE min (common practice, no source)
@@ -35,40 +34,16 @@ NEIGHBOURS = 2  # stocked values taken on each side of an ideal value
 
 
 def ideal_values(topology, spec, hfe_min, hfe_typ) -> dict[str, float]:
-    """Position → ideal ohms (0.0 = leave the position out) for `spec` with a transistor of that hFE."""
-    vcc, swing, rl = spec.supply_v, spec.swing_pp / 2.0 * SWING_ROOM, spec.load_ohms
-    vt = float(thermal_voltage(27.0))
-    if topology == EMITTER_FOLLOWER:
-        ve = max(vcc / 2.0 - VBE_V / 2.0, 0.5)
-        ie = swing / (rl * (1.0 - swing / ve)) if swing < ve and math.isfinite(rl) else MIN_IC_A
-        ie = _capped(max(ie, MIN_IC_A), spec)
-        r1, r2 = _divider(vcc, ve + VBE_V, ie, hfe_min, hfe_typ, ve / ie, spec)
-        return {"R1": r1, "R2": r2, "RE": ve / ie}
-    ve = min(max(1.0, vcc / 10.0), vcc / 4.0)
-    low = ve + max(spec.min_vce_v, VCE_SAT_V + swing)
-    vc = (vcc + low) / 2.0
-    room = vcc - vc
-    need = 1.2 * swing
-    ic = need * room / (rl * (room - need)) if room > need and math.isfinite(rl) else MIN_IC_A
-    ic = _capped(max(ic, MIN_IC_A), spec)
-    rc = room / ic
-    rac = rc if not math.isfinite(rl) else rc * rl / (rc + rl)
-    re = ve / ic
-    re1 = min(max(rac / spec.gain - vt / ic, 0.0), re)
-    out = {"RC": rc, "RE1": re1, "RE2": re - re1}
-    if topology == COLLECTOR_FEEDBACK:
-        out["RB"] = max(vc - ve - VBE_V, 0.1) / (ic / hfe_typ)
-        out["RC"] = room / (ic * (1.0 + 1.0 / hfe_typ))
-        return out
-    out["R1"], out["R2"] = _divider(vcc, ve + VBE_V, ic, hfe_min, hfe_typ, re1 + vt / ic, spec)
-    return out
+    """Position → ideal ohms (0.0 = leave the position out) for `spec` with a transistor of that hFE
+    (each kind's own procedure, `Kind.ideal_values`)."""
+    return kinds.get(topology).ideal_values(spec, hfe_min, hfe_typ)
 
 
-def _capped(i, spec):
+def capped(i, spec):
     return min(i, spec.max_supply_a / 1.3) if spec.max_supply_a is not None else i
 
 
-def _divider(vcc, vb, ic, hfe_min, hfe_typ, r_emitter_ac, spec):
+def divider(vcc, vb, ic, hfe_min, hfe_typ, r_emitter_ac, spec):
     """(R1, R2) for base voltage vb carrying DIVIDER_STIFFNESS × IB(hFE min), loosened until the
     input resistance (divider ‖ the base's hFE·(re' + RE1)) clears the spec's floor with room."""
     ib = ic / hfe_min
@@ -99,7 +74,7 @@ def seed_tuples(topology, spec, q, pool) -> dict[str, np.ndarray]:
     choices = []
     for p in RESISTOR_POSITIONS[topology]:
         near = neighbours(values, ideal.get(p, 0.0))
-        if p in ("RE1", "RE2"):
+        if p in kinds.get(topology).optional:
             near = np.append(near, 0.0)  # leaving it out is a neighbour too
         if not len(near):
             return {p: np.zeros(0) for p in RESISTOR_POSITIONS[topology]}

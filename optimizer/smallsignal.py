@@ -16,6 +16,8 @@ from __future__ import annotations
 
 import numpy as np
 
+from . import kinds
+
 SHORT_S = 1e9  # S, an ideal short (absent emitter resistor, RS = 0, collector at the supply)
 
 
@@ -109,24 +111,9 @@ def parallel(*ohms):
 
 
 def textbook(topology, *, re_prime, beta, r_bias, re_ac, rc, rb, rl, rs):
-    """The textbook estimates a build sheet explains with (Ω, dimensionless).
-
-    Common emitter: A ≈ −(RC‖RL)/(re' + RE1), rin ≈ R1‖R2‖(β+1)(re' + RE1), rout ≈ RC.
-    Follower: A ≈ (RE‖RL)/(re' + RE‖RL), rin ≈ R1‖R2‖(β+1)(re' + RE‖RL),
-    rout ≈ RE‖(re' + (RS‖R1‖R2)/(β+1)).
-    Collector feedback: A ≈ −(RC‖RL‖RB)/(re' + RE1), rin ≈ RB/(1 + |A|) ‖ (β+1)(re' + RE1)
-    (Miller), rout ≈ RC‖RB (the feedback lowers it further; the exact solve has it).
+    """The textbook estimates (gain, rin, rout) a build sheet explains with (Ω, dimensionless):
+    each kind's own hand formulas (`Kind.textbook`, quoted in its module).
     Gains are from the base to the load (the source divider is not included).
     """
-    if topology == "emitter-follower":
-        r_e = parallel(re_ac, rl)
-        gain = r_e / (re_prime + r_e)
-        rin = parallel(r_bias, (beta + 1.0) * (re_prime + r_e))
-        rout = parallel(re_ac, re_prime + parallel(rs, r_bias) / (beta + 1.0))
-        return gain, rin, rout
-    if topology == "collector-feedback":
-        gain = -parallel(rc, rl, rb) / (re_prime + re_ac)
-        rin = parallel(rb / (1.0 + np.abs(gain)), (beta + 1.0) * (re_prime + re_ac))
-        return gain, rin, parallel(rc, rb)
-    gain = -parallel(rc, rl) / (re_prime + re_ac)
-    return gain, parallel(r_bias, (beta + 1.0) * (re_prime + re_ac)), np.asarray(rc, dtype=float)
+    return kinds.get(topology).textbook(re_prime=re_prime, beta=beta, r_bias=r_bias, re_ac=re_ac, rc=rc, rb=rb,
+                                        rl=rl, rs=rs)

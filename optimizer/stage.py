@@ -9,31 +9,18 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 
+from . import kinds
 from .transistor import Transistor
 
+# The built-in kinds' names (each kind declares itself in optimizer/kinds/).
 COMMON_EMITTER = "common-emitter"
 EMITTER_FOLLOWER = "emitter-follower"
 COLLECTOR_FEEDBACK = "collector-feedback"
-TOPOLOGIES = (COMMON_EMITTER, EMITTER_FOLLOWER, COLLECTOR_FEEDBACK)
-
-# Resistor and capacitor positions per topology.  RE1 is the unbypassed part of
-# the emitter resistance, RE2 the part bypassed by CE.
-RESISTOR_POSITIONS = {
-    COMMON_EMITTER: ("R1", "R2", "RC", "RE1", "RE2"),
-    EMITTER_FOLLOWER: ("R1", "R2", "RE"),
-    COLLECTOR_FEEDBACK: ("RB", "RC", "RE1", "RE2"),
-}
-CAPACITOR_POSITIONS = {
-    COMMON_EMITTER: ("CIN", "COUT", "CE"),
-    EMITTER_FOLLOWER: ("CIN", "COUT"),
-    COLLECTOR_FEEDBACK: ("CIN", "COUT", "CE"),
-}
-# Positions that may be left out of a design.
-OPTIONAL_POSITIONS = {
-    COMMON_EMITTER: ("RE1", "RE2", "CE"),
-    EMITTER_FOLLOWER: (),
-    COLLECTOR_FEEDBACK: ("RE1", "RE2", "CE"),
-}
+# Every registered kind, and its positions, read from the registry when used.
+TOPOLOGIES = kinds.Names()
+RESISTOR_POSITIONS = kinds.ByKind("resistors")
+CAPACITOR_POSITIONS = kinds.ByKind("capacitors")
+OPTIONAL_POSITIONS = kinds.ByKind("optional")  # positions a design may leave out
 
 
 @dataclass(frozen=True)
@@ -50,8 +37,11 @@ class Stage:
     temp_c: float = 27.0
 
     def __post_init__(self):
-        if self.topology not in TOPOLOGIES:
-            raise ValueError(f"unknown topology {self.topology!r} (expected one of {', '.join(TOPOLOGIES)})")
+        kinds.get(self.topology)  # ValueError naming the known kinds
+
+    @property
+    def kind(self) -> kinds.Kind:
+        return kinds.get(self.topology)
 
     def r(self, position: str) -> float:
         """Resistance at `position` in ohms; 0.0 when the position is absent."""

@@ -14,9 +14,9 @@ from __future__ import annotations
 
 import numpy as np
 
+from . import kinds
 from .bias import Network, solve_operating_point
 from .largesignal import held_network
-from .stage import EMITTER_FOLLOWER
 from .stopwatch import poll
 
 POINTS = 16  # samples per period: harmonics 2..7 counted (a clip-free stage's THD is in the 2nd and 3rd)
@@ -97,5 +97,6 @@ def _wave(topology, r, op, transistor, beta, temp_c, supply_v, source_ohms, load
         guess = (np.repeat(op["vbe"], m), np.repeat(op["vb"] - op["vc"], m))
     dc = solve_operating_point(flat, is_a, bf, br, transistor.vaf_v, vt, guess=guess)
     vb, vc, ve = flat.voltages(dc["ib"], dc["ic"])
-    node = (ve - np.repeat(op["ve"], m)) if topology == EMITTER_FOLLOWER else (vc - np.repeat(op["vc"], m))
+    key = kinds.get(topology).output_key
+    node = {"ve": ve, "vc": vc}[key] - np.repeat(op[key], m)
     return node.reshape(n, m), dc["converged"].reshape(n, m).all(axis=1), (dc["vbe"], dc["vbc"])

@@ -23,13 +23,17 @@ from optimizer.spec import (
     Spec,
     default_rin_floor,
 )
+from optimizer import kinds
 from optimizer.stage import TOPOLOGIES
 
 SPEC_DEFAULTS = Spec()
-FOLLOWER = "emitter-follower"
-# A follower's gain is just under 1 by nature; it is not asked for, the request takes 0.95 ± 5 %
-# (0.90…1.00).  Common practice, no source.
-FOLLOWER_GAIN = 0.95
+
+
+def preset_gain(topology) -> float | None:
+    """The gain a request asks of a kind whose gain is set by nature (a follower's), else None."""
+    return kinds.get(topology).preset_gain if topology in TOPOLOGIES else None
+
+
 PREFER_WORDS = {"balanced": "balanced", "parts": "fewest parts", "clean": "cleanest (least THD)",
                 "robust": "most robust (widest margin)", "frugal": "least supply current"}
 
@@ -196,11 +200,11 @@ def build_request(texts: dict[str, str], choices: dict[str, object]) -> tuple[Sp
     spec_kw: dict[str, object] = {"topology": choices.get("topology", CHOICE_DEFAULTS["topology"]),
                                   "max_parts_per_position": int(choices.get("depth", CHOICE_DEFAULTS["depth"]))}
     search_kw: dict[str, object] = {"prefer": choices.get("prefer", CHOICE_DEFAULTS["prefer"])}
-    follower = spec_kw["topology"] == FOLLOWER
+    preset = preset_gain(spec_kw["topology"])
     for f in FIELDS:
         text = texts.get(f.name, f.default)
-        if follower and f.name == "gain":
-            value: object = FOLLOWER_GAIN
+        if preset is not None and f.name == "gain":
+            value: object = preset
         elif text.strip() == "" and f.name in OPTIONAL:
             value = None
         else:
@@ -218,7 +222,7 @@ def build_request(texts: dict[str, str], choices: dict[str, object]) -> tuple[Sp
     for problem in spec.problems():
         option, _, text = problem.partition(": ")
         name = by_option.get(option, "")
-        if follower and name == "gain":
+        if preset is not None and name == "gain":
             name = ""
         problems[name] = f"{problems[name]}; {text}" if name in problems else (text if name else problem)
     return (None if problems else spec), search_kw, problems

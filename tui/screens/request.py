@@ -131,7 +131,7 @@ class RequestScreen(Screen):
     @on(Select.Changed)
     def check(self):
         spec, _, found = self.request()
-        follower = self.query_one("#topology", Select).value == rf.FOLLOWER
+        preset = rf.preset_gain(self.query_one("#topology", Select).value)
         for f in rf.FIELDS:
             note = self.query_one(f"#m-{f.name}", Label)
             note.update(found.get(f.name, f.hint))
@@ -141,9 +141,9 @@ class RequestScreen(Screen):
             self.query_one("#m-min_rin", Label).update(rf.rin_floor_text(self.query_one("#r-source", Input).value))
         # A follower's gain is not asked for: just under 1 by nature.
         gain = self.query_one("#r-gain", Input)
-        gain.disabled = follower
-        if follower:
-            self.query_one("#m-gain", Label).update(f"a follower: about 1 (asked as {rf.FOLLOWER_GAIN:g})")
+        gain.disabled = preset is not None
+        if preset is not None:
+            self.query_one("#m-gain", Label).update(f"set by the stage itself (asked as {preset:g})")
             gain.set_class(False, "-invalid")
         problems = self.query_one("#request-problems", Label)
         problems.update(found.get("", ""))
