@@ -24,7 +24,7 @@ from .candidates import POSITIONS, Pool, min_positions, profiles, tuples, usable
 from .capacitors import capacitor_options
 from .feasible import Near, check, concat
 from .seed import seed_tuples
-from .spec import DEFAULT_DEPTH, DEFAULT_PREFER, DEFAULT_TIME_LIMIT_S, DEFAULT_TOP, PREFERENCES, Bounds  # noqa: F401
+from .spec import ANY_TOPOLOGY, DEFAULT_DEPTH, DEFAULT_PREFER, DEFAULT_TIME_LIMIT_S, DEFAULT_TOP, PREFERENCES, Bounds  # noqa: F401
 
 MIN_CAPS = 2  # CIN and COUT are always fitted
 MAX_SCREENED = 60_000_000  # a safety stop; reported in `why` when it ends the search
@@ -448,6 +448,12 @@ def find_designs(drawer, spec, *, top=DEFAULT_TOP, depth=DEFAULT_DEPTH, min_yiel
     """
     from . import explain, result
     from .hints import HINT_MAX_OHMS, shopping_hints
+
+    if spec.topology == ANY_TOPOLOGY:  # every kind in turn, one trade-off set across them
+        from .across import find_any
+
+        return find_any(drawer, spec, top=top, time_limit_s=time_limit_s, progress=progress, cancel=cancel,
+                        depth=depth, min_yield=min_yield, hints=hints, seed=seed, prefer=prefer)
 
     doc = {"designs": [], "why": [], "hints": [], "spec": result.spec_json(spec),
            "inventory": str(getattr(drawer, "path", "") or ""), "status": "unproven", "optimal": False,

@@ -28,6 +28,10 @@ def default_rin_floor(source_ohms: float) -> float:
     return max(RIN_FLOOR_SOURCE_RATIO * float(source_ohms), RIN_FLOOR_MIN_OHMS)
 
 
+# `--topology any`: search every kind the request can use (optimizer/across.py).
+ANY_TOPOLOGY = "any"
+
+
 def _article(word: str) -> str:
     return "an" if word[:1] in "aeiou" else "a"
 
@@ -99,8 +103,8 @@ class Spec:
         if out:
             return out
         kind = kinds.get(self.topology) if self.topology in TOPOLOGIES else None
-        if kind is None:
-            out.append(f"--topology: {self.topology!r} is not one of {', '.join(TOPOLOGIES)}")
+        if kind is None and self.topology != ANY_TOPOLOGY:
+            out.append(f"--topology: {self.topology!r} is not one of {', '.join((*TOPOLOGIES, ANY_TOPOLOGY))}")
         if not self.supply_v > 0:
             out.append(f"--supply: {self.supply_v:g} V; the supply must be positive")
         elif self.supply_v > 60:

@@ -31,6 +31,7 @@ from inventory.values import (
     parse_voltage,
 )
 from optimizer.spec import (
+    ANY_TOPOLOGY,
     DEFAULT_DEPTH,
     DEFAULT_MAX_THD,
     DEFAULT_MIN_VCE_V,
@@ -59,7 +60,9 @@ def register(sub) -> None:
                        description="Find the stages that meet the spec at both ends of the transistor's hFE "
                                    "range and of the temperature range, using only the parts on hand.  "
                                    "Values as on the parts: 22k, 4k7, 12V, 1.8k, 4.7e-6.")
-    p.add_argument("--topology", default="common-emitter", choices=TOPOLOGIES)
+    p.add_argument("--topology", default="common-emitter", choices=(*TOPOLOGIES, ANY_TOPOLOGY),
+                   help="the kind of stage, or `any`: every kind the drawer can build, one trade-off set "
+                        "across them (default common-emitter)")
     p.add_argument("--gain", required=True, help="gain magnitude (a common emitter reports it negative)")
     p.add_argument("--gain-tol", default="0.05", help="allowed gain error: 5%% or 0.05 (default ±5 %%)")
     d = DEFAULTS

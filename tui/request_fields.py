@@ -14,6 +14,7 @@ from dataclasses import dataclass, fields
 
 from inventory import values
 from optimizer.spec import (
+    ANY_TOPOLOGY,
     DEFAULT_PREFER,
     DEFAULT_TIME_LIMIT_S,
     DEFAULT_TOP,
@@ -176,10 +177,11 @@ OPTIONAL = {f.name for f in FIELDS if f.default == ""}
 GROUPS = (("stage", "The stage"), ("limits", "Limits"), ("search", "Search"))
 
 # The choice fields (the form shows them as lists).
-TOPOLOGY_CHOICES = tuple((t, t) for t in TOPOLOGIES)
+TOPOLOGY_CHOICES = (("any kind that fits", ANY_TOPOLOGY),) + tuple((t, t) for t in TOPOLOGIES)
 DEPTH_CHOICES = (("1 part per position", 1), ("up to 2 in series/parallel", 2), ("up to 3 in series/parallel", 3))
 PREFER_CHOICES = tuple((f"{PREFER_WORDS.get(p, p)} first", p) for p in PREFERENCES)
-CHOICE_DEFAULTS = {"topology": _spec("topology"), "depth": _spec("max_parts_per_position"), "prefer": DEFAULT_PREFER}
+# The app searches every kind unless told otherwise (the CLI's default stays one kind, for scripts).
+CHOICE_DEFAULTS = {"topology": ANY_TOPOLOGY, "depth": _spec("max_parts_per_position"), "prefer": DEFAULT_PREFER}
 
 
 def rin_floor_text(source_text: str) -> str:
