@@ -180,8 +180,12 @@ GROUPS = (("stage", "The stage"), ("limits", "Limits"), ("search", "Search"))
 TOPOLOGY_CHOICES = (("any kind that fits", ANY_TOPOLOGY),) + tuple((t, t) for t in TOPOLOGIES)
 DEPTH_CHOICES = (("1 part per position", 1), ("up to 2 in series/parallel", 2), ("up to 3 in series/parallel", 3))
 PREFER_CHOICES = tuple((f"{PREFER_WORDS.get(p, p)} first", p) for p in PREFERENCES)
-# The app searches every kind unless told otherwise (the CLI's default stays one kind, for scripts).
-CHOICE_DEFAULTS = {"topology": ANY_TOPOLOGY, "depth": _spec("max_parts_per_position"), "prefer": DEFAULT_PREFER}
+CHOICE_DEFAULTS = {"topology": _spec("topology"), "depth": _spec("max_parts_per_position"), "prefer": DEFAULT_PREFER}
+
+
+# The app's form starts on every kind (`any`); the request's own default (Spec, and the CLI for
+# scripts) stays one kind, so a script's output does not change kind under it.
+APP_CHOICES = {**CHOICE_DEFAULTS, "topology": ANY_TOPOLOGY}
 
 
 def rin_floor_text(source_text: str) -> str:

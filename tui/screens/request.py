@@ -87,7 +87,7 @@ class RequestScreen(Screen):
         last = self.app.last_request  # the request searched last, as it was typed
         yield Masthead()
         with VerticalScroll(id="request"):
-            yield _choice_row("Stage", rf.TOPOLOGY_CHOICES, last.get("topology", rf.CHOICE_DEFAULTS["topology"]),
+            yield _choice_row("Stage", rf.TOPOLOGY_CHOICES, last.get("topology", rf.APP_CHOICES["topology"]),
                               "topology")
             for key, title in rf.GROUPS:
                 yield Label(title, classes="group-title")
@@ -131,7 +131,8 @@ class RequestScreen(Screen):
     @on(Select.Changed)
     def check(self):
         spec, _, found = self.request()
-        preset = rf.preset_gain(self.query_one("#topology", Select).value)
+        topology = self.query_one("#topology", Select).value
+        preset = rf.preset_gain(topology)
         for f in rf.FIELDS:
             note = self.query_one(f"#m-{f.name}", Label)
             note.update(found.get(f.name, f.hint))
@@ -143,7 +144,7 @@ class RequestScreen(Screen):
         gain = self.query_one("#r-gain", Input)
         gain.disabled = preset is not None
         if preset is not None:
-            self.query_one("#m-gain", Label).update(f"set by the stage itself (asked as {preset:g})")
+            self.query_one("#m-gain", Label).update(f"the {topology} sets its own gain (asked as {preset:g})")
             gain.set_class(False, "-invalid")
         problems = self.query_one("#request-problems", Label)
         problems.update(found.get("", ""))
@@ -242,5 +243,5 @@ class RequestScreen(Screen):
     def action_reset(self) -> None:
         for f in rf.FIELDS:
             self.query_one(f"#r-{f.name}", Input).value = f.default
-        for name, value in rf.CHOICE_DEFAULTS.items():
+        for name, value in rf.APP_CHOICES.items():
             self.query_one(f"#{name}", Select).value = value
