@@ -5,8 +5,8 @@ from __future__ import annotations
 import math
 from dataclasses import asdict, dataclass
 
-from . import kinds
-from .stage import TOPOLOGIES
+from optimizer import kinds
+from optimizer.physics.stage import TOPOLOGIES
 
 # Defaults a practitioner assumes without saying them (one place: the CLI and the app read these).
 DEFAULT_MAX_THD = 0.01  # 1 % THD at the asked swing: a clean small-signal stage (common practice, no source)
@@ -28,7 +28,7 @@ def default_rin_floor(source_ohms: float) -> float:
     return max(RIN_FLOOR_SOURCE_RATIO * float(source_ohms), RIN_FLOOR_MIN_OHMS)
 
 
-# `--topology any`: search every kind the request can use (optimizer/across.py).
+# `--topology any`: search every kind the request can use (optimizer/search/across.py).
 ANY_TOPOLOGY = "any"
 
 

@@ -1,6 +1,6 @@
 """`--topology any` against the exhaustive oracle: one trade-off set across every kind.
 
-The oracle (optimizer/oracle.py) enumerates each kind on its own with no pruning; the set
+The oracle (optimizer/search/oracle.py) enumerates each kind on its own with no pruning; the set
 across kinds is then the designs of the union that no other design beats on all four counts
 (tradeoff.py).  The search across kinds must return exactly that set (as sets of counts), with
 the preferred design first and `optimal` true when every kind was proven.
@@ -15,11 +15,12 @@ import numpy as np
 import pytest
 
 from inventory.drawer import Drawer
-from optimizer import kinds, tradeoff
-from optimizer.across import usable_kinds
-from optimizer.candidates import usable_transistors
-from optimizer.oracle import oracle_front
-from optimizer.select import find_designs
+from optimizer import kinds
+from optimizer.search import tradeoff
+from optimizer.search.across import usable_kinds
+from optimizer.search.candidates import usable_transistors
+from optimizer.search.oracle import oracle_front
+from optimizer.search.select import find_designs
 from optimizer.spec import Spec
 
 HEADER = "kind,value,qty,tolerance,power,voltage,dielectric,part,polarity,hfe_min,hfe_max,vceo,ic_max,pd_max,location\n"

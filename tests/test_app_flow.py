@@ -112,7 +112,7 @@ async def test_infeasible_request_shows_the_reasons(demo_drawer):
 async def test_escape_stops_a_running_solve(demo_drawer, monkeypatch):
     import threading
 
-    from optimizer import select
+    from optimizer.search import select
 
     real = select.find_designs
     app = make_app(demo_drawer)

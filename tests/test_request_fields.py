@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import pytest
 
-from optimizer.select import DEFAULT_PREFER, DEFAULT_TIME_LIMIT_S
+from optimizer.search.select import DEFAULT_PREFER, DEFAULT_TIME_LIMIT_S
 from optimizer.spec import Spec, default_rin_floor
 from tui import request_fields as rf
 

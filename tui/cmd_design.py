@@ -42,7 +42,7 @@ from optimizer.spec import (
     PREFERENCES,
     Spec,
 )
-from optimizer.stage import TOPOLOGIES
+from optimizer.physics.stage import TOPOLOGIES
 
 from . import cmd_build
 from .cmd_common import InputError, drawer_path, load_drawer, say, value, whole
@@ -167,7 +167,7 @@ def run_design(args) -> int:
         return 2
     for prob in drawer.errors:
         say(f"warning: {prob} (line left out)")
-    from optimizer.select import find_designs  # OR-Tools and scipy load only for a design
+    from optimizer.search.select import find_designs  # OR-Tools and scipy load only for a design
 
     with _progress_bar() as progress:
         doc = find_designs(drawer, spec, depth=spec.max_parts_per_position, hints=not args.no_hints,

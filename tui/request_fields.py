@@ -1,7 +1,7 @@
 """The design request's fields: one list, with one set of defaults, for the app's form and the CLI.
 
 Every default is read from the solver's own definitions (`optimizer.spec.Spec` field
-defaults and constants, `optimizer.select`'s preference and time limit), spelled as a user
+defaults and constants, `optimizer.search.select`'s preference and time limit), spelled as a user
 would type it.  Each field knows its CLI option, its parser and, for the form, its label and
 a one-line hint.  Headless: no Textual here.
 """
@@ -25,7 +25,7 @@ from optimizer.spec import (
     default_rin_floor,
 )
 from optimizer import kinds
-from optimizer.stage import TOPOLOGIES
+from optimizer.physics.stage import TOPOLOGIES
 
 SPEC_DEFAULTS = Spec()
 

@@ -3,4 +3,4 @@ positions, circuit, bias and small-signal hooks, pruning bounds, seeds and drawi
 features, and registers itself (registry.py).  Adding a kind is adding a module
 and naming it in `registry.BUILTIN`."""
 
-from .registry import ByKind, Kind, Names, get, names, register  # noqa: F401
+from optimizer.kinds.registry import ByKind, Kind, Names, get, names, register  # noqa: F401

@@ -8,11 +8,11 @@ import math
 
 import numpy as np
 
-from .. import swing as loadline
-from ..bias import Network, thevenin
-from ..seed import MIN_IC_A, capped, divider
-from ..smallsignal import SHORT_S, conductance, parallel
-from ..transistor import thermal_voltage
+from optimizer.physics import swing as loadline
+from optimizer.physics.bias import Network, thevenin
+from optimizer.search.seed import MIN_IC_A, capped, divider
+from optimizer.physics.smallsignal import SHORT_S, conductance, parallel
+from optimizer.physics.transistor import thermal_voltage
 
 SHORT = SHORT_S
 

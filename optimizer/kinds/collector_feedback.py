@@ -10,11 +10,11 @@ from __future__ import annotations
 
 import numpy as np
 
-from .. import feedback_boxes
-from .. import swing as loadline
-from ..seed import SWING_ROOM, VBE_V
-from . import blocks as b
-from .registry import Kind, register
+from optimizer.kinds import collector_feedback_bounds as feedback_boxes
+from optimizer.physics import swing as loadline
+from optimizer.search.seed import SWING_ROOM, VBE_V
+from optimizer.kinds import blocks as b
+from optimizer.kinds.registry import Kind, register
 
 NAME = "collector-feedback"
 

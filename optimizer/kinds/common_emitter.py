@@ -10,12 +10,12 @@ import numpy as np
 
 from inventory.values import format_capacitance, format_resistance
 
-from .. import ce_boxes
-from .. import swing as loadline
-from ..seed import SWING_ROOM, VBE_V
-from ..transistor import thermal_voltage
-from . import blocks as b
-from .registry import Kind, register
+from optimizer.kinds import common_emitter_bounds as ce_boxes
+from optimizer.physics import swing as loadline
+from optimizer.search.seed import SWING_ROOM, VBE_V
+from optimizer.physics.transistor import thermal_voltage
+from optimizer.kinds import blocks as b
+from optimizer.kinds.registry import Kind, register
 
 NAME = "common-emitter"
 

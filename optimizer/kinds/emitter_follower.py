@@ -11,11 +11,11 @@ import math
 
 import numpy as np
 
-from .. import follower_boxes
-from .. import swing as loadline
-from ..seed import MIN_IC_A, SWING_ROOM, VBE_V
-from . import blocks as b
-from .registry import Kind, register
+from optimizer.kinds import emitter_follower_bounds as follower_boxes
+from optimizer.physics import swing as loadline
+from optimizer.search.seed import MIN_IC_A, SWING_ROOM, VBE_V
+from optimizer.kinds import blocks as b
+from optimizer.kinds.registry import Kind, register
 
 NAME = "emitter-follower"
 

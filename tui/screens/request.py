@@ -180,7 +180,7 @@ class RequestScreen(Screen):
     @work(thread=True, exclusive=True, group="solve", exit_on_error=False)
     def solve(self, run: int, drawer, spec, search_kw: dict, cancel: threading.Event) -> None:
         # Imported here: the solver pulls in OR-Tools, which the drawer view never needs.
-        from optimizer.select import find_designs
+        from optimizer.search.select import find_designs
 
         def progress(fraction: float, text: str) -> None:
             self.post_message(SolveProgress(run, fraction, text))
