@@ -29,10 +29,14 @@ REQUEST = {"#r-gain": "10", "#r-supply": "12V", "#r-load": "22k", "#r-source": "
            "#r-low_cut": "30", "#r-min_rin": "8k"}
 
 
-async def solve(pilot, fields: dict[str, str]) -> None:
+async def solve(pilot, fields: dict[str, str], topology: str | None = "common-emitter") -> None:
+    """Fill the request form and search; `topology` picks the Stage (the form starts on `any`)."""
     await pilot.press("d")
     await pilot.pause()
     assert isinstance(pilot.app.screen, RequestScreen)
+    if topology is not None:
+        pilot.app.screen.query_one("#topology").value = topology
+        await pilot.pause()
     for selector, text in fields.items():
         await type_into(pilot, selector, text)
     await pilot.press("f5")

@@ -59,6 +59,8 @@ class Solution:
     exhaustive: bool = True
     budget: int = 0
     seconds: float = 0.0
+    started: float = 0.0  # time.perf_counter() at the start of the search
+    first_design_s: float | None = None  # seconds from the start until a design was first in hand
     searched: int | None = None  # the last resistor part budget screened in full
     stopped_by: str | None = None  # "time limit", "cancelled" or "size" when the search stopped early
     unexplored: str | None = None
@@ -109,7 +111,7 @@ def search(rstock, cstock, qlines, spec, *, top=3, depth=3, progress=None, cance
     t0 = time.perf_counter()
     topology = spec.topology
     positions = POSITIONS[topology]
-    sol = Solution(spec, qlines=qlines)
+    sol = Solution(spec, qlines=qlines, started=t0)
     options = capacitor_options(cstock, 0.0, depth=2)
     sol.options = options
     cap_qty = np.asarray(cstock.qty, dtype=np.int64)
@@ -299,6 +301,8 @@ class _Front:
         exact = rows["exact"]
         if exact.any():
             self.fewest_parts = min(self.fewest_parts, int(rows["parts"][exact].min()))
+            if self.sol.first_design_s is None:
+                self.sol.first_design_s = time.perf_counter() - self.sol.started
         self.rows = rows
 
     def _exact(self, rows):
@@ -487,7 +491,8 @@ def find_designs(drawer, spec, *, top=DEFAULT_TOP, depth=DEFAULT_DEPTH, min_yiel
                  accept=accept if min_yield is not None else None, prefer=prefer, deadline=deadline)
     doc["search"] = {"resistor_part_budget": sol.budget, "tuples_screened": sol.near.screened,
                      "seconds": round(sol.seconds, 3), "exhaustive": sol.exhaustive, "depth": depth,
-                     "prefer": prefer, "time_limit_s": limit, "stopped_by": sol.stopped_by}
+                     "prefer": prefer, "time_limit_s": limit, "stopped_by": sol.stopped_by,
+                     "first_design_s": None if sol.first_design_s is None else round(sol.first_design_s, 3)}
     for k, (choice, row, labels) in enumerate(sol.designs):
         if k and limit is not None and time.perf_counter() - t0 > limit + OVERRUN_S - POST_S_PER_DESIGN:
             doc["why"].append(f"{len(sol.designs) - k} more design(s) of the trade-off set left out to keep the "

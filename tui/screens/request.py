@@ -144,7 +144,7 @@ class RequestScreen(Screen):
         gain = self.query_one("#r-gain", Input)
         gain.disabled = preset is not None
         if preset is not None:
-            self.query_one("#m-gain", Label).update(f"the {topology} sets its own gain (asked as {preset:g})")
+            self.query_one("#m-gain", Label).update(f"set by the {topology}: {preset:g}")
             gain.set_class(False, "-invalid")
         problems = self.query_one("#request-problems", Label)
         problems.update(found.get("", ""))
