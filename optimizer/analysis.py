@@ -12,6 +12,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from . import polarity
 from . import swing as loadline
 from .circuit import NODES, build, operating_point, q_currents, solve_small_signal
 from .distortion import distortion
@@ -104,8 +105,9 @@ def analyze(stage: Stage, swing_pp: float | None = None, *, ratings: dict | None
     caps = capacitor_corners(circuit, op)
     for name, c in caps.items():
         part = next(p for p in circuit.parts if p.name == name)
-        c["dc_v"] = abs(op[part.a] - op[part.b])
-        c["positive_node"] = part.a if op[part.a] >= op[part.b] else part.b
+        va, vb_ = polarity.node_volts(stage, op, part.a), polarity.node_volts(stage, op, part.b)  # real polarity
+        c["dc_v"] = abs(va - vb_)
+        c["positive_node"] = polarity.real_node(part.a if va >= vb_ else part.b, polarity.mirrored(stage))
     f_low = lower_corner(circuit, op, mid.gain)
     limits = _swing_limits(stage, circuit, op, ic, vce)
     vt = circuit.model[4]
@@ -133,8 +135,10 @@ def analyze(stage: Stage, swing_pp: float | None = None, *, ratings: dict | None
                 warnings.append(f"clips at {swing_pp:g} V p-p ({' and '.join(why) or 'limited'}{reach})")
         if swing_pp > limits["pp"]:
             warnings.append(f"asked for {swing_pp:g} V p-p but the load line allows {limits['pp']:.3g} V p-p clip-free")
-    return Report(stage, predicted, point, power, caps, curve(circuit, op), limits,
-                  small_signal_params(circuit, op), approx, dist, warnings)
+    # A PNP stage was solved as its NPN mirror: its DC node voltages are shown in real polarity.
+    return Report(stage, polarity.real_predicted(stage, predicted), polarity.real_point(stage, point), power, caps,
+                  curve(circuit, op), limits, small_signal_params(circuit, op),
+                  polarity.real_approximations(stage, approx), dist, warnings)
 
 
 def _swing_limits(stage: Stage, circuit, op, ic, vce) -> dict:

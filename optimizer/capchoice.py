@@ -27,7 +27,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from . import objective
+from . import objective, polarity
 from .feasible import corner_names
 from .lowcut import LowCut
 from .stage import EMITTER_FOLLOWER
@@ -38,10 +38,13 @@ GRID_CHUNK = 200_000  # value combinations tested per call
 
 
 def dc_across(topology, row) -> dict[str, float]:
-    """Largest DC voltage (V) across each capacitor over the row's corners; + faces the stage side."""
+    """Largest DC voltage (V) across each capacitor over the row's corners; + faces the stage side
+    (CE's + faces +V in a PNP stage: its DC is then VCC − VN, the mirror frame's VN)."""
     out_node = "ve" if topology == EMITTER_FOLLOWER else "vc"
     v = {"CIN": "vb", "COUT": out_node, "CE": "vn"}
-    return {p: max(float(row[f"{c}_{k}"]) for c in corner_names(row)) for p, k in v.items()}
+    real = polarity.row_volts  # CIN, COUT: a PNP row's node voltages are mirrored about the supply
+    return {p: max(float(row[f"{c}_{k}"]) if p == "CE" else real(row, k, c) for c in corner_names(row))
+            for p, k in v.items()}
 
 
 @dataclass(frozen=True)

@@ -16,6 +16,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from . import polarity
 from .stage import COLLECTOR_FEEDBACK, EMITTER_FOLLOWER, OPTIONAL_POSITIONS, RESISTOR_POSITIONS, Stage
 from .transistor import terminal_currents
 
@@ -55,6 +56,7 @@ def build(stage: Stage) -> Circuit:
     missing = missing_positions(stage)
     if missing:
         raise ValueError(f"{stage.topology} needs {', '.join(missing)}")
+    polarity.require_coupled(stage)  # a PNP stage is solved as its NPN mirror (polarity.py)
     parts, shorts = [], []
 
     def two(name, kind, a, b, value):

@@ -13,7 +13,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from . import objective
+from . import objective, polarity
 from .screen import screen
 from .stopwatch import poll
 from .swing import CUTOFF_FRACTION
@@ -160,6 +160,7 @@ def check(topology, r, q, spec, near: Near | None = None):
     out["thd"] = thd[idx]
     out["isup"] = np.max([f["i_supply"] for f in figs], axis=0)
     out["rob"] = _robustness(figs, thd[idx], spec)
+    out["mirror_v"] = polarity.mirror_column(t, spec.supply_v, len(idx))  # PNP rows: mirror frame
     return out
 
 

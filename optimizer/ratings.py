@@ -10,7 +10,8 @@ fraction of the allowed value in use (≤ 1 is fine):
     (common practice, no source).
 DC voltages across the capacitors (the source and the load sit at 0 V DC):
 CIN base − source, COUT collector (emitter for the follower) − load, CE the
-RE1–RE2 node − ground.  A polarised capacitor's + goes toward the higher side.
+RE1–RE2 node − ground (− the supply for a PNP stage, polarity.py).  A polarised
+capacitor's + goes toward the higher side.
 """
 
 from __future__ import annotations
@@ -20,7 +21,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from . import network_tree
+from . import network_tree, polarity
 from .stage import EMITTER_FOLLOWER
 from .transistor import Transistor
 
@@ -60,23 +61,25 @@ def _toward(high_side, low_side, v):
     return np.where(np.asarray(v) >= 0, f"+ toward {high_side}", f"+ toward {low_side}")
 
 
-def capacitor_voltages(topology, op) -> dict:
-    """DC voltage (V) across each capacitor, positive when the first-named side is higher."""
+def capacitor_voltages(topology, op, *, transistor=None, supply_v=None) -> dict:
+    """DC voltage (V) across each capacitor, positive when the first-named side is higher.
+
+    op is the (mirror-frame, for a PNP) screen result; a PNP `transistor` needs `supply_v`."""
     out_node = op["ve"] if topology == EMITTER_FOLLOWER else op["vc"]
     volts = {"CIN": op["vb"], "COUT": out_node}
     if topology != EMITTER_FOLLOWER:
         volts["CE"] = op["vn"]
-    return volts
+    return polarity.capacitor_volts(volts, transistor, supply_v)
 
 
-def orientation(topology, op) -> dict:
+def orientation(topology, op, *, transistor=None, supply_v=None) -> dict:
     """"+ toward …" for each capacitor position, from the DC voltages."""
-    v = capacitor_voltages(topology, op)
+    v = capacitor_voltages(topology, op, transistor=transistor, supply_v=supply_v)
     out_side = "the emitter" if topology == EMITTER_FOLLOWER else "the collector"
     text = {"CIN": _toward("the base", "the source", v["CIN"]),
             "COUT": _toward(out_side, "the load", v["COUT"])}
     if "CE" in v:
-        text["CE"] = _toward("the emitter resistors", "ground", v["CE"])
+        text["CE"] = _toward("the emitter resistors", polarity.ce_return(transistor), v["CE"])
     return text
 
 
@@ -107,12 +110,12 @@ def check_ratings(topology, op: Mapping, *, transistor: Transistor, supply_v,
         add("Q1_vceo", f"{q.name} VCE at cut-off (the supply)", "V", supply_v + 0.0 * op["ic"], q.vceo_v)
     if q.ic_max_a:
         add("Q1_ic", f"{q.name} collector current", "A", op["ic"], q.ic_max_a)
-    volts = capacitor_voltages(topology, op)
+    volts = capacitor_voltages(topology, op, transistor=transistor, supply_v=supply_v)
     for pos, rating in (capacitor_voltage_v or {}).items():
         if rating is not None and pos in volts:
             add(pos, f"{pos} DC voltage", "V", volts[pos], np.asarray(rating) * capacitor_margin)
     polarised = [p for p, yes in (capacitor_polarised or {}).items() if yes]
-    signs = orientation(topology, op)
+    signs = orientation(topology, op, transistor=transistor, supply_v=supply_v)
     return Ratings(usage, {p: signs[p] for p in polarised if p in signs}, what)
 
 

@@ -34,7 +34,7 @@ def demo_result():
 
 def _stage(design, drawer, bf):
     part = drawer.part_at(design["parts"]["Q1"]["line"])
-    q = Transistor(name=part.part, bf=bf, hfe_min=part.hfe_min, hfe_max=part.hfe_max)
+    q = Transistor(name=part.part, polarity=part.polarity, bf=bf, hfe_min=part.hfe_min, hfe_max=part.hfe_max)
     res = {p: v["ohms"] for p, v in design["parts"].items() if "ohms" in v}
     caps = {p: v["farads"] for p, v in design["parts"].items() if "farads" in v}
     return Stage(design["topology"], res, caps, JOB.supply_v, JOB.source_ohms, JOB.load_ohms, q)
