@@ -132,7 +132,7 @@ def _record(figure: str, deviation: float) -> None:
 def summary(request):
     started = time.perf_counter()
     yield
-    lines = [f"ngspice, real PNP circuits: {len(STAGES)} stages in {time.perf_counter() - started:.1f} s; "
+    lines = [f"ngspice, real PNP circuits ({len(STAGES)} stages and the demo PNP designs) in {time.perf_counter() - started:.1f} s; "
              "largest deviations:"] + [f"  {k}: {v:.4g}" for k, v in sorted(DEVIATIONS.items())]
     reporter = request.config.pluginmanager.get_plugin("terminalreporter")
     capture = request.config.pluginmanager.getplugin("capturemanager")
@@ -234,3 +234,34 @@ def test_design_deck_polarised_plus_leads_face_the_higher_node(topology, k, stag
     report = analyze(stage)
     for name, plus, minus in caps:
         assert report.capacitors[name]["dc_v"] == pytest.approx(volts[plus] - volts[minus], abs=10e-3)
+
+
+def test_pnp_designs_of_the_demo_drawer_match_ngspice(tmp_path):
+    # The search's PNP designs (a PNP-only copy of the demo drawer), their own decks simulated in ngspice at
+    # hFE min, typical and max by optimizer.crosscheck: DC within 10 mV, gain 1 %, Rin 2 %, f_low 3 %, THD 20 %.
+    from inventory.drawer import Drawer
+    from optimizer.crosscheck import crosscheck
+    from optimizer.select import find_designs
+    from optimizer.spec import Spec
+    from tests.conftest import need_program
+    from tests.demo_job import DEMO
+
+    need_program("ngspice")
+    lines = [ln for ln in DEMO.read_text().splitlines() if not (ln.startswith("transistor,") and ",NPN," in ln)]
+    path = tmp_path / "drawer.csv"
+    path.write_text("\n".join(lines) + "\n")
+    spec = Spec(gain=10, supply_v=9)
+    doc = find_designs(Drawer.load(path), spec, top=3, depth=1, hints=False, time_limit_s=30)
+    assert doc["designs"]
+    limits = {"gain": 0.01, "rin": 0.02, "f_low": 0.03, "thd": 0.2}
+    for d in doc["designs"]:
+        assert d["parts"]["Q1"]["polarity"] == "PNP"
+        cc = crosscheck(d, doc["spec"])
+        assert cc.ok, cc.message
+        for row in cc.rows:
+            if row["figure"] in ("vb", "ve", "vc"):
+                _record("design_dc_volts", abs(row["deviation"]))
+                assert abs(row["deviation"]) < 10e-3, row
+            elif row["relative"] is not None:
+                _record(f"design_{row['figure']}_rel", abs(row["relative"]))
+                assert abs(row["relative"]) <= limits[row["figure"]], row
