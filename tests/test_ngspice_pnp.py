@@ -103,7 +103,8 @@ def bench(stage: Stage, amplitude_v: float, signal_hz: float) -> str:
     if src == "src":
         lines.append(f"RS src in {stage.source_ohms:.9g}")
     lines += [f"RL out 0 {load:.9g}"] + real_pnp_circuit(stage)
-    lines[-1:-1] = [f"VCC vcc 0 DC {stage.supply_v:.9g}", f"VS {src} 0 DC 0 AC 1 SIN(0 {amplitude_v:.9g} {signal_hz:.9g})"]
+    lines[-1:-1] = [f"VCC vcc 0 DC {stage.supply_v:.9g}",
+                    f"VS {src} 0 DC 0 AC 1 SIN(0 {amplitude_v:.9g} {signal_hz:.9g})"]
     lines += [".options TNOM=27", f".temp {stage.temp_c:.9g}", ".end"]
     return "\n".join(lines) + "\n"
 
@@ -132,8 +133,9 @@ def _record(figure: str, deviation: float) -> None:
 def summary(request):
     started = time.perf_counter()
     yield
-    lines = [f"ngspice, real PNP circuits ({len(STAGES)} stages and the demo PNP designs) in {time.perf_counter() - started:.1f} s; "
-             "largest deviations:"] + [f"  {k}: {v:.4g}" for k, v in sorted(DEVIATIONS.items())]
+    lines = [f"ngspice, real PNP circuits ({len(STAGES)} stages and the demo PNP designs) in "
+             f"{time.perf_counter() - started:.1f} s; largest deviations:"]
+    lines += [f"  {k}: {v:.4g}" for k, v in sorted(DEVIATIONS.items())]
     reporter = request.config.pluginmanager.get_plugin("terminalreporter")
     capture = request.config.pluginmanager.getplugin("capturemanager")
     if reporter is None or capture is None:

@@ -26,7 +26,8 @@ from optimizer.select import find_designs
 from optimizer.spec import Spec
 from tests.deck_lint import lint
 from tests.demo_job import DEMO
-from tests.test_select_oracle import CASES, SPEC_CLEAN, capacitors, check_preferred, check_stock, resistors, solver_front
+from tests.test_select_oracle import (CASES, SPEC_CLEAN, capacitors, check_preferred, check_stock, resistors,
+                                      solver_front)
 
 
 def pline(line, name, lo, hi, qty=5, polarity="PNP"):
@@ -67,7 +68,8 @@ def test_pnp_only_trade_off_set_matches_oracle(lines, depth, size, prefer):
 
 
 def _small_drawer(tmp_path, transistors, name):
-    rows = ["kind,value,qty,tolerance,power,voltage,dielectric,part,polarity,hfe_min,hfe_max,vceo,ic_max,pd_max,location,notes"]
+    rows = ["kind,value,qty,tolerance,power,voltage,dielectric,part,polarity,hfe_min,hfe_max,vceo,ic_max,pd_max,"
+            "location,notes"]
     for k, (_, ohms, qty) in enumerate(CASES[0][0]):
         rows.append(f"resistor,{ohms:g},{qty},5%,0.25W,,,,,,,,,,R{k},")
     rows += ["capacitor,10u,3,20%,,63V,electrolytic,,,,,,,,C1,", "capacitor,1u,2,10%,,63V,film,,,,,,,,C2,",
@@ -123,7 +125,8 @@ def _pnp_only_demo(tmp_path):
 def test_cli_pnp_only_drawer_gives_pnp_designs(tmp_path):
     path = _pnp_only_demo(tmp_path)
     done = subprocess.run([sys.executable, "-m", "tui", "--inventory", str(path), "design", "--gain", "10",
-                           "--supply", "9", "--depth", "1", "--top", "3", "--json", "--time-limit", "20"],
+                           "--supply", "9", "--depth", "1", "--top", "3", "--json", "--time-limit", "20",
+                           "--save", str(tmp_path / "pnp.json")],
                           capture_output=True, text=True, timeout=300)
     assert done.returncode == 0, done.stderr
     doc = json.loads(done.stdout)
@@ -154,6 +157,14 @@ def test_cli_pnp_only_drawer_gives_pnp_designs(tmp_path):
         if "CE" in d["parts"]:
             # CE runs from the RE1–RE2 junction up to +V; its + lead faces the supply.
             assert "CE vcc " in deck or not d["parts"]["CE"]["polarised"]
+    # The build sheet's drawing: 0 V on top (a ground mark), the +9 V rail below, a PNP symbol.
+    svg = subprocess.run([sys.executable, "-m", "tui", "--inventory", str(path), "sheet", str(tmp_path / "pnp.json"),
+                          "--format", "svg"], capture_output=True, text=True, timeout=300)
+    assert svg.returncode == 0, svg.stderr
+    assert ">0 V<" in svg.stdout and "+9 V (VCC)" in svg.stdout
+    md = subprocess.run([sys.executable, "-m", "tui", "--inventory", str(path), "sheet", str(tmp_path / "pnp.json"),
+                         "--format", "md"], capture_output=True, text=True, timeout=300)
+    assert md.returncode == 0 and "PNP(" in md.stdout
 
 
 def test_pnp_only_drawer_without_hfe_says_why(tmp_path):
