@@ -50,11 +50,6 @@ def require_coupled(stage) -> None:
                              "source and load coupled through capacitors")
 
 
-def real_volts(v, supply_v, pnp: bool):
-    """A stage node's DC voltage to 0 V (V) from its mirror-frame value (vectorised)."""
-    return supply_v - np.asarray(v, dtype=float) if pnp else np.asarray(v, dtype=float)
-
-
 def real_node(node: str, pnp: bool) -> str:
     """The real circuit's name for a stage node of the mirror frame (0 and vcc swap for a PNP)."""
     return SWAP.get(node, node) if pnp else node
