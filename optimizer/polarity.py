@@ -5,8 +5,10 @@ the NPN stage with the same parts at the same positions.  With V' = VCC − V at
 node of the stage, the PNP circuit becomes the NPN circuit: R1 (base to 0 V) becomes
 R1 from VCC' to the base, RC (collector to 0 V) RC from VCC', RE1/RE2 and CE (emitter
 side to +V) run to 0', and the PNP's Gummel–Poon equations in (VEB, VCB) are the NPN's
-in (VBE, VBC) with the same IS, BF, BR, VAF (SPICE evaluates a PNP that way:
-ngspice manual, BJT model, "type" sign of the junction voltages and currents).
+in (VBE, VBC) with the same IS, BF, BR, VAF (SPICE evaluates a PNP that way: its BJT
+model multiplies the junction voltages and terminal currents by a type factor, +1 NPN,
+−1 PNP; from memory of the SPICE3 source, and tests/test_ngspice_pnp.py checks the
+mirror against ngspice on real PNP circuits).
 
 The source and the load stay on the real 0 V.  With CIN and COUT fitted they carry no
 DC, and 0 V and +V are one node for the signal, so they see the same AC circuit in
