@@ -194,7 +194,9 @@ def _rating_warnings(stage: Stage, point: dict, power: dict, ratings: dict | Non
     op = {"vb": point["vb"], "ve": point["ve"], "vc": point["vc"], "vn": point["vmid"], "ic": point["ic"],
           "p_q": power["Q1"], **{f"p_{k}": v for k, v in power.items() if k != "Q1"}}
     r = ratings or {}
-    checked = check_ratings(stage.topology, op, transistor=stage.transistor, supply_v=stage.supply_v,
+    # VCEO against the whole span: cut off, the collector can reach the top rail, the emitter the bottom.
+    span = stage.supply_v - stage.negative_supply_v
+    checked = check_ratings(stage.topology, op, transistor=stage.transistor, supply_v=span,
                             resistor_power_w=r.get("resistor_power_w"),
                             capacitor_voltage_v=r.get("capacitor_voltage_v"),
                             capacitor_polarised=r.get("capacitor_polarised"))

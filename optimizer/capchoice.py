@@ -56,8 +56,10 @@ class CapChoice:
         return (self.parts, self.nf, self.emptied, self.frac)
 
 
-def positions_for(row) -> tuple[str, ...]:
-    return ("CIN", "COUT", "CE") if float(row.get("RE2", 0.0)) > 0 else ("CIN", "COUT")
+def positions_for(row, spec=None) -> tuple[str, ...]:
+    """The capacitors a row fits: COUT, CE where RE2 is, and CIN unless the source is DC-coupled."""
+    pos = ("CIN", "COUT", "CE") if float(row.get("RE2", 0.0)) > 0 else ("CIN", "COUT")
+    return pos[1:] if getattr(spec, "dc_input", False) else pos
 
 
 def usable(options, vdc: float) -> np.ndarray:
@@ -81,7 +83,7 @@ class _Row:
     """One row's capacitor problem: candidate options per position and the low cut-off test."""
 
     def __init__(self, topology, row, spec, options, stock_qty):
-        self.pos = positions_for(row)
+        self.pos = positions_for(row, spec)
         self.options = options
         self.qty = np.asarray(stock_qty, dtype=np.int64)
         self.weights = objective.line_weights(self.qty)

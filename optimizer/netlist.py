@@ -11,7 +11,7 @@ from .circuit import NODES, OPEN_LOAD_OHMS, build
 from .stage import Stage
 
 # Which name a group of shorted nodes keeps (earlier wins); "0" is SPICE's ground.
-NAME_RANK = ("0", "vcc", "base", "emit", "coll", "in", "mid", "out", "src")
+NAME_RANK = ("0", "vcc", "vee", "base", "emit", "coll", "in", "mid", "out", "src")
 
 
 def node_names(stage: Stage) -> dict[str, str]:
@@ -68,6 +68,8 @@ def to_netlist(
     c, b, e = (name[n] for n in circuit.q)
     lines.append(f"Q1 {c} {b} {e} QMOD")
     lines.append(f"VCC {name['vcc']} 0 DC {_num(stage.supply_v)}")
+    if stage.negative_supply_v < 0:
+        lines.append(f"VEE {name['vee']} 0 DC {_num(stage.negative_supply_v)}")
     lines.append(f"VS {name['src']} 0 DC 0 AC 1 SIN(0 {_num(amp)} {_num(signal_hz)})")
     lines.append(stage.transistor.spice_model("QMOD"))
     lines.append(".options TNOM=27")

@@ -27,6 +27,11 @@ from .seed import seed_tuples
 from .spec import DEFAULT_DEPTH, DEFAULT_PREFER, DEFAULT_TIME_LIMIT_S, DEFAULT_TOP, PREFERENCES, Bounds  # noqa: F401
 
 MIN_CAPS = 2  # CIN and COUT are always fitted
+
+
+def min_caps(spec) -> int:
+    """Capacitors every design fits: CIN and COUT, less CIN when the source is DC-coupled."""
+    return MIN_CAPS - bool(getattr(spec, "dc_input", False))
 MAX_SCREENED = 60_000_000  # a safety stop; reported in `why` when it ends the search
 MAX_REJECTED = 30  # designs the yield constraint may turn down before the search gives up
 # The trade-off set spans designs of up to this many parts more than the fewest that meet the
@@ -137,7 +142,7 @@ def search(rstock, cstock, qlines, spec, *, top=3, depth=3, progress=None, cance
             sol.pool = Pool(rstock, min(depth, 2))
             _screen_seeds(topology, positions, spec, models, qlines, sol, front)
             for budget in range(n_min, b_max + 1):
-                if budget + MIN_CAPS + 1 > front.fewest_parts + spare_parts:
+                if budget + min_caps(spec) + 1 > front.fewest_parts + spare_parts:
                     break  # every design left needs more parts than the set spans
                 sol.budget = budget
                 level = min(depth, budget - n_min + 1)
@@ -201,7 +206,7 @@ def _add_rows(rows, members, positions, sol, front):
     if not len(rows["ge"]):
         return
     rows["nsm"] = -rows["sm"]
-    rows["parts_lb"] = _parts_lb(sol.pool, rows, positions)
+    rows["parts_lb"] = _parts_lb(sol.pool, rows, positions, min_caps(sol.spec))
     for qi in members:
         front.add(dict(rows, q=np.full(len(rows["ge"]), qi, dtype=np.int64)))
 
@@ -306,7 +311,7 @@ class _Front:
         if not len(rows["ge"]):
             return rows
         has_ce = rows["RE2"] > 0 if "RE2" in rows else np.zeros(len(rows["ge"]), dtype=bool)
-        res_parts = rows["parts_lb"] - MIN_CAPS - has_ce - 1
+        res_parts = rows["parts_lb"] - min_caps(self.sol.spec) - has_ce - 1
         parts = res_parts + rows["pc"] + 1
         ok = np.ones(len(parts), dtype=bool)
         for i in np.flatnonzero(~_greedy_fits(self.sol.pool, rows, self.positions)):
@@ -411,7 +416,7 @@ def _realise(positions, rows, sol):
         return a.solve()
 
 
-def _parts_lb(pool, rows, positions):
+def _parts_lb(pool, rows, positions, caps=MIN_CAPS):
     """Fewest parts a row can be built with: Σ fewest parts per value + its capacitors (≥ 1 each) + Q1."""
     d = pool.distinct
     lb = np.ones(len(rows["ge"]), dtype=np.int64)
@@ -420,7 +425,7 @@ def _parts_lb(pool, rows, positions):
         g = np.clip(np.searchsorted(d.value, v * (1 - 1e-10)), 0, len(d) - 1)
         lb += np.where(v > 0, d.min_parts[g], 0)
     has_ce = rows["RE2"] > 0 if "RE2" in rows else np.zeros(len(lb), dtype=bool)
-    return lb + MIN_CAPS + has_ce
+    return lb + caps + has_ce
 
 
 def _stock_qty(pool) -> np.ndarray:
