@@ -15,10 +15,12 @@ from pathlib import Path
 
 from inventory.atomic import atomic_write
 from inventory.values import ValueFormatError, parse_capacitance, parse_number, parse_resistance, parse_voltage
+from optimizer.spec import Spec
 from optimizer.stage import CAPACITOR_POSITIONS, OPTIONAL_POSITIONS, RESISTOR_POSITIONS, TOPOLOGIES, Stage
 from optimizer.transistor import Transistor, is_from_vbe
 
 from .analyze_sheet import sheet
+from .request_fields import parse_negative_voltage
 
 RESISTOR_FLAGS = ("r1", "r2", "rc", "re1", "re2", "re", "rb")
 CAPACITOR_FLAGS = ("cin", "cout", "ce")
@@ -40,6 +42,8 @@ def register(sub) -> None:
     for flag in CAPACITOR_FLAGS:
         p.add_argument(f"--{flag}", metavar="FARADS", help=f"{flag.upper()} (omit = absent)")
     p.add_argument("--supply", default="12", metavar="VOLTS", help="supply voltage (default 12 V)")
+    p.add_argument("--negative-supply", default="0", metavar="VOLTS",
+                   help="the negative rail of a split supply, e.g. -12 (split-supply stages only; default 0)")
     p.add_argument("--source", default="0", metavar="OHMS", help="source resistance (default 0 Ω)")
     p.add_argument("--load", default="open", metavar="OHMS", help="load resistance (default: open, no load)")
     p.add_argument("--hfe", default="200", help="Q1's hFE (BF) at 27 °C (default 200)")
@@ -111,6 +115,19 @@ def _capacitors(args, topology: str) -> dict[str, float]:
     return out
 
 
+def _negative_rail(args, topology: str, supply: float) -> float:
+    """The negative rail (V): needed by split-supply kinds, refused by single-rail ones (Spec's rules)."""
+    try:
+        vee = parse_negative_voltage(str(args.negative_supply))
+    except ValueError as exc:
+        raise InputError(f"--negative-supply: {exc}") from None
+    spec = Spec(topology=topology, supply_v=supply, negative_supply_v=vee, swing_pp=0.0, min_vce_v=0.0)
+    rails = [m for m in spec.problems() if m.startswith("--negative-supply")]
+    if rails:
+        raise InputError(rails[0])
+    return vee
+
+
 def stage_from_args(args) -> tuple[Stage, float | None]:
     """The Stage and the THD swing described by the options; raises InputError."""
     topology = args.topology
@@ -125,11 +142,13 @@ def stage_from_args(args) -> tuple[Stage, float | None]:
         raise InputError(f"--vbe: {vbe:g} V at 1 mA is not a silicon junction (expected 0.3…1.0 V)")
     vaf = _value(args, "vaf", parse_voltage)
     q = Transistor(bf=hfe, is_a=float(is_from_vbe(vbe)), vaf_v=vaf)
+    vee = _negative_rail(args, topology, supply)
     swing = _value(args, "swing", parse_voltage)
-    if swing is not None and swing >= supply:
-        raise InputError(f"--swing: {swing:g} V p-p cannot fit on a {supply:g} V supply")
+    if swing is not None and swing >= supply - vee:
+        raise InputError(f"--swing: {swing:g} V p-p cannot fit on a {supply - vee:g} V supply")
     stage = Stage(topology, _resistors(args, topology), _capacitors(args, topology), supply_v=supply,
-                  source_ohms=source, load_ohms=load, transistor=q, temp_c=_temperature(args.temp))
+                  source_ohms=source, load_ohms=load, transistor=q, temp_c=_temperature(args.temp),
+                  negative_supply_v=vee)
     return stage, swing
 
 
