@@ -43,6 +43,14 @@ def _rth(rb, spec):
     return rb * rs / (rb + rs) if rs > 0 else 0.0 * rb
 
 
+def _undecided(*figures):
+    """Where a bound is not a number (RTH = RE = 0 makes the IC bracket infinite): no test may prune there."""
+    out = False
+    for f in figures:
+        out = out | ~np.isfinite(f)
+    return out
+
+
 def _kw(spec, transistor, vce_min):
     kw = bracket_kw(spec, transistor, vce_min)
     kw["supply_v"] = spec.span_v
@@ -70,8 +78,13 @@ def split_ce_chunks(g: dict, spec, transistor, betas):
     head_need = max(vce_min, spec.min_vce_v)
 
     def box_ok(a, b, point):
+        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):  # RTH = RE = 0: a short, no root
+            return _ce_ok(a, b, point)
+
+    def _ce_ok(a, b, point):
         (rba, rca, e1a, e2a), (rbb, rcb, e1b, e2b) = a, b
         ok = rbb >= spec.rin_floor * (1 - ROUND)
+        unknown = np.zeros(np.shape(ok), dtype=bool)
         ua, ub = e1a + e2a, e1b + e2b
         upper = None if point else (vth, _rth(rba, spec), ua)
         rp_hi, rp_lo = parallel(rcb, rl), parallel(rca, rl)
@@ -83,18 +96,18 @@ def split_ce_chunks(g: dict, spec, transistor, betas):
             ok &= head >= head_need * (1 - ROUND)
             ok &= (head - loadline.VCE_SAT_V) * rp_hi / (rp_hi + e1a) >= half * (1 - ROUND)
             gm_lo, gm_hi = ic_lo / vt * (1 - BRACKET_SLACK), ic_hi / vt * (1 + BRACKET_SLACK)
-            with np.errstate(divide="ignore", invalid="ignore"):
-                rin_hi = parallel(rbb, beta / np.maximum(gm_lo, 1e-30) + (beta + 1.0) * e1b)
-                rin_lo = parallel(rba, beta / gm_hi + (beta + 1.0) * e1a)
-                ok &= rin_hi * (1 + GAIN_SAFETY) >= spec.rin_floor * (1 - ROUND)
-                d_hi = rbb / (rbb + rs)
-                d_lo = rin_lo / (rin_lo + rs)
-                ro = vaf / (ic_hi * (1 + BRACKET_SLACK))
-                a_hi = d_hi * gm_hi * rp_hi / (1.0 + gm_hi * e1a) * (1 + GAIN_SAFETY)
-                a_lo = d_lo * gm_lo * parallel(rp_lo, ro) / (1.0 + gm_lo * (1 + 1 / beta) * e1b) * (1 - GAIN_SAFETY)
+            rin_hi = parallel(rbb, beta / np.maximum(gm_lo, 1e-30) + (beta + 1.0) * e1b)
+            rin_lo = parallel(rba, beta / gm_hi + (beta + 1.0) * e1a)
+            ok &= rin_hi * (1 + GAIN_SAFETY) >= spec.rin_floor * (1 - ROUND)
+            d_hi = rbb / (rbb + rs)
+            d_lo = rin_lo / (rin_lo + rs)
+            ro = vaf / (ic_hi * (1 + BRACKET_SLACK))
+            a_hi = d_hi * gm_hi * rp_hi / (1.0 + gm_hi * e1a) * (1 + GAIN_SAFETY)
+            a_lo = d_lo * gm_lo * parallel(rp_lo, ro) / (1.0 + gm_lo * (1 + 1 / beta) * e1b) * (1 - GAIN_SAFETY)
             ok &= (a_hi >= g_min) & (a_lo <= g_max)
             ok &= limits_ok(ic_lo, ic_lo, vce_min, spec, transistor, ROUND)
-        return ok
+            unknown |= _undecided(ic_lo, ic_hi, rin_hi, a_hi, a_lo)
+        return (ok | unknown) & (rbb >= spec.rin_floor * (1 - ROUND))
 
     yield from boxes(g, ("RB", "RC", "RE1", "RE2"), box_ok)
 
@@ -114,8 +127,13 @@ def split_follower_chunks(g: dict, spec, transistor, betas):
     g_mu = kw["is_a"] / (vt * br)
 
     def box_ok(a, b, point):
+        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):  # RTH = 0: a short
+            return _follower_ok(a, b, point)
+
+    def _follower_ok(a, b, point):
         (rba, rea), (rbb, reb) = a, b
         ok = rbb >= spec.rin_floor * (1 - ROUND)
+        unknown = np.zeros(np.shape(ok), dtype=bool)
         upper = None if point else (vth, _rth(rba, spec), rea)
         r_ac = parallel(reb, rl)
         d_hi = rbb / (rbb + rs)
@@ -133,6 +151,7 @@ def split_follower_chunks(g: dict, spec, transistor, betas):
             d_lo = 1 / (1 + rs * (1 / rba + g_pi / (1 + y_lo) + g_mu))
             ok &= d_lo * y_lo / (1 + y_lo) <= g_max
             ok &= limits_ok(ic_lo, ic_lo, vce_min, spec, transistor, ROUND)
-        return ok
+            unknown |= _undecided(ic_lo, ic_hi, y, y_lo, d_lo)
+        return (ok | unknown) & (rbb >= spec.rin_floor * (1 - ROUND))
 
     yield from boxes(g, ("RB", "RE"), box_ok)
