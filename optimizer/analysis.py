@@ -94,6 +94,9 @@ def analyze(stage: Stage, swing_pp: float | None = None, *, ratings: dict | None
     vce, vbe = vc - ve, vb - ve
     i_supply = sum((op[p.a] - op[p.b]) / p.value for p in circuit.parts if p.kind == "R" and p.a == "vcc")
     i_supply += ic if ("coll", "vcc") in circuit.shorts else 0.0  # a collector tied to the supply
+    # A split supply: the negative rail's current (into vee) counts when it is the larger.
+    i_vee = sum((op[p.a] - op[p.b]) / p.value for p in circuit.parts if p.kind == "R" and p.b == "vee")
+    i_supply = max(i_supply, i_vee)
     point = {"vb": vb, "ve": ve, "vc": vc, "vmid": op["mid"], "vce": vce, "vbe": vbe, "ic": ic, "ib": ib,
              "ie": ic + ib, "i_supply": i_supply, "saturated": vce < loadline.VCE_SAT_V, "cutoff": ic < CUTOFF_A}
     power = {p.name: (op[p.a] - op[p.b]) ** 2 / p.value for p in circuit.parts if p.kind == "R" and p.name not in ("RS", "RL")}
