@@ -84,7 +84,8 @@ def screen(
         is_t = is_t * (np.asarray(is_a, dtype=float) / transistor.is_a)
     if beta is not None:
         bf_t = bf_t * (np.asarray(beta, dtype=float) / transistor.bf)
-    extra = {"supply": supply_v, "vee": negative_supply_v, "dc": float(bool(dc_input)), "rs": source_ohms, "rl": load_ohms, "bypassed": bypassed,
+    extra = {"supply": supply_v, "vee": negative_supply_v, "dc": float(bool(dc_input)),
+             "rs": source_ohms, "rl": load_ohms, "bypassed": bypassed,
              "is_t": is_t, "bf_t": bf_t, "br_t": br_t, "vt": vt}
     shape, f = _flat_inputs(topology, r, extra)
     size = int(np.prod(shape))

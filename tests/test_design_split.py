@@ -24,8 +24,8 @@ from tests.demo_job import DEMO
 from tests.helpers.verify import verify_design
 
 ROOT = Path(__file__).resolve().parents[1]
-# Our own scenarios: the demo's gain of 10 on ±12 V from a ground-referenced source, a gain of 5 on ±9 V, and a follower
-# driving 2.2 kΩ on ±9 V.
+# Our own scenarios: the demo's gain of 10 on ±12 V from a ground-referenced source, a gain of 5 on
+# ±9 V, and a follower driving 2.2 kΩ on ±9 V.
 DEMO_SPLIT = Spec(topology="split-common-emitter", gain=10, supply_v=12, negative_supply_v=-12, dc_input=True)
 CASES = {
     "ce-dc-12": DEMO_SPLIT,
