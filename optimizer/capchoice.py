@@ -37,10 +37,14 @@ GRID_CHUNK = 200_000  # value combinations tested per call
 
 
 def dc_across(topology, row) -> dict[str, float]:
-    """Largest DC voltage (V) across each capacitor over the row's corners; + faces the stage side."""
+    """Largest DC voltage (V, magnitude) across each capacitor over the row's corners.
+
+    On one positive supply every capacitor's stage side is the higher; on split supplies it may sit
+    below ground (a base or emitter one VBE down), and the rating must cover the magnitude.
+    """
     v = dict(kinds.get(topology).cap_nodes)
     v.setdefault("CE", "vn")  # rows of kinds without CE still answer for it (a 0 V node)
-    return {p: max(float(row[f"{c}_{k}"]) for c in corner_names(row)) for p, k in v.items()}
+    return {p: max(abs(float(row[f"{c}_{k}"])) for c in corner_names(row)) for p, k in v.items()}
 
 
 @dataclass(frozen=True)

@@ -24,6 +24,7 @@ from tests.demo_job import DEMO
 from tests.helpers.verify import verify_design
 
 ROOT = Path(__file__).resolve().parents[1]
+SPLIT_CE_NAME = "split-common-emitter"
 # Our own scenarios: the demo's gain of 10 on ±12 V from a ground-referenced source, a gain of 5 on
 # ±9 V, and a follower driving 2.2 kΩ on ±9 V.
 DEMO_SPLIT = Spec(topology="split-common-emitter", gain=10, supply_v=12, negative_supply_v=-12, dc_input=True)
@@ -105,3 +106,26 @@ def test_analyze_on_split_supplies_writes_a_deck_with_both_rails(tmp_path):
     assert 0.5e-3 < p["ic"] < 0.6e-3 and 3.0 < p["vc"] < 4.5
     text = deck.read_text()
     assert "VEE vee 0 DC -12" in text and "VCC vcc 0 DC 12" in text
+
+
+def test_capacitor_ratings_cover_a_dc_level_below_ground():
+    """A base resting 10 V below ground puts 10 V across CIN: the rating must cover the magnitude
+    (capacitors rated ≥ 1.5 × their DC, README; common practice, no source)."""
+    from optimizer.capchoice import dc_across
+
+    row = {"min_vb": -10.0, "min_vc": 4.0, "min_vn": -1.2, "max_vb": -9.0, "max_vc": 3.5, "max_vn": -1.1}
+    got = dc_across(SPLIT_CE_NAME, row)
+    assert got == {"CIN": 10.0, "COUT": 4.0, "CE": 1.2}
+
+
+def test_request_form_reads_the_rails():
+    from tui import request_fields as rf
+
+    texts = {f.name: f.default for f in rf.FIELDS}
+    spec, _, problems = rf.build_request({**texts, "negative_supply": "-12", "dc_input": "yes"},
+                                         {"topology": SPLIT_CE_NAME})
+    assert problems == {} and spec.negative_supply_v == -12.0 and spec.dc_input
+    _, _, problems = rf.build_request({**texts, "negative_supply": "-12"}, {"topology": "common-emitter"})
+    assert "one positive supply" in problems["negative_supply"]
+    _, _, problems = rf.build_request(texts, {"topology": SPLIT_CE_NAME})
+    assert "split supplies" in problems["negative_supply"]
