@@ -129,3 +129,18 @@ def test_request_form_reads_the_rails():
     assert "one positive supply" in problems["negative_supply"]
     _, _, problems = rf.build_request(texts, {"topology": SPLIT_CE_NAME})
     assert "split supplies" in problems["negative_supply"]
+
+
+def test_text_drawing_shows_rb_to_ground_and_the_negative_rail():
+    from tui.schematic import draw_stage
+
+    leaf = lambda line, **v: {**v, "network": {"line": line, **v}}  # noqa: E731
+    design = {"topology": "split-emitter-follower",
+              "parts": {"RB": leaf(2, ohms=22e3), "RE": leaf(3, ohms=3.3e3), "COUT": leaf(4, farads=1e-6),
+                        "Q1": {"line": 5, "part": "BC547B"}},
+              "predicted": {"vb": -0.01, "ve": -0.69, "vc": 9.0}}
+    text = draw_stage(design, supply_v=9, negative_supply_v=-9, polarised=frozenset({"COUT"}))
+    assert "RB 22k" in text and "R1" not in text and "R2" not in text
+    assert text.splitlines()[-1].startswith("-9 V ─")  # the emitter's rail under ground
+    assert "┤├+" in text  # the output rests below ground: COUT's + lead toward the load
+    assert "DC-coupled" in text  # no CIN

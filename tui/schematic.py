@@ -207,7 +207,10 @@ def draw_stage(design: dict, *, supply_v: float | None = None, source_ohms: floa
 
     # Output: COUT to the load.
     c.hline(X_C + 1, X_LOAD - 1, out_y)
-    c.put(X_COUT, out_y, "+┤├" if "COUT" in polarised else "┤├")
+    # An output resting below ground (split supplies) has COUT's + lead toward the load.
+    v_out = (design.get("predicted") or {}).get(kind.output_key)
+    below = isinstance(v_out, (int, float)) and v_out < 0
+    c.put(X_COUT, out_y, ("┤├+" if below else "+┤├") if "COUT" in polarised else "┤├")
     c.put(X_COUT - 2, out_y - 1, label("COUT"))
     c.put(X_LOAD, out_y, "┬─○ out")
     load = f"load {figures.ohms(load_ohms)}" if load_ohms is not None else "load"
