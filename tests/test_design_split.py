@@ -144,3 +144,19 @@ def test_text_drawing_shows_rb_to_ground_and_the_negative_rail():
     assert text.splitlines()[-1].startswith("-9 V ─")  # the emitter's rail under ground
     assert "┤├+" in text  # the output rests below ground: COUT's + lead toward the load
     assert "DC-coupled" in text  # no CIN
+
+
+def test_plus_minus_shorthand_is_both_rails(tmp_path):
+    from tui.request_fields import rails_shorthand
+
+    assert rails_shorthand("±12", "0") == ("12", "-12")
+    assert rails_shorthand("+-9", None) == ("9", "-9")
+    assert rails_shorthand("±12", "-5") == ("12", "-5")  # an explicit negative rail wins
+    assert rails_shorthand("12", "0") == ("12", "0")
+    done = subprocess.run([sys.executable, "-m", "tui", "analyze", "--topology", "split-emitter-follower",
+                           "--rb", "22k", "--re", "3k3", "--supply", "±9", "--json"],
+                          capture_output=True, text=True, timeout=60, cwd=ROOT)
+    assert done.returncode == 0, done.stderr
+    # IE ≈ (9 − 0.65)/3.3k ≈ 2.5 mA (textbook); the emitter rests about one VBE below ground.
+    p = json.loads(done.stdout)["predicted"]
+    assert 2.2e-3 < p["ic"] < 2.6e-3 and -0.8 < p["ve"] < -0.5

@@ -20,7 +20,7 @@ from optimizer.stage import CAPACITOR_POSITIONS, OPTIONAL_POSITIONS, RESISTOR_PO
 from optimizer.transistor import Transistor, is_from_vbe
 
 from .analyze_sheet import sheet
-from .request_fields import parse_negative_voltage
+from .request_fields import parse_negative_voltage, rails_shorthand
 
 RESISTOR_FLAGS = ("r1", "r2", "rc", "re1", "re2", "re", "rb")
 CAPACITOR_FLAGS = ("cin", "cout", "ce")
@@ -131,6 +131,7 @@ def _negative_rail(args, topology: str, supply: float) -> float:
 def stage_from_args(args) -> tuple[Stage, float | None]:
     """The Stage and the THD swing described by the options; raises InputError."""
     topology = args.topology
+    args.supply, args.negative_supply = rails_shorthand(args.supply, args.negative_supply)
     supply = _value(args, "supply", parse_voltage)
     if supply > 60:
         raise InputError(f"--supply: {supply:g} V is beyond what small-signal stages are designed for here (≤ 60 V)")

@@ -44,7 +44,7 @@ from optimizer.spec import (
 from optimizer.stage import TOPOLOGIES
 
 from . import cmd_build
-from .request_fields import parse_negative_voltage
+from .request_fields import parse_negative_voltage, rails_shorthand
 from .cmd_common import InputError, drawer_path, load_drawer, say, value, whole
 
 EXIT_FOUND, EXIT_INFEASIBLE, EXIT_UNPROVEN = 0, 3, 4
@@ -65,7 +65,7 @@ def register(sub) -> None:
     p.add_argument("--gain-tol", default="0.05", help="allowed gain error: 5%% or 0.05 (default ±5 %%)")
     d = DEFAULTS
     p.add_argument("--supply", default=f"{d.supply_v:g}", metavar="VOLTS",
-                   help=f"supply voltage (default {d.supply_v:g} V)")
+                   help=f"supply voltage (default {d.supply_v:g} V); ±12 means 12 and --negative-supply -12")
     p.add_argument("--negative-supply", default="0", metavar="VOLTS",
                    help="the negative rail of a split supply, e.g. -12 (split-supply stages only; default 0: "
                         "one supply)")
@@ -115,6 +115,7 @@ def _temp_range(text: str) -> tuple[float, float]:
 
 def spec_from(args) -> Spec:
     """The Spec the options describe; InputError naming the option for text that is no value."""
+    args.supply, args.negative_supply = rails_shorthand(args.supply, args.negative_supply)
     return Spec(
         topology=args.topology,
         gain=value(args.gain, parse_number, "gain"),

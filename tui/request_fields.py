@@ -95,6 +95,18 @@ def parse_negative_voltage(text: str) -> float:
     return -v if v else 0.0
 
 
+def rails_shorthand(supply_text: str, negative_text: str | None) -> tuple[str, str | None]:
+    """``--supply ±12`` (or ``+-12``) is ``--supply 12 --negative-supply -12``; an explicit negative
+    rail wins.  Returns the (supply, negative rail) texts."""
+    s = str(supply_text).strip()
+    for mark in ("±", "+-", "+/-"):
+        if s.startswith(mark):
+            body = s[len(mark):].strip()
+            given = negative_text is not None and str(negative_text).strip() not in ("", "0", "0 V", "0V")
+            return body, (negative_text if given else f"-{body}")
+    return s, negative_text
+
+
 def parse_yes_no(text: str) -> bool:
     """``yes``/``no`` (also ``y``, ``n``, ``true``, ``false``, ``1``, ``0``)."""
     s = text.strip().lower()
