@@ -58,6 +58,13 @@ class Spec:
     max_parts_per_position: int = DEFAULT_DEPTH
     max_thd: float = DEFAULT_MAX_THD
     min_vce_v: float = DEFAULT_MIN_VCE_V
+    negative_supply_v: float = 0.0  # the negative rail (V, ≤ 0); 0 = a single positive supply
+    dc_input: bool = False  # the source is ground-referenced and joined to the base directly (no CIN)
+
+    @property
+    def span_v(self) -> float:
+        """V from the bottom rail to the top: the supply, plus |VEE| on a split supply."""
+        return self.supply_v - self.negative_supply_v
 
     @property
     def rin_floor(self) -> float:
@@ -130,11 +137,12 @@ class Spec:
             out.append(f"--source: {self.source_ohms:g} Ω; expected at most 100 MΩ")
         if not self.swing_pp >= 0:
             out.append(f"--swing: {self.swing_pp:g} V; the swing cannot be negative")
-        elif self.supply_v > 0 and self.swing_pp >= self.supply_v:
+        elif self.supply_v > 0 and self.swing_pp >= self.span_v:
             out.append(
-                f"--swing: {self.swing_pp:g} V p-p cannot fit on a {self.supply_v:g} V supply "
-                "(a single-supply stage swings less than its supply)"
+                f"--swing: {self.swing_pp:g} V p-p cannot fit on a {self.span_v:g} V supply "
+                "(a stage swings less than the span of its rails)"
             )
+        out += self._rail_problems(kind)
         if not self.low_cut_hz > 0:
             out.append(f"--low-cut: {self.low_cut_hz:g} Hz; expected a frequency above 0")
         elif self.low_cut_hz > 1e6:
@@ -152,11 +160,39 @@ class Spec:
             out.append(f"--temp-range: {lo:g}..{hi:g} °C; small-signal parts are rated for -55…150 °C")
         if not 0 < self.max_thd <= 1:
             out.append(f"--max-thd: {self.max_thd:g}; expected a fraction above 0 and at most 1 (0.01 or 1%)")
-        if not 0 <= self.min_vce_v < max(self.supply_v, 0.0):
+        if not 0 <= self.min_vce_v < max(self.span_v, 0.0):
             out.append(f"--min-vce: {self.min_vce_v:g} V; expected at least 0 and below the supply")
         if not 1 <= self.max_parts_per_position <= 3:
             out.append(f"--depth: {self.max_parts_per_position}; expected 1, 2 or 3 parts per position")
         return out
+
+    def _rail_problems(self, kind) -> list[str]:
+        """The negative rail and DC input against the kind: a split kind needs a negative rail, a
+        single-rail kind refuses one; DC input is for split kinds (a ground-referenced source)."""
+        out, vee = [], self.negative_supply_v
+        if not (isinstance(vee, (int, float)) and math.isfinite(vee)):
+            return [f"--negative-supply: {vee!r} is not a finite number"]
+        if vee > 0:
+            out.append(f"--negative-supply: {vee:g} V; the negative rail is below ground (e.g. -12)")
+        elif vee < -60 or self.span_v > 60:
+            out.append(f"--negative-supply: {vee:g} V; the rails may span at most 60 V")
+        if kind is None:
+            return out
+        split = kind.rails == 2
+        if split and not vee < 0:
+            out.append(f"--negative-supply: {_article(kind.name)} {kind.name} stage runs on split supplies; "
+                       "give the negative rail (e.g. --negative-supply -12)")
+        elif not split and vee < 0:
+            out.append(f"--negative-supply: {_article(kind.name)} {kind.name} stage runs on one positive supply; "
+                       f"leave the negative rail out (split-supply kinds: {', '.join(_split_kinds())})")
+        if self.dc_input and not split:
+            out.append(f"--dc-input: {_article(kind.name)} {kind.name} stage's base sits above ground, so a "
+                       "ground-referenced source needs CIN; DC input is for split-supply kinds")
+        return out
+
+
+def _split_kinds() -> list[str]:
+    return [n for n in kinds.names() if kinds.get(n).rails == 2]
 
 
 @dataclass(frozen=True)
@@ -177,5 +213,6 @@ class Bounds(Spec):
     def of(cls, spec: Spec, c_max_f: float) -> Bounds:
         r = math.inf if not c_max_f > 0 else 1.0 / (2 * math.pi * spec.low_cut_hz * c_max_f)
         base = asdict(spec)
-        base["min_rin_ohms"] = max(spec.rin_floor, r - spec.source_ohms)
+        # CIN's floor on Rin; a DC-coupled source has no CIN.
+        base["min_rin_ohms"] = spec.rin_floor if spec.dc_input else max(spec.rin_floor, r - spec.source_ohms)
         return cls(**base, min_rc_ohms=max(0.0, r - spec.load_ohms), min_re2_ohms=r)

@@ -20,8 +20,9 @@ def _si(value, unit: str) -> str:
 
 def sheet(report) -> str:
     s, p, op = report.stage, report.predicted, report.operating_point
-    lines = [f"{s.topology} stage ({s.transistor.polarity}), {_si(s.supply_v, 'V')} supply, {s.temp_c:g} °C, "
-             f"hFE {s.transistor.bf:g}"]
+    rails = f"{_si(s.supply_v, 'V')} supply" if not s.negative_supply_v else \
+        f"{_si(s.supply_v, 'V')} / {_si(s.negative_supply_v, 'V')} supplies"
+    lines = [f"{s.topology} stage ({s.transistor.polarity}), {rails}, {s.temp_c:g} °C, hFE {s.transistor.bf:g}"]
     parts = [f"{k} {_si(v, 'Ω')}" for k, v in s.resistors.items()]
     parts += [f"{k} {_si(v, 'F')}" for k, v in s.capacitors.items()]
     lines.append("  parts: " + ", ".join(parts))

@@ -17,8 +17,10 @@ from inventory.atomic import atomic_write
 from inventory.values import ValueFormatError, parse_capacitance, parse_number, parse_resistance, parse_voltage
 from optimizer.physics.stage import CAPACITOR_POSITIONS, OPTIONAL_POSITIONS, RESISTOR_POSITIONS, TOPOLOGIES, Stage
 from optimizer.physics.transistor import Transistor, is_from_vbe
+from optimizer.spec import Spec
 
 from .analyze_sheet import sheet
+from .request_fields import parse_negative_voltage, rails_shorthand
 
 RESISTOR_FLAGS = ("r1", "r2", "rc", "re1", "re2", "re", "rb")
 CAPACITOR_FLAGS = ("cin", "cout", "ce")
@@ -40,6 +42,8 @@ def register(sub) -> None:
     for flag in CAPACITOR_FLAGS:
         p.add_argument(f"--{flag}", metavar="FARADS", help=f"{flag.upper()} (omit = absent)")
     p.add_argument("--supply", default="12", metavar="VOLTS", help="supply voltage (default 12 V)")
+    p.add_argument("--negative-supply", default="0", metavar="VOLTS",
+                   help="the negative rail of a split supply, e.g. -12 (split-supply stages only; default 0)")
     p.add_argument("--source", default="0", metavar="OHMS", help="source resistance (default 0 Ω)")
     p.add_argument("--load", default="open", metavar="OHMS", help="load resistance (default: open, no load)")
     p.add_argument("--polarity", default="npn", type=str.lower, choices=("npn", "pnp"),
@@ -113,9 +117,23 @@ def _capacitors(args, topology: str) -> dict[str, float]:
     return out
 
 
+def _negative_rail(args, topology: str, supply: float) -> float:
+    """The negative rail (V): needed by split-supply kinds, refused by single-rail ones (Spec's rules)."""
+    try:
+        vee = parse_negative_voltage(str(args.negative_supply))
+    except ValueError as exc:
+        raise InputError(f"--negative-supply: {exc}") from None
+    spec = Spec(topology=topology, supply_v=supply, negative_supply_v=vee, swing_pp=0.0, min_vce_v=0.0)
+    rails = [m for m in spec.problems() if m.startswith("--negative-supply")]
+    if rails:
+        raise InputError(rails[0])
+    return vee
+
+
 def stage_from_args(args) -> tuple[Stage, float | None]:
     """The Stage and the THD swing described by the options; raises InputError."""
     topology = args.topology
+    args.supply, args.negative_supply = rails_shorthand(args.supply, args.negative_supply)
     supply = _value(args, "supply", parse_voltage)
     if supply > 60:
         raise InputError(f"--supply: {supply:g} V is beyond what small-signal stages are designed for here (≤ 60 V)")
@@ -128,15 +146,20 @@ def stage_from_args(args) -> tuple[Stage, float | None]:
     vaf = _value(args, "vaf", parse_voltage)
     polarity = str(getattr(args, "polarity", "npn") or "npn").upper()
     q = Transistor(name=f"generic {polarity}", polarity=polarity, bf=hfe, is_a=float(is_from_vbe(vbe)), vaf_v=vaf)
+    vee = _negative_rail(args, topology, supply)
     swing = _value(args, "swing", parse_voltage)
-    if swing is not None and swing >= supply:
-        raise InputError(f"--swing: {swing:g} V p-p cannot fit on a {supply:g} V supply")
+    if swing is not None and swing >= supply - vee:
+        raise InputError(f"--swing: {swing:g} V p-p cannot fit on a {supply - vee:g} V supply")
     caps = _capacitors(args, topology)
+    if polarity == "PNP" and vee:
+        raise InputError("--polarity pnp: PNP stages are modelled on one positive supply only (leave out "
+                         "--negative-supply)")
     if polarity == "PNP" and not ("CIN" in caps and "COUT" in caps):
         raise InputError("--polarity pnp: give --cin and --cout (a PNP stage is modelled with the source and "
                          "load coupled through capacitors)")
     stage = Stage(topology, _resistors(args, topology), caps, supply_v=supply,
-                  source_ohms=source, load_ohms=load, transistor=q, temp_c=_temperature(args.temp))
+                  source_ohms=source, load_ohms=load, transistor=q, temp_c=_temperature(args.temp),
+                  negative_supply_v=vee)
     return stage, swing
 
 

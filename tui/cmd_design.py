@@ -45,6 +45,7 @@ from optimizer.spec import (
 from optimizer.physics.stage import TOPOLOGIES
 
 from . import cmd_build
+from .request_fields import parse_negative_voltage, rails_shorthand
 from .cmd_common import InputError, drawer_path, load_drawer, say, value, whole
 
 EXIT_FOUND, EXIT_INFEASIBLE, EXIT_UNPROVEN = 0, 3, 4
@@ -67,7 +68,13 @@ def register(sub) -> None:
     p.add_argument("--gain-tol", default="0.05", help="allowed gain error: 5%% or 0.05 (default ±5 %%)")
     d = DEFAULTS
     p.add_argument("--supply", default=f"{d.supply_v:g}", metavar="VOLTS",
-                   help=f"supply voltage (default {d.supply_v:g} V)")
+                   help=f"supply voltage (default {d.supply_v:g} V); ±12 means 12 and --negative-supply -12")
+    p.add_argument("--negative-supply", default="0", metavar="VOLTS",
+                   help="the negative rail of a split supply, e.g. -12 (split-supply stages only; default 0: "
+                        "one supply)")
+    p.add_argument("--dc-input", action="store_true",
+                   help="the source is ground-referenced and joined to the base directly, no CIN "
+                        "(split-supply stages)")
     p.add_argument("--load", default=format_resistance(d.load_ohms), metavar="OHMS",
                    help=f"load resistance, or `open` (default {format_resistance(d.load_ohms)})")
     p.add_argument("--source", default=format_resistance(d.source_ohms), metavar="OHMS",
@@ -111,6 +118,7 @@ def _temp_range(text: str) -> tuple[float, float]:
 
 def spec_from(args) -> Spec:
     """The Spec the options describe; InputError naming the option for text that is no value."""
+    args.supply, args.negative_supply = rails_shorthand(args.supply, args.negative_supply)
     return Spec(
         topology=args.topology,
         gain=value(args.gain, parse_number, "gain"),
@@ -127,6 +135,8 @@ def spec_from(args) -> Spec:
         max_parts_per_position=whole(args.depth, "depth", 1, 3),
         max_thd=value(args.max_thd, parse_fraction, "max-thd"),
         min_vce_v=value(args.min_vce, parse_voltage, "min-vce"),
+        negative_supply_v=value(args.negative_supply, parse_negative_voltage, "negative-supply"),
+        dc_input=bool(args.dc_input),
     )
 
 

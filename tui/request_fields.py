@@ -78,6 +78,46 @@ def parse_fraction(text: str) -> float:
     return v
 
 
+def parse_negative_voltage(text: str) -> float:
+    """The negative rail of a split supply: ``-12``, ``−12 V``, ``-6V3``; ``0`` = a single supply."""
+    s = text.strip().replace("\u2212", "-")
+    body = s[1:].strip() if s.startswith("-") else s
+    try:
+        v = values.parse_voltage(body)
+    except values.ValueFormatError:
+        try:  # a voltage must be above 0; "0" / "0 V" here says "no negative rail"
+            v = values.parse_number(body.rstrip("Vv").strip())
+        except values.ValueFormatError:
+            v = math.nan
+    if not v == 0 and not (v > 0 and math.isfinite(v)):
+        raise FieldError(f'"{text}" is not a negative rail (expected e.g. -12, or 0 for one supply)') from None
+    if v != 0 and not s.startswith("-"):
+        raise FieldError(f'"{text}": the negative rail is below ground; write it with its sign, e.g. -{text.strip()}')
+    return -v if v else 0.0
+
+
+def rails_shorthand(supply_text: str, negative_text: str | None) -> tuple[str, str | None]:
+    """``--supply ±12`` (or ``+-12``) is ``--supply 12 --negative-supply -12``; an explicit negative
+    rail wins.  Returns the (supply, negative rail) texts."""
+    s = str(supply_text).strip()
+    for mark in ("±", "+-", "+/-"):
+        if s.startswith(mark):
+            body = s[len(mark):].strip()
+            given = negative_text is not None and str(negative_text).strip() not in ("", "0", "0 V", "0V")
+            return body, (negative_text if given else f"-{body}")
+    return s, negative_text
+
+
+def parse_yes_no(text: str) -> bool:
+    """``yes``/``no`` (also ``y``, ``n``, ``true``, ``false``, ``1``, ``0``)."""
+    s = text.strip().lower()
+    if s in ("yes", "y", "true", "1", "on"):
+        return True
+    if s in ("no", "n", "false", "0", "off", ""):
+        return False
+    raise FieldError(f'"{text}" is not yes or no')
+
+
 def parse_seconds(text: str) -> float:
     s = text.strip().removesuffix("s").strip()
     try:
@@ -146,7 +186,12 @@ FIELDS: tuple[Field, ...] = (
     Field("gain", "Gain", "--gain", "gain", parse_gain, f"{_spec('gain'):g}", "voltage gain, magnitude", "stage"),
     Field("gain_tol", "Gain tolerance", "--gain-tol", "gain_tol", parse_fraction, f"{_spec('gain_tol') * 100:g}%",
           "± around it", "stage"),
-    Field("supply", "Supply", "--supply", "supply_v", _voltage, _si(_spec("supply_v"), "V"), "single rail", "stage"),
+    Field("supply", "Supply", "--supply", "supply_v", _voltage, _si(_spec("supply_v"), "V"), "the positive rail",
+          "stage"),
+    Field("negative_supply", "Negative rail", "--negative-supply", "negative_supply_v", parse_negative_voltage,
+          "0 V", "split-supply kinds: e.g. -12; 0 = none", "stage"),
+    Field("dc_input", "DC input", "--dc-input", "dc_input", parse_yes_no, "no",
+          "yes: source to the base, no CIN (split)", "stage"),
     Field("load", "Load", "--load", "load_ohms", _resistance, _si(_spec("load_ohms"), "Ω"),
           "what the output drives", "stage"),
     Field("source", "Source", "--source", "source_ohms", _resistance, _si(_spec("source_ohms"), "Ω"),

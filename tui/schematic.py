@@ -54,15 +54,15 @@ class Canvas:
         self.put(x - 1, y + 2, "└┬┘")
         self.put(x + 3, y + 1, label)
 
-    def vcap(self, x: int, y: int, label: str, plus: bool, plus_below: bool = False) -> None:
+    def vcap(self, x: int, y: int, label: str, plus: bool, low: bool = False) -> None:
         """A capacitor on rows y..y+3 of column x, plates across; '+' marks the positive plate
-        (the upper one, or the lower one with `plus_below`)."""
+        (the upper one, or the lower one when `low`)."""
         self.put(x, y, "│")
         self.put(x - 1, y + 1, "─┴─")
         self.put(x - 1, y + 2, "─┬─")
         self.put(x, y + 3, "│")
         if plus:
-            self.put(x - 2, y + 2 if plus_below else y + 1, "+")
+            self.put(x - 2, y + (2 if low else 1), "+")
         self.put(x + 3, y + 1, label)
 
     def text(self) -> str:
@@ -80,7 +80,8 @@ def _label(name: str, value: str | None) -> tuple[str, bool]:
 
 
 def draw_stage(design: dict, *, supply_v: float | None = None, source_ohms: float | None = None,
-               load_ohms: float | None = None, polarised: frozenset[str] = frozenset()) -> str:
+               load_ohms: float | None = None, polarised: frozenset[str] = frozenset(),
+               negative_supply_v: float | None = None) -> str:
     """The stage of one design (the JSON shape) as lines of box-drawing text.
 
     `polarised` names the capacitor positions filled with electrolytic/tantalum
@@ -92,7 +93,9 @@ def draw_stage(design: dict, *, supply_v: float | None = None, source_ohms: floa
     parts = design.get("parts", {})
     values = {pos: position_text(entry) for pos, entry in parts.items() if pos != "Q1"}
     legend: list[str] = []
-    c = Canvas(78, GROUND_Y + 1)
+    kind = kinds.get(topology)
+    split = kind.rails == 2  # the emitter returns to a negative rail drawn under ground
+    c = Canvas(78, GROUND_Y + (3 if split else 1))
 
     def label(pos: str) -> str:
         text, long = _label(pos, values.get(pos))
@@ -108,7 +111,6 @@ def draw_stage(design: dict, *, supply_v: float | None = None, source_ohms: floa
     c.put(0, GROUND_Y, bottom)
     c.hline(len(bottom), (X_CE if "CE" in values else X_C) if pnp else X_LOAD, GROUND_Y)
 
-    kind = kinds.get(topology)
     follower = kind.output == "e"  # drawn from what the kind declares, not its name
     feedback = kind.bias == "feedback"
     # Collector: RC from the rail, or the rail straight down for a follower.
@@ -128,8 +130,14 @@ def draw_stage(design: dict, *, supply_v: float | None = None, source_ohms: floa
     c.put(X_BAR + 3, BASE_Y, name + (f" (line {q1['line']})" if "line" in q1 else ""))
     c.put(X_C + 2, BASE_Y + 1, "E")
 
-    # Bias: R1/R2 divider, or RB from the collector for collector feedback.
-    if feedback:
+    # Bias: R1/R2 divider, RB from the collector for collector feedback, or RB to ground.
+    if kind.bias == "ground":
+        c.put(X_DIV, BASE_Y, "┬")
+        c.vline(X_DIV, BASE_Y + 1, 11)
+        c.resistor(X_DIV, 12, label("RB"))
+        c.vline(X_DIV, 15, GROUND_Y - 1)
+        c.put(X_DIV, GROUND_Y, "┴")
+    elif feedback:
         c.put(X_DIV, 5, "┌")
         c.hline(X_DIV + 1, X_C - 1, 5)
         c.put(X_C, 5, "┼")
@@ -149,9 +157,12 @@ def draw_stage(design: dict, *, supply_v: float | None = None, source_ohms: floa
     # Input: source, CIN, to the base node.
     c.put(0, BASE_Y, "in ○─")
     c.hline(5, X_DIV - 1, BASE_Y)
-    cin = "+┤├" if "CIN" in polarised else "┤├"
-    c.put(8, BASE_Y, cin)
-    c.put(5, BASE_Y - 1, label("CIN"))
+    if "CIN" in parts or not split:
+        cin = "+┤├" if "CIN" in polarised else "┤├"
+        c.put(8, BASE_Y, cin)
+        c.put(5, BASE_Y - 1, label("CIN"))
+    else:
+        c.put(5, BASE_Y - 1, "DC-coupled")
     if source_ohms is not None:
         c.put(0, BASE_Y + 1, f"source {figures.ohms(source_ohms)}")
 
@@ -182,14 +193,29 @@ def draw_stage(design: dict, *, supply_v: float | None = None, source_ohms: floa
             c.put(X_C, node, "├")
             c.hline(X_C + 1, X_CE - 1, node)
             c.put(X_CE, node, "┐")
-            c.vcap(X_CE, node + 1, label("CE"), "CE" in polarised, plus_below=pnp)
+            # The lower plate is the positive one in a PNP stage (CE's + toward +V, drawn below) and
+            # below ground on split supplies (VN < VE < 0, CE's + toward ground).
+            ve = (design.get("predicted") or {}).get("ve")
+            low = pnp or (isinstance(ve, (int, float)) and ve < 0)
+            c.vcap(X_CE, node + 1, label("CE"), "CE" in polarised, low=low)
             c.vline(X_CE, node + 5, GROUND_Y - 1)
             c.put(X_CE, GROUND_Y, "┴")
-    c.put(X_C, GROUND_Y, "┴")
+    if split:  # through the ground line (no junction) down to the negative rail
+        c.put(X_C, GROUND_Y, "│")
+        c.vline(X_C, GROUND_Y + 1, GROUND_Y + 1)
+        rail_low = f"{negative_supply_v:g} V " if negative_supply_v is not None else "-V "
+        c.put(0, GROUND_Y + 2, rail_low)
+        c.hline(len(rail_low), X_C - 1, GROUND_Y + 2)
+        c.put(X_C, GROUND_Y + 2, "┘")
+    else:
+        c.put(X_C, GROUND_Y, "┴")
 
     # Output: COUT to the load.
     c.hline(X_C + 1, X_LOAD - 1, out_y)
-    c.put(X_COUT, out_y, "+┤├" if "COUT" in polarised else "┤├")
+    # An output resting below ground (split supplies) has COUT's + lead toward the load.
+    v_out = (design.get("predicted") or {}).get(kind.output_key)
+    below = isinstance(v_out, (int, float)) and v_out < 0
+    c.put(X_COUT, out_y, ("┤├+" if below else "+┤├") if "COUT" in polarised else "┤├")
     c.put(X_COUT - 2, out_y - 1, label("COUT"))
     load = f"load {figures.ohms(load_ohms)}" if load_ohms is not None else "load"
     if pnp:  # the load goes up to the 0 V rail on top

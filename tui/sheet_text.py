@@ -80,7 +80,10 @@ def spec_line(spec: dict) -> str:
     if spec.get("rin_floor_is_default"):
         rin += " (default floor)"
     gain_tol = figures.percent(spec.get("gain_tol"), 0) if spec.get("gain_tol") is not None else figures.DASH
-    return (f"  for: gain {figures.plain(spec.get('gain'))} ±{gain_tol}, {figures.volts(spec.get('supply_v'))} supply, "
+    rails = f"{figures.volts(spec.get('supply_v'))} supply"
+    if spec.get("negative_supply_v"):
+        rails = f"{figures.volts(spec.get('supply_v'))} / {figures.volts(spec.get('negative_supply_v'))} supplies"
+    return (f"  for: gain {figures.plain(spec.get('gain'))} ±{gain_tol}, {rails}, "
             f"load {figures.ohms(spec.get('load_ohms'))}, source {figures.ohms(spec.get('source_ohms'))}, "
             f"{figures.volts(spec.get('swing_pp'))} p-p, f_low ≤ {figures.hertz(spec.get('low_cut_hz'))}, "
             f"Rin ≥ {rin}")

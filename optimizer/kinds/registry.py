@@ -12,7 +12,8 @@ from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field
 
 # Modules of this package that register a kind when imported, in the order kinds are listed.
-BUILTIN = ("common_emitter", "emitter_follower", "collector_feedback")
+BUILTIN = ("common_emitter", "emitter_follower", "collector_feedback", "split_common_emitter",
+           "split_emitter_follower")
 
 
 @dataclass(frozen=True)
@@ -47,6 +48,8 @@ class Kind:
       boxes(groups, spec, transistor, betas)   the branch and bound over value boxes;
       ideal_values(spec, hfe_min, hfe_typ)     textbook values the search is seeded with;
       spec_bounds(spec)                        spec-level bounds in words (may be None).
+    Node voltages are relative to ground (0 V); on split supplies (rails = 2) the bottom rail
+    is r["vee"] < 0 and a source DC-coupled to the base (r["dc"], no CIN) is at 0 V DC.
     """
 
     name: str
@@ -74,6 +77,9 @@ class Kind:
     preset_gain: float | None = None  # a gain set by nature (a follower's): what a request asks for it
     spec_bounds: Callable | None = None
     summary: str = ""
+    # 1: one positive supply (bottom rail = ground); 2: split supplies, ground between the rails
+    # (the hooks read the negative rail as r["vee"] and a DC-coupled source as r["dc"]).
+    rails: int = 1
     extra: Mapping = field(default_factory=dict)
 
     @property

@@ -39,12 +39,16 @@ GRID_CHUNK = 200_000  # value combinations tested per call
 
 
 def dc_across(topology, row) -> dict[str, float]:
-    """Largest DC voltage (V) across each capacitor over the row's corners; + faces the stage side
-    (CE's + faces +V in a PNP stage: its DC is then VCC − VN, the mirror frame's VN)."""
+    """Largest DC voltage (V, magnitude) across each capacitor over the row's corners.
+
+    On one positive supply every capacitor's stage side is the higher; on split supplies it may sit
+    below ground (a base or emitter one VBE down), and the rating must cover the magnitude.  CE's +
+    faces +V in a PNP stage: its DC is then VCC − VN, the mirror frame's VN.
+    """
     v = dict(kinds.get(topology).cap_nodes)
     v.setdefault("CE", "vn")  # rows of kinds without CE still answer for it (a 0 V node)
     real = polarity.row_volts  # CIN, COUT: a PNP row's node voltages are mirrored about the supply
-    return {p: max(float(row[f"{c}_{k}"]) if p == "CE" else real(row, k, c) for c in corner_names(row))
+    return {p: max(abs(float(row[f"{c}_{k}"])) if p == "CE" else abs(real(row, k, c)) for c in corner_names(row))
             for p, k in v.items()}
 
 
@@ -61,8 +65,10 @@ class CapChoice:
         return (self.parts, self.nf, self.emptied, self.frac)
 
 
-def positions_for(row) -> tuple[str, ...]:
-    return ("CIN", "COUT", "CE") if float(row.get("RE2", 0.0)) > 0 else ("CIN", "COUT")
+def positions_for(row, spec=None) -> tuple[str, ...]:
+    """The capacitors a row fits: COUT, CE where RE2 is, and CIN unless the source is DC-coupled."""
+    pos = ("CIN", "COUT", "CE") if float(row.get("RE2", 0.0)) > 0 else ("CIN", "COUT")
+    return pos[1:] if getattr(spec, "dc_input", False) else pos
 
 
 def usable(options, vdc: float) -> np.ndarray:
@@ -86,7 +92,7 @@ class _Row:
     """One row's capacitor problem: candidate options per position and the low cut-off test."""
 
     def __init__(self, topology, row, spec, options, stock_qty):
-        self.pos = positions_for(row)
+        self.pos = positions_for(row, spec)
         self.options = options
         self.qty = np.asarray(stock_qty, dtype=np.int64)
         self.weights = objective.line_weights(self.qty)

@@ -95,6 +95,9 @@ def analyze(stage: Stage, swing_pp: float | None = None, *, ratings: dict | None
     vce, vbe = vc - ve, vb - ve
     i_supply = sum((op[p.a] - op[p.b]) / p.value for p in circuit.parts if p.kind == "R" and p.a == "vcc")
     i_supply += ic if ("coll", "vcc") in circuit.shorts else 0.0  # a collector tied to the supply
+    # A split supply: the negative rail's current (into vee) counts when it is the larger.
+    i_vee = sum((op[p.a] - op[p.b]) / p.value for p in circuit.parts if p.kind == "R" and p.b == "vee")
+    i_supply = max(i_supply, i_vee)
     point = {"vb": vb, "ve": ve, "vc": vc, "vmid": op["mid"], "vce": vce, "vbe": vbe, "ic": ic, "ib": ib,
              "ie": ic + ib, "i_supply": i_supply, "saturated": vce < loadline.VCE_SAT_V, "cutoff": ic < CUTOFF_A}
     power = {p.name: (op[p.a] - op[p.b]) ** 2 / p.value for p in circuit.parts if p.kind == "R" and p.name not in ("RS", "RL")}
@@ -198,7 +201,9 @@ def _rating_warnings(stage: Stage, point: dict, power: dict, ratings: dict | Non
     op = {"vb": point["vb"], "ve": point["ve"], "vc": point["vc"], "vn": point["vmid"], "ic": point["ic"],
           "p_q": power["Q1"], **{f"p_{k}": v for k, v in power.items() if k != "Q1"}}
     r = ratings or {}
-    checked = check_ratings(stage.topology, op, transistor=stage.transistor, supply_v=stage.supply_v,
+    # VCEO against the whole span: cut off, the collector can reach the top rail, the emitter the bottom.
+    span = stage.supply_v - stage.negative_supply_v
+    checked = check_ratings(stage.topology, op, transistor=stage.transistor, supply_v=span,
                             resistor_power_w=r.get("resistor_power_w"),
                             capacitor_voltage_v=r.get("capacitor_voltage_v"),
                             capacitor_polarised=r.get("capacitor_polarised"))

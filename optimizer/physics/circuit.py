@@ -7,7 +7,8 @@ nodes joined by links are solved as one unknown (a supernode), so the matrices
 stay tiny (≤ 8×8) and every analysis is a batch of dense solves in numpy.
 
 Node names (also used by the netlist): 0 ground, vcc supply, src source EMF,
-in (after RS), base, emit, mid (between RE1 and RE2), coll, out (the load).
+in (after RS), base, emit, mid (between RE1 and RE2), coll, out (the load), vee (the negative
+rail of a split supply; tied to ground when unused).
 """
 
 from __future__ import annotations
@@ -20,7 +21,7 @@ from optimizer.physics.stage import Stage
 from optimizer.physics.transistor import terminal_currents
 from optimizer.physics import polarity
 
-NODES = ("0", "vcc", "src", "in", "base", "emit", "mid", "coll", "out")
+NODES = ("0", "vcc", "src", "in", "base", "emit", "mid", "coll", "out", "vee")
 # An unloaded output still needs a DC path; the netlist uses the same stand-in.
 from optimizer.spec import OPEN_LOAD_OHMS  # noqa: E402,F401  one stand-in for "no load"
 
@@ -43,6 +44,7 @@ class Circuit:
     q: tuple[str, str, str]  # collector, base, emitter node of Q1
     supply_v: float
     model: tuple  # (IS, BF, BR, VAF, Vt) at the stage temperature
+    negative_supply_v: float = 0.0  # V at node vee (split supplies)
 
 
 def missing_positions(stage: Stage) -> list[str]:
@@ -76,7 +78,8 @@ def build(stage: Stage) -> Circuit:
     t = stage.transistor
     is_a, bf, br, vt = t.at(stage.temp_c)
     model = (float(is_a), float(bf), float(br), float(t.vaf_v), float(vt))
-    return Circuit(tuple(parts), tuple(shorts), ("coll", "base", "emit"), float(stage.supply_v), model)
+    return Circuit(tuple(parts), tuple(shorts), ("coll", "base", "emit"), float(stage.supply_v), model,
+                   float(stage.negative_supply_v))
 
 
 class Reduction:
@@ -223,7 +226,8 @@ def _newton(circuit, P, off, y, v, vbe, vbc, max_iter, tol_v, vcrit):
 
 
 def dc_links(circuit: Circuit, source_v=0.0):
-    return [*((a, b, 0.0) for a, b in circuit.shorts), ("vcc", "0", circuit.supply_v), ("src", "0", source_v)]
+    return [*((a, b, 0.0) for a, b in circuit.shorts), ("vcc", "0", circuit.supply_v),
+            ("vee", "0", circuit.negative_supply_v), ("src", "0", source_v)]
 
 
 def operating_point(circuit: Circuit) -> dict[str, float]:
@@ -249,7 +253,7 @@ def solve_small_signal(circuit: Circuit, op: dict, freq_hz=None, source=1.0, inj
     _, _, a1, a2, b1, b2 = q_currents(circuit, op)
     dm = device_matrix(circuit, a1, a2, b1, b2)[0]
     links = [(a, b, 0.0) for a, b in circuit.shorts if (a, b) != ("src", "in") or "RS" not in skip]
-    links += [("vcc", "0", 0.0), ("src", "0", source)]
+    links += [("vcc", "0", 0.0), ("vee", "0", 0.0), ("src", "0", source)]
     if freq_hz is None:
         links += [(p.a, p.b, 0.0) for p in circuit.parts if p.kind == "C" and p.name not in skip]
         y = admittance(circuit, omega=np.array([0.0]), skip=skip, caps_short=True)

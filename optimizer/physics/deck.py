@@ -18,7 +18,7 @@ from optimizer.physics import polarity
 
 # Which name a group of shorted nodes keeps (earlier wins): `in` and `out` must survive a merge,
 # since the surroundings attach there.  "src" is the source's own node: never in the deck.
-RANK = ("0", "vcc", "in", "out", "base", "emit", "coll", "mid")
+RANK = ("0", "vcc", "vee", "in", "out", "base", "emit", "coll", "mid")
 SURROUNDINGS = ("RS", "RL")
 # SPICE scale suffixes (case-insensitive in SPICE, hence "meg", never "M").
 SUFFIXES = ((1e6, "meg"), (1e3, "k"), (1.0, ""), (1e-3, "m"), (1e-6, "u"), (1e-9, "n"), (1e-12, "p"))
@@ -93,7 +93,10 @@ def design_netlist(stage: Stage, parts: dict, positive_nodes: dict | None = None
         positive_nodes = {p: (c["positive_node"] if isinstance(c, dict) else c) for p, c in positive_nodes.items()}
     name = deck_nodes(stage)
     circuit = build(stage)
-    lines = [f"* {title or f'drawerfit {stage.topology} stage on a {spice_value(stage.supply_v)} V supply'}",
+    rails = f"a {spice_value(stage.supply_v)} V supply"
+    if stage.negative_supply_v < 0:
+        rails = f"{spice_value(stage.supply_v)} V and {spice_value(stage.negative_supply_v)} V supplies"
+    lines = [f"* {title or f'drawerfit {stage.topology} stage on {rails}'}",
              "* The stage's own parts and supply only. To simulate: add a source into node in through its",
              "* resistance, a load from out to 0, analyses and .end (README, \"Running a design's netlist\")."]
     for p in circuit.parts:
@@ -110,6 +113,8 @@ def design_netlist(stage: Stage, parts: dict, positive_nodes: dict | None = None
     c, b, e = (name[n] for n in circuit.q)
     lines.append(f"Q1 {c} {b} {e} {model_name(q_line)} ; line {q_line}")
     lines.append(f"VCC vcc 0 DC {spice_value(stage.supply_v)}")
+    if stage.negative_supply_v < 0:
+        lines.append(f"VEE vee 0 DC {spice_value(stage.negative_supply_v)}")
     lines.append(stage.transistor.spice_model(model_name(q_line)))
     lines.append(".end")
     return "\n".join(lines) + "\n"
@@ -131,7 +136,8 @@ def stage_of_design(design: dict, spec: dict, *, bf: float | None = None, temp_c
     caps = {p: float(v["farads"]) for p, v in design["parts"].items() if "farads" in v}
     load = spec.get("load_ohms")
     return Stage(design["topology"], res, caps, float(spec["supply_v"]), float(spec.get("source_ohms") or 0.0),
-                 float("inf") if load is None else float(load), transistor_of_design(design, bf), float(temp_c))
+                 float("inf") if load is None else float(load), transistor_of_design(design, bf), float(temp_c),
+                 float(spec.get("negative_supply_v") or 0.0))
 
 
 def netlist_of(design: dict, spec: dict) -> str:

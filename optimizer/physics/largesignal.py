@@ -28,7 +28,7 @@ def held_network(topology, r, *, supply_v, source_ohms, load_ohms, op, emf_v, by
 
 
 def transfer(topology, r, *, transistor, supply_v, source_ohms, load_ohms, op, emf_v, temp_c=27.0,
-             bypassed=True) -> dict[str, np.ndarray]:
+             bypassed=True, negative_supply_v=0.0, dc_input=False) -> dict[str, np.ndarray]:
     """Load voltage (V, relative to 0 V DC) and the transistor's state for each source EMF in `emf_v`.
 
     Returns v_out, vb, vc, ve, ic, ib, vce, converged (arrays of emf_v's broadcast shape).
@@ -37,6 +37,7 @@ def transfer(topology, r, *, transistor, supply_v, source_ohms, load_ohms, op, e
     emf = np.asarray(emf_v, dtype=float)
     shape = emf.shape
     flat_r = {k: float(v) for k, v in r.items()}
+    flat_r.update(vee=float(negative_supply_v), dc=float(bool(dc_input)))  # the rails, as screen hands them
     flat_op = {k: float(op[k]) for k in ("vb", "vc", "ve", "vn")}
     net = held_network(topology, flat_r, supply_v=supply_v, source_ohms=source_ohms, load_ohms=load_ohms,
                        op=flat_op, emf_v=emf.ravel(), bypassed=bypassed)

@@ -91,7 +91,8 @@ def _hfe_range(transistor, hfe_min, hfe_max):
 
 
 def monte_carlo(topology, networks: dict, *, transistor: Transistor, hfe_min=None, hfe_max=None,
-                supply_v, source_ohms, load_ohms, temp_range_c=(0.0, 50.0), vbe_sigma_v=0.01,
+                supply_v, source_ohms, load_ohms, temp_range_c=(0.0, 50.0), vbe_sigma_v=0.01, negative_supply_v=0.0,
+                dc_input=False,
                 n=10_000, seed=0) -> MonteCarlo:
     """Sample the stage `n` times; `networks` maps each resistor position to a network_tree node.
 
@@ -105,14 +106,16 @@ def monte_carlo(topology, networks: dict, *, transistor: Transistor, hfe_min=Non
     temp = rng.uniform(temp_range_c[0], temp_range_c[1], n)
     vbe = _vbe_at_1ma(transistor) + _truncated_normal(rng, n, vbe_sigma_v)
     out = screen(topology, r, transistor=transistor, supply_v=supply_v, source_ohms=source_ohms,
-                 load_ohms=load_ohms, temp_c=temp, beta=beta, is_a=is_from_vbe(vbe))
+                 load_ohms=load_ohms, temp_c=temp, beta=beta, is_a=is_from_vbe(vbe),
+                 negative_supply_v=negative_supply_v, dc_input=dc_input)
     samples = {k: out[k] for k in REPORTED}
     samples.update(beta=beta, temp_c=temp, vbe_1ma=vbe)
     return MonteCarlo(samples, n, seed)
 
 
 def worst_case(topology, networks: dict, *, transistor: Transistor, hfe_min=None, hfe_max=None,
-               supply_v, source_ohms, load_ohms, temp_range_c=(0.0, 50.0), vbe_sigma_v=0.01,
+               supply_v, source_ohms, load_ohms, temp_range_c=(0.0, 50.0), vbe_sigma_v=0.01, negative_supply_v=0.0,
+               dc_input=False,
                keys=("gain", "ic", "vc", "swing_pp")) -> dict[str, tuple[float, float]]:
     """(low, high) of each of `keys` over every vertex of the tolerance box (see the module note)."""
     positions = sorted(networks)
@@ -125,5 +128,6 @@ def worst_case(topology, networks: dict, *, transistor: Transistor, hfe_min=None
     r = {p: grid[:, i] for i, p in enumerate(positions)}
     k = len(positions)
     out = screen(topology, r, transistor=transistor, supply_v=supply_v, source_ohms=source_ohms,
-                 load_ohms=load_ohms, temp_c=grid[:, k + 2], beta=grid[:, k], is_a=is_from_vbe(grid[:, k + 1]))
+                 load_ohms=load_ohms, temp_c=grid[:, k + 2], beta=grid[:, k], is_a=is_from_vbe(grid[:, k + 1]),
+                 negative_supply_v=negative_supply_v, dc_input=dc_input)
     return {key: (float(np.min(out[key])), float(np.max(out[key]))) for key in keys}

@@ -12,7 +12,7 @@ from optimizer.physics.stage import Stage
 from optimizer.physics import polarity
 
 # Which name a group of shorted nodes keeps (earlier wins); "0" is SPICE's ground.
-NAME_RANK = ("0", "vcc", "base", "emit", "coll", "in", "mid", "out", "src")
+NAME_RANK = ("0", "vcc", "vee", "base", "emit", "coll", "in", "mid", "out", "src")
 
 
 def node_names(stage: Stage) -> dict[str, str]:
@@ -69,6 +69,8 @@ def to_netlist(
     c, b, e = (polarity.real_node(name[n], polarity.mirrored(stage)) for n in circuit.q)
     lines.append(f"Q1 {c} {b} {e} QMOD")
     lines.append(f"VCC {name['vcc']} 0 DC {_num(stage.supply_v)}")
+    if stage.negative_supply_v < 0:
+        lines.append(f"VEE {name['vee']} 0 DC {_num(stage.negative_supply_v)}")
     lines.append(f"VS {name['src']} 0 DC 0 AC 1 SIN(0 {_num(amp)} {_num(signal_hz)})")
     lines.append(stage.transistor.spice_model("QMOD"))
     lines.append(".options TNOM=27")

@@ -56,6 +56,8 @@ def screen(
     beta=None,
     is_a=None,
     bypassed=True,
+    negative_supply_v=0.0,
+    dc_input=False,
 ) -> dict[str, np.ndarray]:
     """Bias, midband small signal, swing and dissipation of every candidate.
 
@@ -63,7 +65,10 @@ def screen(
     missing).  supply_v (V), source_ohms, load_ohms (Ω, inf = unloaded),
     temp_c (°C), beta (BF at 27 °C, overrides transistor.bf), is_a (IS at 27 °C,
     A, overrides transistor.is_a) and bypassed (CE fitted across RE2) may all be
-    arrays.  Temperature laws are the transistor model's own.
+    arrays.  Temperature laws are the transistor model's own.  negative_supply_v (V, ≤ 0) is
+    the bottom rail of a split-supply kind and dc_input a source joined to the base without CIN
+    (the kind's hooks read them as r["vee"], r["dc"]; single-rail kinds ignore them).
+    Node voltages are relative to ground.
 
     Returns (SI units): vb ve vc vn vce vbe ic ib ie i_supply (DC; vn is the
     RE1–RE2 node), saturated cutoff converged (bool), iterations (0-d int: the
@@ -78,7 +83,8 @@ def screen(
         is_t = is_t * (np.asarray(is_a, dtype=float) / transistor.is_a)
     if beta is not None:
         bf_t = bf_t * (np.asarray(beta, dtype=float) / transistor.bf)
-    extra = {"supply": supply_v, "rs": source_ohms, "rl": load_ohms, "bypassed": bypassed,
+    extra = {"supply": supply_v, "vee": negative_supply_v, "dc": float(bool(dc_input)),
+             "rs": source_ohms, "rl": load_ohms, "bypassed": bypassed,
              "is_t": is_t, "bf_t": bf_t, "br_t": br_t, "vt": vt}
     shape, f = _flat_inputs(topology, r, extra)
     size = int(np.prod(shape))
@@ -111,7 +117,7 @@ def _screen_flat(topology, f, q, n):
     ie = ic + ib
     vb, vc, ve = net.voltages(ib, ic)
     ac = kind.ac_terms(f, net, f["bypassed"] > 0)
-    out = {"vb": vb, "ve": ve, "vc": vc, "vn": ie * ac["re2"], "vce": vc - ve, "vbe": dc["vbe"],
+    out = {"vb": vb, "ve": ve, "vc": vc, "vn": net.e0 + ie * ac["re2"], "vce": vc - ve, "vbe": dc["vbe"],
            "ic": ic, "ib": ib, "ie": ie, "converged": dc["converged"],
            "iterations": dc["iterations"]}
     out["saturated"] = out["vce"] < swing.VCE_SAT_V

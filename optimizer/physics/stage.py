@@ -35,6 +35,7 @@ class Stage:
     load_ohms: float = float("inf")
     transistor: Transistor = field(default_factory=Transistor)
     temp_c: float = 27.0
+    negative_supply_v: float = 0.0  # the negative rail (V); 0 = one positive supply
 
     def __post_init__(self):
         kinds.get(self.topology)  # ValueError naming the known kinds

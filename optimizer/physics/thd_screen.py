@@ -25,7 +25,7 @@ CHUNK = 4096  # candidates per batch (× POINTS solves)
 
 
 def thd_at_swing(topology, r, op, *, transistor, beta, temp_c, supply_v, source_ohms, load_ohms, swing_pp,
-                 bypassed=True) -> np.ndarray:
+                 bypassed=True, negative_supply_v=0.0, dc_input=False) -> np.ndarray:
     """THD (fraction, harmonics 2..10 over the fundamental) at `swing_pp` V p-p on the load, per candidate.
 
     r: position → ohms (1-D arrays of one length n); op: the candidates' `screen` result at the
@@ -33,6 +33,7 @@ def thd_at_swing(topology, r, op, *, transistor, beta, temp_c, supply_v, source_
     Candidates that do not converge over the cycle get inf.  swing_pp = 0 gives 0.
     """
     n = len(np.atleast_1d(op["vb"]))
+    r = {**r, "vee": negative_supply_v, "dc": float(bool(dc_input))}  # the rails, as screen hands them
     out = np.zeros(n)
     if swing_pp <= 0 or n == 0:
         return out

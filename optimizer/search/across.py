@@ -29,9 +29,10 @@ def usable_kinds(spec) -> tuple[list[str], list[str]]:
     """(kinds to search, notes on the kinds left out and why)."""
     use, notes = [], []
     for name in kinds.names():
-        k = kinds.get(name)
-        if k.max_gain is not None and spec.gain > k.max_gain:
-            notes.append(f"{name}: left out, its gain stays below {k.max_gain:g}")
+        # The kind's own limits (its gain, the rails it runs on, a DC-coupled input) say whether it can.
+        problems = replace(spec, topology=name).problems()
+        if problems:
+            notes.append(f"{name}: left out ({problems[0].partition(': ')[2] or problems[0]})")
         else:
             use.append(name)
     return use, notes

@@ -102,7 +102,7 @@ def _capacitor_reason(sol, spec) -> str:
     row, q = sol.cap_failures[0]
     opts = sol.options
     vdc = capchoice.dc_across(spec.topology, row)
-    pos = capchoice.positions_for(row)
+    pos = capchoice.positions_for(row, spec)
     best, missing = {}, []
     for p in pos:
         idx = capchoice.usable(opts, vdc[p])
@@ -115,7 +115,7 @@ def _capacitor_reason(sol, spec) -> str:
         return "; ".join(missing)
     res = {k: float(row[k]) for k in kinds.get(spec.topology).resistors if k in row and row[k] > 0}
     stage = Stage(spec.topology, res, best, spec.supply_v, spec.source_ohms, spec.load_ohms,
-                  q.transistor.with_beta(q.transistor.hfe_min))
+                  q.transistor.with_beta(q.transistor.hfe_min), 27.0, spec.negative_supply_v)
     f_low = analyze(stage).predicted["f_low"]
     parts = ", ".join(f"{p} {format_capacitance(v)}" for p, v in best.items())
     return (f"low cut-off binds: even with the largest suitable capacitors on hand ({parts}) f_low = "

@@ -96,7 +96,8 @@ def check(topology, r, q, spec, near: Near | None = None):
         poll()
         sub = {p: np.asarray(v)[alive] for p, v in r.items()}
         s = screen(topology, sub, transistor=t, supply_v=spec.supply_v, source_ohms=spec.source_ohms,
-                   load_ohms=spec.load_ohms, beta=b, temp_c=temp)
+                   load_ohms=spec.load_ohms, beta=b, temp_c=temp, negative_supply_v=spec.negative_supply_v,
+                   dc_input=spec.dc_input)
         res[c] = (alive, s)
         g = s["gain"]
         sign = (g < 0) if kind.inverting else (g > 0)
@@ -111,7 +112,7 @@ def check(topology, r, q, spec, near: Near | None = None):
             ok["ratings"][alive] &= s["p_q"] <= TRANSISTOR_PD_DERATING * t.pd_max_w
         if t.ic_max_a:
             ok["ratings"][alive] &= s["ic"] <= t.ic_max_a
-        if t.vceo_v and t.vceo_v < spec.supply_v:
+        if t.vceo_v and t.vceo_v < spec.span_v:
             ok["ratings"][:] = False  # cut off, the collector can reach the full supply
         failed = np.sum([~ok[k][alive] for k in CONSTRAINTS], axis=0)
         alive = alive[failed <= 1]
@@ -132,7 +133,8 @@ def check(topology, r, q, spec, near: Near | None = None):
         sub = {p: np.asarray(v)[cand] for p, v in r.items()}
         op = {key: s[key][k] for key in ("vb", "vc", "ve", "vn", "gain", "vbe")}
         h = thd_at_swing(topology, sub, op, transistor=t, beta=b, temp_c=temp, supply_v=spec.supply_v,
-                         source_ohms=spec.source_ohms, load_ohms=spec.load_ohms, swing_pp=spec.swing_pp)
+                         source_ohms=spec.source_ohms, load_ohms=spec.load_ohms, swing_pp=spec.swing_pp,
+                         negative_supply_v=spec.negative_supply_v, dc_input=spec.dc_input)
         thd[cand] = np.maximum(thd[cand], h)
         cand = cand[thd[cand] <= THD_DROP * limit]
     ok["thd"] = thd <= limit

@@ -36,7 +36,7 @@ def _dense_usage(table, n_stock):
 
 def _best_caps(topology, row, spec, opts, qty, weights):
     """(parts, emptied, Σ used·weight, nF) of the lexicographic minimum (parts, nF, emptied, Σ used·weight)."""
-    pos = capchoice.positions_for(row)
+    pos = capchoice.positions_for(row, spec)
     vdc = capchoice.dc_across(topology, row)
     idx = [np.arange(len(opts))] * len(pos)
     mesh = [m.ravel() for m in np.meshgrid(*idx, indexing="ij")]

@@ -47,14 +47,15 @@ def stage_of(sol, choice, row, spec, bf=None) -> Stage:
         q = q.with_beta(bf)
     res = {p: float(network_tree.evaluate(n)) for p, n in networks_of(sol, choice).items()}
     caps = {p: float(sol.options.value[i]) for p, (i, _) in capacitors_of(sol, row).items()}
-    return Stage(spec.topology, res, caps, spec.supply_v, spec.source_ohms, spec.load_ohms, q, 27.0)
+    return Stage(spec.topology, res, caps, spec.supply_v, spec.source_ohms, spec.load_ohms, q, 27.0,
+                 spec.negative_supply_v)
 
 
 def yield_of(sol, choice, spec, *, n=MC_SAMPLES, seed=MC_SEED):
     q = sol.qlines[choice.q].transistor
     mc = monte_carlo(spec.topology, networks_of(sol, choice), transistor=q, supply_v=spec.supply_v,
                      source_ohms=spec.source_ohms, load_ohms=spec.load_ohms, temp_range_c=spec.temp_range_c,
-                     n=n, seed=seed)
+                     n=n, seed=seed, negative_supply_v=spec.negative_supply_v, dc_input=spec.dc_input)
     return mc.share_meeting(spec), mc
 
 

@@ -18,7 +18,9 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from optimizer import kinds
 from optimizer.parts import capchoice
+from optimizer.physics import polarity
 from optimizer.search import objective, stopwatch, tradeoff
 from optimizer.parts.assign import Assignment, Choice
 from optimizer.search.candidates import POSITIONS, Pool, min_positions, profiles, tuples, usable_transistors
@@ -28,6 +30,11 @@ from optimizer.search.seed import seed_tuples
 from optimizer.spec import ANY_TOPOLOGY, DEFAULT_DEPTH, DEFAULT_PREFER, DEFAULT_TIME_LIMIT_S, DEFAULT_TOP, PREFERENCES, Bounds  # noqa: F401
 
 MIN_CAPS = 2  # CIN and COUT are always fitted
+
+
+def min_caps(spec) -> int:
+    """Capacitors every design fits: CIN and COUT, less CIN when the source is DC-coupled."""
+    return MIN_CAPS - bool(getattr(spec, "dc_input", False))
 MAX_SCREENED = 60_000_000  # a safety stop; reported in `why` when it ends the search
 MAX_REJECTED = 30  # designs the yield constraint may turn down before the search gives up
 # The trade-off set spans designs of up to this many parts more than the fewest that meet the
@@ -140,7 +147,7 @@ def search(rstock, cstock, qlines, spec, *, top=3, depth=3, progress=None, cance
             sol.pool = Pool(rstock, min(depth, 2))
             _screen_seeds(topology, positions, spec, models, qlines, sol, front)
             for budget in range(n_min, b_max + 1):
-                if budget + MIN_CAPS + 1 > front.fewest_parts + spare_parts:
+                if budget + min_caps(spec) + 1 > front.fewest_parts + spare_parts:
                     break  # every design left needs more parts than the set spans
                 sol.budget = budget
                 level = min(depth, budget - n_min + 1)
@@ -204,7 +211,7 @@ def _add_rows(rows, members, positions, sol, front):
     if not len(rows["ge"]):
         return
     rows["nsm"] = -rows["sm"]
-    rows["parts_lb"] = _parts_lb(sol.pool, rows, positions)
+    rows["parts_lb"] = _parts_lb(sol.pool, rows, positions, min_caps(sol.spec))
     for qi in members:
         front.add(dict(rows, q=np.full(len(rows["ge"]), qi, dtype=np.int64)))
 
@@ -311,7 +318,7 @@ class _Front:
         if not len(rows["ge"]):
             return rows
         has_ce = rows["RE2"] > 0 if "RE2" in rows else np.zeros(len(rows["ge"]), dtype=bool)
-        res_parts = rows["parts_lb"] - MIN_CAPS - has_ce - 1
+        res_parts = rows["parts_lb"] - min_caps(self.sol.spec) - has_ce - 1
         parts = res_parts + rows["pc"] + 1
         ok = np.ones(len(parts), dtype=bool)
         for i in np.flatnonzero(~_greedy_fits(self.sol.pool, rows, self.positions)):
@@ -416,7 +423,7 @@ def _realise(positions, rows, sol):
         return a.solve()
 
 
-def _parts_lb(pool, rows, positions):
+def _parts_lb(pool, rows, positions, caps=MIN_CAPS):
     """Fewest parts a row can be built with: Σ fewest parts per value + its capacitors (≥ 1 each) + Q1."""
     d = pool.distinct
     lb = np.ones(len(rows["ge"]), dtype=np.int64)
@@ -425,7 +432,7 @@ def _parts_lb(pool, rows, positions):
         g = np.clip(np.searchsorted(d.value, v * (1 - 1e-10)), 0, len(d) - 1)
         lb += np.where(v > 0, d.min_parts[g], 0)
     has_ce = rows["RE2"] > 0 if "RE2" in rows else np.zeros(len(lb), dtype=bool)
-    return lb + MIN_CAPS + has_ce
+    return lb + caps + has_ce
 
 
 def _stock_qty(pool) -> np.ndarray:
@@ -471,6 +478,10 @@ def find_designs(drawer, spec, *, top=DEFAULT_TOP, depth=DEFAULT_DEPTH, min_yiel
         return doc
     rstock, cstock = drawer.resistor_stock(), drawer.capacitor_stock()
     qlines, notes = usable_transistors(drawer.transistors())
+    if kinds.get(spec.topology).rails > 1 and any(polarity.is_pnp(q.transistor) for q in qlines):
+        # The PNP mirror (physics/polarity.py) holds on one positive supply only.
+        qlines = [q for q in qlines if not polarity.is_pnp(q.transistor)]
+        notes.append("PNP lines left out: split-supply stages are designed with NPN transistors for now")
     locations = {p.line: p.location for p in drawer.parts}
     mc_seed = result.MC_SEED if seed is None else int(seed)
     yields = {}

@@ -35,7 +35,7 @@ from optimizer.search.candidates import transistor_of
 from optimizer.physics.distortion import distortion
 from optimizer.physics.netlist import to_netlist
 from optimizer.physics.ratings import CAPACITOR_MARGIN, RESISTOR_DERATING, capacitor_voltages, part_dissipation
-from optimizer.physics.stage import CAPACITOR_POSITIONS, EMITTER_FOLLOWER, OPTIONAL_POSITIONS, RESISTOR_POSITIONS, Stage
+from optimizer.physics.stage import CAPACITOR_POSITIONS, OPTIONAL_POSITIONS, RESISTOR_POSITIONS, Stage
 
 PD_DERATING = 0.5  # transistor dissipation ≤ 50 % of PD(max) (common practice, no source)
 VALUE_RTOL = 1e-6  # the document's value against the one rebuilt from the drawer
@@ -71,7 +71,7 @@ def failures(design: dict, spec, drawer, *, thd: bool = True) -> list[Failure]:
         for temp in spec.temps_c:
             corner = f"hFE {hfe_name} {bf:g}, {temp:g} °C"
             stage = Stage(topology, res, caps, spec.supply_v, spec.source_ohms, spec.load_ohms,
-                          transistor.with_beta(bf), float(temp))
+                          transistor.with_beta(bf), float(temp), _vee(spec))
             out += _corner(stage, spec, trees, corner, thd)
     return out
 
@@ -87,7 +87,13 @@ def stage_at(design: dict, spec, drawer, hfe: str = "min", temp_c: float = 27.0)
     if out:
         raise ValueError("; ".join(map(str, out)))
     bf = {"min": q.hfe_min, "max": q.hfe_max, "typical": q.bf}[hfe]
-    return Stage(topology, res, caps, spec.supply_v, spec.source_ohms, spec.load_ohms, q.with_beta(bf), temp_c)
+    return Stage(topology, res, caps, spec.supply_v, spec.source_ohms, spec.load_ohms, q.with_beta(bf), temp_c,
+                 _vee(spec))
+
+
+def _vee(spec) -> float:
+    """The negative rail (V; 0 = one supply)."""
+    return float(getattr(spec, "negative_supply_v", 0.0) or 0.0)
 
 
 def _rebuild_design(design, topology, drawer, out):
@@ -180,8 +186,9 @@ def _stock(design, trees, q_entry, drawer) -> list[Failure]:
 
 
 def _static_transistor_limits(q, spec) -> list[Failure]:
-    if q.vceo_v and q.vceo_v < spec.supply_v:
-        return [Failure("rating", "", f"{q.name} VCEO {q.vceo_v:g} V is below the {spec.supply_v:g} V supply")]
+    span = spec.supply_v - _vee(spec)  # cut off, VCE reaches the whole span of the rails
+    if q.vceo_v and q.vceo_v < span:
+        return [Failure("rating", "", f"{q.name} VCEO {q.vceo_v:g} V is below the {span:g} V the rails span")]
     return []
 
 
@@ -205,7 +212,7 @@ def _corner(stage: Stage, spec, trees, corner: str, thd: bool) -> list[Failure]:
         fail("saturated", f"Q1 saturated (VCE {op['vce']:.3g} V)")
     if op["cutoff"]:
         fail("cutoff", f"Q1 cut off (IC {op['ic']:.3g} A)")
-    want_sign = 1.0 if stage.topology == EMITTER_FOLLOWER else -1.0
+    want_sign = -1.0 if stage.kind.inverting else 1.0
     gain = p["gain"]
     if gain * want_sign <= 0:
         fail("gain", f"gain {gain:.3g} has the wrong sign")

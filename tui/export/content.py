@@ -179,7 +179,9 @@ def spec_line(spec: dict) -> str:
     bits = []
     if spec.get("gain") is not None:
         bits.append(f"gain {spec['gain']:g} ±{100 * float(spec.get('gain_tol', 0)):g} %")
-    bits.append(f"{spec.get('supply_v', 0):g} V supply")
+    vee = spec.get("negative_supply_v") or 0
+    vcc = spec.get("supply_v", 0)
+    bits.append(f"{vcc:g} V supply" if not vee else f"+{vcc:g} V / {vee:g} V supplies")
     for key, label, unit in (("load_ohms", "load", "Ω"), ("source_ohms", "source", "Ω")):
         if spec.get(key) is not None:
             bits.append(f"{label} {format_si(spec[key], unit)}")

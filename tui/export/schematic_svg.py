@@ -127,6 +127,8 @@ def schematic(sheet: Sheet) -> schemdraw.Drawing:
     kind = kinds.get(topo)
     follower = kind.output == "e"  # drawn from what the kind declares, not its name
     feedback = kind.bias == "feedback"
+    grounded = kind.bias == "ground"  # RB returns the base to ground
+    split = kind.rails == 2  # the emitter chain ends on the negative rail (the bottom line)
     plus = sheet.positive  # capacitor position → circuit node of its + lead
 
     # Columns: base (xb), transistor (base lead at xq), collector/emitter (xc).
@@ -134,7 +136,7 @@ def schematic(sheet: Sheet) -> schemdraw.Drawing:
     if feedback:
         xq = xb + max(1.6, extent(n.get("RB"), LEAF_H) + 0.2)
     else:
-        xq = xb + 2.8 + max(side_room(n.get("R1"), GAP_V), side_room(n.get("R2"), GAP_V))
+        xq = xb + 2.8 + max(side_room(n.get(p), GAP_V) for p in ("R1", "R2", "RB"))
     xc = xq + 0.75
     # Heights from the bottom rail (0) up: emitter chain, then the transistor, then the top.
     emit_names = ("RE",) if follower else ("RE1", "RE2")
@@ -142,7 +144,8 @@ def schematic(sheet: Sheet) -> schemdraw.Drawing:
     re2_len = max(extent(n.get("RE2")), extent(n.get("CE"))) if "RE2" in n else 0.0
     emit_len = extent(n.get("RE")) if follower else extent(n.get("RE1")) + re2_len
     ye = max(emit_len, 1.0 if chain else 0.0) + (1.0 if follower else 0.0)
-    yb = max(ye + 0.7, extent(n.get("R2")) + 0.6) if not feedback else ye + 0.7
+    yb = max(ye + 0.7, extent(n.get("R2" if not grounded else "RB")) + (0.6 if not grounded else 1.2)) \
+        if not feedback else ye + 0.7
     ycoll = yb + 0.7
     yk = ycoll + 0.6  # where COUT leaves the collector node
     yr = yk + (0.6 if not follower else 0.0)  # bottom of RC (or of RB's column)
@@ -160,13 +163,18 @@ def schematic(sheet: Sheet) -> schemdraw.Drawing:
     xc = q.absanchors["collector"][0]
     # The top rail and its supply mark, the bottom rail and ground.
     left = xb - (max(extent(n.get("CIN"), LEAF_H), 2.0) + 0.6)
-    d.add(elm.Line().endpoints((xb if not feedback else xc, top), (xc, top)))
+    d.add(elm.Line().endpoints((xb if not (feedback or grounded) else xc, top), (xc, top)))
     supply = f"+{sheet.stage.supply_v:g} V (VCC)"
     d.add(elm.Ground().at((xc, top)).flip().label("0 V", loc="right", fontsize=FONT) if pnp
           else elm.Vdd().at((xc, top)).label(supply, fontsize=FONT))
-    d.add(elm.Line().endpoints((xb, 0.0), (max(xe, xc) + 2.0 + side_room(n.get("RE2"), GAP_V)
-                                             + side_room(n.get("CE"), GAP_V) + GAP_V, 0.0)))
-    d.add(elm.Vss().at((xb, 0.0)).label(supply, loc="bottom", fontsize=FONT) if pnp else elm.Ground().at((xb, 0.0)))
+    if split:  # the negative rail under the emitter chain; ground marks on RB, CE (and the load)
+        d.add(elm.Line().endpoints((xe - 1.2, 0.0), (xe, 0.0)))
+        d.add(elm.Vss().at((xe - 1.2, 0.0)).label(f"{sheet.stage.negative_supply_v:g} V (VEE)", fontsize=FONT))
+    else:
+        d.add(elm.Line().endpoints((xb, 0.0), (max(xe, xc) + 2.0 + side_room(n.get("RE2"), GAP_V)
+                                                 + side_room(n.get("CE"), GAP_V) + GAP_V, 0.0)))
+        d.add(elm.Vss().at((xb, 0.0)).label(supply, loc="bottom", fontsize=FONT) if pnp
+              else elm.Ground().at((xb, 0.0)))
 
     # Input: in ── CIN ── base node.
     cin_plus_at_in = plus.get("CIN") == "in"
@@ -175,7 +183,11 @@ def schematic(sheet: Sheet) -> schemdraw.Drawing:
     d.add(elm.Dot(open=True).at((x_in, yb)).label("in", loc="left", fontsize=FONT))
     d.add(elm.Dot().at((xb, yb)))
     d.add(elm.Line().endpoints((xb, yb), (xq, yb)))
-    if not feedback:
+    if grounded:
+        y_gnd = yb - extent(n.get("RB")) - 0.3
+        dr.net("RB", (xb, yb), (xb, y_gnd))
+        d.add(elm.Ground().at((xb, y_gnd)))
+    elif not feedback:
         dr.net("R1", (xb, top), (xb, yb))
         dr.net("R2", (xb, yb), (xb, 0.0))
     # Collector side.
@@ -214,6 +226,8 @@ def schematic(sheet: Sheet) -> schemdraw.Drawing:
                 dr.wire((xe, y_mid), (xce, y_mid))
                 d.add(elm.Dot().at((xe, y_mid)))
                 dr.net("CE", (xce, y_mid), (xce, 0.0), plus_at_a=plus.get("CE") not in ("0", "vcc"))
+                if split:
+                    d.add(elm.Ground().at((xce, 0.0)))
         else:
             dr.wire((xe, y_mid), (xe, 0.0))
     # Output: collector (emitter) node ── COUT ── out.

@@ -163,6 +163,7 @@ class SheetScreen(Screen):
                         f"Q1 {q1.get('part', '')}{spread}" + (f"\nBest for: {best}" if best else ""),
                         classes="section-title")
             yield Static(draw_stage(design, supply_v=spec.get("supply_v"), source_ohms=spec.get("source_ohms"),
+                                    negative_supply_v=spec.get("negative_supply_v"),
                                     load_ohms=spec.get("load_ohms"),
                                     polarised=polarised_positions(design, drawer)), id="schematic")
             yield Label("Parts (drawer line and place)", classes="section-title")
