@@ -447,7 +447,14 @@ def find_designs(drawer, spec, *, top=DEFAULT_TOP, depth=DEFAULT_DEPTH, min_yiel
     impossible); "optimal" says whether the trade-off set is proven complete.
     """
     from . import explain, result
+    from .chain.names import is_chain
     from .hints import HINT_MAX_OHMS, shopping_hints
+
+    if is_chain(spec.topology):  # two stages designed together: optimizer/chain
+        from .chain.result import find_chain_designs
+
+        return find_chain_designs(drawer, spec, top=top, depth=depth, progress=progress, cancel=cancel, hints=hints,
+                                  prefer=prefer, time_limit_s=time_limit_s)
 
     doc = {"designs": [], "why": [], "hints": [], "spec": result.spec_json(spec),
            "inventory": str(getattr(drawer, "path", "") or ""), "status": "unproven", "optimal": False,

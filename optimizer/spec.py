@@ -5,6 +5,7 @@ from __future__ import annotations
 import math
 from dataclasses import asdict, dataclass
 
+from .chain.names import CHAINS
 from .stage import TOPOLOGIES
 
 # Defaults a practitioner assumes without saying them (one place: the CLI and the app read these).
@@ -93,8 +94,8 @@ class Spec:
                 out.append(f"{flag.strip()}: {x!r} is not a finite number")
         if out:
             return out
-        if self.topology not in TOPOLOGIES:
-            out.append(f"--topology: {self.topology!r} is not one of {', '.join(TOPOLOGIES)}")
+        if self.topology not in TOPOLOGIES and self.topology not in CHAINS:
+            out.append(f"--topology: {self.topology!r} is not one of {', '.join((*TOPOLOGIES, *CHAINS))}")
         if not self.supply_v > 0:
             out.append(f"--supply: {self.supply_v:g} V; the supply must be positive")
         elif self.supply_v > 60:

@@ -41,6 +41,7 @@ from optimizer.spec import (
     PREFERENCES,
     Spec,
 )
+from optimizer.chain.names import CHAINS
 from optimizer.stage import TOPOLOGIES
 
 from . import cmd_build
@@ -59,7 +60,8 @@ def register(sub) -> None:
                        description="Find the stages that meet the spec at both ends of the transistor's hFE "
                                    "range and of the temperature range, using only the parts on hand.  "
                                    "Values as on the parts: 22k, 4k7, 12V, 1.8k, 4.7e-6.")
-    p.add_argument("--topology", default="common-emitter", choices=TOPOLOGIES)
+    p.add_argument("--topology", default="common-emitter", choices=(*TOPOLOGIES, *CHAINS),
+                   help="the stage, or a two-stage chain (FIRST+SECOND, e.g. emitter-follower+common-emitter)")
     p.add_argument("--gain", required=True, help="gain magnitude (a common emitter reports it negative)")
     p.add_argument("--gain-tol", default="0.05", help="allowed gain error: 5%% or 0.05 (default ±5 %%)")
     d = DEFAULTS

@@ -1,0 +1,324 @@
+"""The joint search for a two-stage chain: stages designed one after the other on shared stock,
+then every pair checked whole at every corner (check.py).
+
+The plan per chain kind (the gain split and which stage is designed first):
+  * emitter-follower+common-emitter: the follower first (source: the spec's; load: the least input
+    resistance the second stage will be asked for; its gain left free), then the common emitter
+    driven by the follower's output resistance, for the gain the chain still needs;
+  * common-emitter+common-emitter: the second stage first (driven from the interstage node, the
+    real load), at a share of the gain the transistors make (√(G/loss) first, with loss the source's division into about
+    twice the Rin floor, then exponents 0.4 and 0.6 while time is left), then
+    the first stage loaded by the second's input resistance, for the rest of the gain;
+  * common-emitter+emitter-follower: the follower first (the real load, its gain left free), then
+    the common emitter loaded by the follower's input resistance.
+Each single stage comes from select.search (its trade-off set, anytime, within a share of the
+time); the second search sees the stock the first design leaves (select.search on less stock and
+one transistor fewer), so every chain is buildable from the counts on hand.  The gain tolerance is
+split so the product of the two stages' corner spreads stays within the chain's; THD, low cut-off
+and ratings get shares too; the whole chain is then checked exactly, so the shares only steer.
+
+This is a heuristic over gain splits and stage pairs: the chain's trade-off set is never proven
+complete, and the document says "optimal": false with what was left unexplored.
+"""
+
+from __future__ import annotations
+
+import math
+import time
+from collections import Counter
+from dataclasses import dataclass, field, replace
+
+import numpy as np
+
+from .. import tradeoff
+from ..circuit import build, operating_point
+from ..response import midband
+from ..select import search as stage_search
+from ..spec import OPEN_LOAD_OHMS
+from .check import Verdict, check_chain, corners
+from .circuit import Chain
+from .halves import Half, half_of, less_stock, less_transistor
+from .names import CE, CHAINS, EF, second
+
+FIRSTS = 3  # designs of the first search carried on
+SECONDS = 3  # designs of each second search
+FREE_GAIN = (0.5, 0.99)  # a follower's gain left free: 0.005 … 0.995
+THD_SHARE = {f"{EF}+{CE}": (0.1, 0.9), f"{CE}+{CE}": (0.4, 0.6), f"{CE}+{EF}": (0.5, 0.5)}  # (stage 1, stage 2)
+CE_SPLITS = (0.5, 0.4, 0.6)  # exponents of G given to the second stage of two common emitters
+MIN_TOL = 1e-3  # select.search matches the gain in 0.1 % steps
+FIRST_SHARE = 1 / 6  # of a split's time, for the stage designed first
+
+
+@dataclass
+class Candidate:
+    chain: Chain
+    halves: tuple  # (Half of stage 1, Half of stage 2)
+    parts: dict  # design-JSON parts with suffixed positions, Q1, Q2
+    uses: Counter
+    ratings: dict  # capacitor → (volts, polarised)
+    verdict: Verdict | None = None
+
+    @property
+    def part_count(self) -> int:
+        return int(sum(self.uses.values()))
+
+
+@dataclass
+class ChainSolution:
+    spec: object
+    found: list = field(default_factory=list)  # Candidates meeting the spec
+    shown: list = field(default_factory=list)  # (Candidate, labels), the preferred first
+    why: list = field(default_factory=list)
+    hints: list = field(default_factory=list)
+    failed: Counter = field(default_factory=Counter)  # limit → chains that broke it
+    pairs: int = 0
+    stage_searches: int = 0
+    stage_empty: list = field(default_factory=list)  # reasons single-stage searches found nothing
+    proven_none: bool = False
+    stopped_by: str | None = None
+    seconds: float = 0.0
+    unexplored: str = ("other gain splits and other pairs of stages: the chain search designs the stages one "
+                       "after the other from a few designs of each stage's trade-off set, so its set is not "
+                       "proven complete")
+
+
+def _first_plan(spec, kind, split, rin2_floor):
+    """(index of the stage designed first, its Spec)."""
+    k1, k2 = CHAINS[kind]
+    t1, t2 = THD_SHARE[kind]
+    base = dict(max_supply_a=None, low_cut_hz=spec.low_cut_hz / 2)
+    if k1 == EF:
+        g_est = max(spec.gain / 0.5, 1.0)
+        return 0, replace(spec, topology=EF, gain=FREE_GAIN[0], gain_tol=FREE_GAIN[1], load_ohms=rin2_floor,
+                          swing_pp=spec.swing_pp / g_est, max_thd=t1 * spec.max_thd, min_rin_ohms=spec.rin_floor,
+                          **base)
+    if k2 == EF:
+        return 1, replace(spec, topology=EF, gain=FREE_GAIN[0], gain_tol=FREE_GAIN[1], source_ohms=0.0,
+                          max_thd=t2 * spec.max_thd, min_rin_ohms=rin2_floor, **base)
+    # The source loses to the chain's input resistance (about twice its floor, common practice, no
+    # source) before any gain: the split shares the gain the transistors must make, G / loss.
+    floor = max(spec.rin_floor, 1.0)
+    loss = 2 * floor / (2 * floor + spec.source_ohms)
+    g2 = (spec.gain / loss) ** split
+    return 1, replace(spec, topology=CE, gain=g2, gain_tol=max(MIN_TOL, spec.gain_tol / 2), source_ohms=0.0,
+                      max_thd=t2 * spec.max_thd, min_rin_ohms=rin2_floor, **base)
+
+
+def _spread(gains):
+    """(centre, relative half-spread) of a set of gain magnitudes: centre √(lo·hi), hi/centre − 1."""
+    mags = np.abs(np.asarray(gains, dtype=float))
+    lo, hi = float(mags.min()), float(mags.max())
+    c = math.sqrt(lo * hi)
+    return c, hi / c - 1.0
+
+
+def _tol_left(tol, spread):
+    """The tolerance left for one stage when the other's gain spreads by ±`spread` (relative)."""
+    return min((1 + tol) / (1 + spread) - 1, 1 - (1 - tol) * (1 + spread))
+
+
+def _corner_midband(half: Half, spec, *, source_ohms, load_ohms):
+    """Exact midband (gain, Rin, Rout) of one stage at its hFE ends × the spec's temperatures."""
+    out = []
+    for b in (half.q.transistor.hfe_min, half.q.transistor.hfe_max):
+        for t in spec.temps_c:
+            c = build(half.stage(spec, source_ohms=source_ohms, load_ohms=load_ohms, bf=b, temp_c=t))
+            m = midband(c, operating_point(c))
+            out.append((m.gain, m.rin_ohms, m.rout_ohms))
+    return np.array(out)
+
+
+def _second_plan(spec, kind, first: Half, index, rin2_floor):
+    """The Spec of the stage designed second, given the first; None when no tolerance is left."""
+    k1, k2 = CHAINS[kind]
+    t1, t2 = THD_SHARE[kind]
+    base = dict(max_supply_a=None, low_cut_hz=spec.low_cut_hz / 2)
+    if index == 0:  # the follower came first: the common emitter is driven by its output
+        m = _corner_midband(first, spec, source_ohms=spec.source_ohms, load_ohms=OPEN_LOAD_OHMS)
+        centre, spread = _spread(m[:, 0])
+        # The second stage is designed for one source resistance; the follower's output resistance
+        # moves over its corners, and the second stage's input divider with it.
+        r_lo, r_hi = float(m[:, 2].min()), float(m[:, 2].max())
+        spread += 0.5 * (r_hi - r_lo) / (rin2_floor + r_lo)
+        tol = _tol_left(spec.gain_tol, spread)
+        if tol < MIN_TOL:
+            return None
+        return replace(spec, topology=k2, gain=spec.gain / centre, gain_tol=tol, source_ohms=math.sqrt(r_lo * r_hi),
+                       max_thd=t2 * spec.max_thd, min_rin_ohms=rin2_floor, **base)
+    m = _corner_midband(first, spec, source_ohms=0.0, load_ohms=spec.load_ohms)
+    centre, spread = _spread(m[:, 0])
+    # The first stage is designed for one load; the second stage's input resistance moves over its
+    # corners, and the first stage's gain with it (at most half as much when its output resistance is
+    # about its load: a bound taken as the allowance, common practice, no source).
+    z_lo, z_hi = float(m[:, 1].min()), float(m[:, 1].max())
+    spread += 0.5 * (math.sqrt(z_hi / z_lo) - 1.0)
+    tol = _tol_left(spec.gain_tol, spread)
+    if tol < MIN_TOL:
+        return None
+    low = float(np.abs(m[:, 0]).min())
+    return replace(spec, topology=k1, gain=spec.gain / centre, gain_tol=tol, load_ohms=math.sqrt(z_lo * z_hi),
+                   swing_pp=spec.swing_pp / max(low, 1e-9), max_thd=t1 * spec.max_thd, **base)
+
+
+def _join(kind, spec, h1: Half, h2: Half, index) -> Candidate:
+    """The chain of two halves.  The first stage's COUT and the second's CIN are one capacitor in a
+    chain (CIN_B): the one chosen by the stage designed second, which saw the real surroundings."""
+    donor = h1 if index == 1 else h2  # the stage designed second
+    inter = donor.parts.get("COUT" if donor is h1 else "CIN")
+    c1 = {k: v for k, v in h1.capacitors.items() if k != "COUT"}
+    c2 = {k: v for k, v in h2.capacitors.items() if k != "CIN"}
+    if inter is not None:
+        c2["CIN"] = float(inter["farads"])
+    s1 = h1.stage(spec, load_ohms=float("inf"))
+    s1 = replace(s1, capacitors=c1)
+    s2 = replace(h2.stage(spec, source_ohms=0.0), capacitors=c2)
+    parts = {p: v for p, v in h1.parts.items() if p != "COUT"}
+    parts.update({second(p): v for p, v in h2.parts.items() if p != "CIN"})
+    if inter is not None:
+        parts["CIN_B"] = inter
+    uses = h1.counter(leave_out=("COUT",)) + h2.counter(leave_out=("CIN",))
+    uses.update(donor.uses.get("COUT" if donor is h1 else "CIN", Counter()))
+    ratings = {p: (float(v.get("voltage_v", float("nan"))), bool(v.get("polarised", False)))
+               for p, v in parts.items() if "farads" in v}
+    return Candidate(Chain(kind, s1, s2), (h1, h2), parts, uses, ratings)
+
+
+def rin2_floor(spec, qlines, kind) -> float:
+    """The input resistance the second stage is asked for (Ω).  After a follower, enough that the
+    follower's input (about hFE × its load) keeps the chain's Rin floor: 3 × floor / hFE min, held
+    within 2.2 kΩ … 100 kΩ (common practice, no source); else 10 kΩ before a follower (a light load
+    on the first collector) and 2.2 kΩ before a common emitter."""
+    k1, k2 = CHAINS[kind]
+    if k1 == EF:
+        hfe = max((q.transistor.hfe_min for q in qlines), default=100.0)
+        return float(np.clip(3.0 * spec.rin_floor / hfe, 2.2e3, 100e3))
+    return 10e3 if k2 == EF else 2.2e3
+
+
+def search_chain(rstock, cstock, qlines, spec, *, depth=2, deadline=None, cancel=None, progress=None,
+                 prefer="balanced", top=5) -> ChainSolution:
+    """The chains found for `spec` (spec.topology a chain kind) within `deadline` (perf_counter)."""
+    t0 = time.perf_counter()
+    kind = spec.topology
+    sol = ChainSolution(spec)
+    if not _stocked(rstock, cstock, qlines, sol):
+        sol.seconds = time.perf_counter() - t0
+        return sol
+    floor2 = rin2_floor(spec, qlines, kind)
+    splits = CE_SPLITS if CHAINS[kind] == (CE, CE) else (None,)
+    end = deadline if deadline is not None else t0 + 60.0
+    seen = set()
+    for k, split in enumerate(splits):
+        if _stop(cancel, end, sol):
+            break
+        # The first split gets most of the time; later ones what is left, while a design is still missing.
+        if k and (sol.found or end - time.perf_counter() < 1.5):
+            break
+        slot_end = time.perf_counter() + (end - time.perf_counter()) * (0.8 if k + 1 < len(splits) else 1.0)
+        _one_split(kind, spec, split, floor2, rstock, cstock, qlines, depth, slot_end, cancel, sol, seen, progress)
+    if sol.stopped_by is None and deadline is not None and time.perf_counter() >= deadline:
+        sol.stopped_by = "time limit"
+    sol.shown = _shown(sol.found, prefer, top)
+    sol.seconds = time.perf_counter() - t0
+    return sol
+
+
+def _stocked(rstock, cstock, qlines, sol) -> bool:
+    """False (with the reason, proven) when the drawer cannot hold any chain at all."""
+    npn = sum(q.qty for q in qlines)
+    if not qlines:
+        sol.why.append("no usable NPN transistor line is in stock (a chain needs two NPN transistors)")
+    elif npn < 2:
+        q = qlines[0]
+        sol.why.append(f"the drawer lacks a second NPN: only one usable NPN transistor is in stock "
+                       f"({q.name}, line {q.line}); a chain needs two")
+        sol.hints.append({"position": "Q2", "buy": f"one more {q.name} (or any NPN with an hFE range)",
+                          "value": q.name, "effect": "a second transistor for the chain's second stage"})
+    if len(rstock.qty) == 0:
+        sol.why.append("no resistors are in stock")
+    if len(cstock.qty) == 0:
+        sol.why.append("no capacitors are in stock (a chain fits CIN, the interstage CIN_B and COUT_B)")
+    if sol.why:
+        sol.proven_none = True
+        return False
+    return True
+
+
+def _stop(cancel, end, sol) -> bool:
+    if cancel is not None and cancel.is_set():
+        sol.stopped_by = "cancelled"
+        return True
+    if time.perf_counter() >= end:
+        sol.stopped_by = sol.stopped_by or "time limit"
+        return True
+    return False
+
+
+def _run_stage(rstock, cstock, qlines, spec, depth, end, cancel, sol):
+    left = end - time.perf_counter()
+    if left <= 0.05:
+        return []
+    sub = stage_search(rstock, cstock, qlines, spec, top=FIRSTS, depth=depth, cancel=cancel,
+                       deadline=time.perf_counter() + left)
+    sol.stage_searches += 1
+    if not sub.designs:
+        from ..explain import reasons
+
+        sol.stage_empty.append((spec, reasons(sub, spec)[:2]))
+    return [half_of(sub, choice, row, spec.topology) for choice, row, _ in sub.designs]
+
+
+def _one_split(kind, spec, split, floor2, rstock, cstock, qlines, depth, end, cancel, sol, seen, progress):
+    index, spec_a = _first_plan(spec, kind, split, floor2)
+    start = time.perf_counter()
+    span = max(end - start, 0.0)
+    # The first search is the easier (a follower, or a stage of modest gain): a sixth of the time.
+    firsts = _run_stage(rstock, cstock, qlines, spec_a, depth, start + FIRST_SHARE * span, cancel, sol)
+    if progress:
+        progress(0.3, f"{len(firsts)} design(s) of the {'first' if index == 0 else 'second'} stage")
+    for j, h in enumerate(firsts):
+        if _stop(cancel, end, sol):
+            return
+        spec_b = _second_plan(spec, kind, h, index, floor2)
+        if spec_b is None:
+            sol.failed["gain spread"] += 1
+            continue
+        leave = ("COUT",) if index == 0 else ("CIN",)
+        r_left = less_stock(rstock, h.counter(leave_out=leave))
+        c_left = less_stock(cstock, h.counter(leave_out=leave))
+        q_left = less_transistor(qlines, h.q.line)
+        if not q_left:
+            sol.why.append("the drawer lacks a second NPN: the first stage takes the last one in stock")
+            continue
+        # Anytime: the most promising first design gets half of what is left, the next half of the rest, …
+        left = start + 0.85 * span - time.perf_counter()
+        slice_end = time.perf_counter() + left * (0.5 if j + 1 < len(firsts) else 1.0)
+        seconds = _run_stage(r_left, c_left, q_left, spec_b, depth, slice_end, cancel, sol)
+        for h2 in seconds[:SECONDS]:
+            pair = (h, h2) if index == 0 else (h2, h)
+            key = (tuple(sorted(pair[0].resistors.items())), tuple(sorted(pair[1].resistors.items())),
+                   pair[0].q.line, pair[1].q.line)
+            if key in seen:
+                continue
+            seen.add(key)
+            cand = _join(kind, spec, pair[0], pair[1], index)
+            cand.verdict = check_chain(cand.chain, spec, pair[0].q, pair[1].q, cand.ratings)
+            sol.pairs += 1
+            if cand.verdict.ok:
+                sol.found.append(cand)
+            else:
+                sol.failed.update(cand.verdict.failed)
+        if progress:
+            progress(0.3 + 0.6 * (j + 1) / len(firsts), f"{sol.pairs} chain(s) checked, {len(sol.found)} meet the spec")
+
+
+def _shown(found, prefer, top):
+    if not found:
+        return []
+    c = tradeoff.counts([x.part_count for x in found], [x.verdict.thd for x in found],
+                        [x.verdict.robustness for x in found], [x.verdict.supply_a for x in found])
+    front = tradeoff.nondominated(c)
+    return [(found[int(front[i])], labels) for i, labels in tradeoff.shown(c[front], prefer, top)]
+
+
+__all__ = ["search_chain", "ChainSolution", "Candidate", "corners"]
