@@ -46,7 +46,14 @@ FREE_GAIN = (0.5, 0.99)  # a follower's gain left free: 0.005 … 0.995
 THD_SHARE = {f"{EF}+{CE}": (0.1, 0.9), f"{CE}+{CE}": (0.4, 0.6), f"{CE}+{EF}": (0.5, 0.5)}  # (stage 1, stage 2)
 CE_SPLITS = (0.5, 0.4, 0.6)  # exponents of G given to the second stage of two common emitters
 MIN_TOL = 1e-3  # select.search matches the gain in 0.1 % steps
-FIRST_SHARE = 1 / 6  # of a split's time, for the stage designed first
+# Of a split's time, for the stage designed first: a follower is quick to design, a common emitter
+# of a share of the gain is as hard as the second stage.
+FIRST_SHARE = {f"{EF}+{CE}": 0.3, f"{CE}+{CE}": 0.4, f"{CE}+{EF}": 0.3}
+# select.search works past its deadline to realise the designs it shows (CP-SAT, loaded on first use):
+# each stage search is handed its slice less this much (measured 0.3–0.9 s on this project's machines).
+STAGE_RESERVE_S = 0.8
+SPLIT_MIN_S = 30.0  # time left below which the first gain split gets all of it
+CHECK_S = 0.4  # one chain checked at every corner (measured 0.35 s for 12 corners)
 
 
 @dataclass
@@ -212,9 +219,12 @@ def search_chain(rstock, cstock, qlines, spec, *, depth=2, deadline=None, cancel
         if _stop(cancel, end, sol):
             break
         # The first split gets most of the time; later ones what is left, while a design is still missing.
-        if k and (sol.found or end - time.perf_counter() < 1.5):
+        if k and (sol.found or end - time.perf_counter() < 3.0):
             break
-        slot_end = time.perf_counter() + (end - time.perf_counter()) * (0.8 if k + 1 < len(splits) else 1.0)
+        # A single-stage search needs seconds to get going: more than one split only on a long limit.
+        left = end - time.perf_counter()
+        share = 0.6 if k + 1 < len(splits) and left > SPLIT_MIN_S else 1.0
+        slot_end = time.perf_counter() + left * share
         _one_split(kind, spec, split, floor2, rstock, cstock, qlines, depth, slot_end, cancel, sol, seen, progress)
     if sol.stopped_by is None and deadline is not None and time.perf_counter() >= deadline:
         sol.stopped_by = "time limit"
@@ -255,8 +265,9 @@ def _stop(cancel, end, sol) -> bool:
 
 
 def _run_stage(rstock, cstock, qlines, spec, depth, end, cancel, sol):
-    left = end - time.perf_counter()
+    left = end - time.perf_counter() - STAGE_RESERVE_S
     if left <= 0.05:
+        sol.stage_empty.append((spec, ["no time was left for this stage's search"]))
         return []
     sub = stage_search(rstock, cstock, qlines, spec, top=FIRSTS, depth=depth, cancel=cancel,
                        deadline=time.perf_counter() + left)
@@ -264,7 +275,10 @@ def _run_stage(rstock, cstock, qlines, spec, depth, end, cancel, sol):
     if not sub.designs:
         from ..explain import reasons
 
-        sol.stage_empty.append((spec, reasons(sub, spec)[:2]))
+        why = reasons(sub, spec)[:2]
+        if sub.stopped_by:
+            why = [f"its search stopped ({sub.stopped_by}) after {sub.near.screened:,} value tuples"] + why[1:]
+        sol.stage_empty.append((spec, why))
     return [half_of(sub, choice, row, spec.topology) for choice, row, _ in sub.designs]
 
 
@@ -272,8 +286,7 @@ def _one_split(kind, spec, split, floor2, rstock, cstock, qlines, depth, end, ca
     index, spec_a = _first_plan(spec, kind, split, floor2)
     start = time.perf_counter()
     span = max(end - start, 0.0)
-    # The first search is the easier (a follower, or a stage of modest gain): a sixth of the time.
-    firsts = _run_stage(rstock, cstock, qlines, spec_a, depth, start + FIRST_SHARE * span, cancel, sol)
+    firsts = _run_stage(rstock, cstock, qlines, spec_a, depth, start + FIRST_SHARE[kind] * span, cancel, sol)
     if progress:
         progress(0.3, f"{len(firsts)} design(s) of the {'first' if index == 0 else 'second'} stage")
     for j, h in enumerate(firsts):
@@ -291,7 +304,7 @@ def _one_split(kind, spec, split, floor2, rstock, cstock, qlines, depth, end, ca
             sol.why.append("the drawer lacks a second NPN: the first stage takes the last one in stock")
             continue
         # Anytime: the most promising first design gets half of what is left, the next half of the rest, …
-        left = start + 0.85 * span - time.perf_counter()
+        left = start + span - SECONDS * CHECK_S - time.perf_counter()
         slice_end = time.perf_counter() + left * (0.5 if j + 1 < len(firsts) else 1.0)
         seconds = _run_stage(r_left, c_left, q_left, spec_b, depth, slice_end, cancel, sol)
         for h2 in seconds[:SECONDS]:
