@@ -23,6 +23,7 @@ from optimizer.spec import (
     Spec,
     default_rin_floor,
 )
+from optimizer.chain.names import CHAINS
 from optimizer.stage import TOPOLOGIES
 
 SPEC_DEFAULTS = Spec()
@@ -172,7 +173,7 @@ OPTIONAL = {f.name for f in FIELDS if f.default == ""}
 GROUPS = (("stage", "The stage"), ("limits", "Limits"), ("search", "Search"))
 
 # The choice fields (the form shows them as lists).
-TOPOLOGY_CHOICES = tuple((t, t) for t in TOPOLOGIES)
+TOPOLOGY_CHOICES = tuple((t, t) for t in (*TOPOLOGIES, *CHAINS))  # the two-stage chains too (optimizer/chain)
 DEPTH_CHOICES = (("1 part per position", 1), ("up to 2 in series/parallel", 2), ("up to 3 in series/parallel", 3))
 PREFER_CHOICES = tuple((f"{PREFER_WORDS.get(p, p)} first", p) for p in PREFERENCES)
 CHOICE_DEFAULTS = {"topology": _spec("topology"), "depth": _spec("max_parts_per_position"), "prefer": DEFAULT_PREFER}

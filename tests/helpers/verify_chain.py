@@ -140,3 +140,14 @@ def chain_failures(design: dict, spec, drawer) -> list[str]:
         if drawer.part_at(line) is None or drawer.part_at(line).qty < n:
             out.append(f"line {line}: {n} taken, fewer in stock")
     return out
+
+
+def chain_at(design: dict, spec, drawer, bf1, bf2, temp_c=27.0):
+    """The design as an optimizer.chain Chain at BF1, BF2 (values rebuilt from the drawer), the second
+    transistor's model named apart so a deck can set each transistor's BF on its own."""
+    from optimizer.chain.circuit import Chain
+
+    (k1, r1, c1, q1), (k2, r2, c2, q2) = stages_of(design, spec, drawer)
+    s1 = Stage(k1, r1, c1, spec.supply_v, spec.source_ohms, float("inf"), transistor_of(q1).with_beta(bf1), temp_c)
+    t2 = replace(transistor_of(q2).with_beta(bf2), name="second")
+    return Chain(design["topology"], s1, Stage(k2, r2, c2, spec.supply_v, 0.0, spec.load_ohms, t2, temp_c))
