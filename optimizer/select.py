@@ -454,7 +454,7 @@ def find_designs(drawer, spec, *, top=DEFAULT_TOP, depth=DEFAULT_DEPTH, min_yiel
         from .chain.result import find_chain_designs
 
         return find_chain_designs(drawer, spec, top=top, depth=depth, progress=progress, cancel=cancel, hints=hints,
-                                  prefer=prefer, time_limit_s=time_limit_s)
+                                  prefer=prefer, time_limit_s=time_limit_s, min_yield=min_yield)
 
     doc = {"designs": [], "why": [], "hints": [], "spec": result.spec_json(spec),
            "inventory": str(getattr(drawer, "path", "") or ""), "status": "unproven", "optimal": False,

@@ -95,3 +95,8 @@ def test_analyze_takes_a_chain_and_refuses_mixed_options(tmp_path):
     missing = drawerfit("analyze", "--topology", "common-emitter+common-emitter", "--r1", "47k", "--r2", "10k",
                         "--rc", "3k3", "--r1-b", "47k", "--r2-b", "10k")
     assert missing.returncode == 2 and "--rc-b" in missing.stderr
+
+
+def test_min_yield_is_refused_for_a_chain_not_ignored():
+    done = drawerfit("--inventory", str(DRAWER), *JOB, "--min-yield", "90%")
+    assert done.returncode == 2 and "--min-yield" in done.stderr

@@ -46,6 +46,9 @@ FREE_GAIN = (0.5, 0.99)  # a follower's gain left free: 0.005 … 0.995
 THD_SHARE = {f"{EF}+{CE}": (0.1, 0.9), f"{CE}+{CE}": (0.4, 0.6), f"{CE}+{EF}": (0.5, 0.5)}  # (stage 1, stage 2)
 CE_SPLITS = (0.5, 0.4, 0.6)  # exponents of G given to the second stage of two common emitters
 MIN_TOL = 1e-3  # select.search matches the gain in 0.1 % steps
+# The spread allowances above are bounds; when they leave less than this share of the chain's tolerance
+# the second stage gets this share all the same, and the whole-chain check decides.
+FLOOR_TOL_SHARE = 0.25
 # Of a split's time, for the stage designed first: a follower is quick to design, a common emitter
 # of a share of the gain is as hard as the second stage.
 FIRST_SHARE = {f"{EF}+{CE}": 0.3, f"{CE}+{CE}": 0.4, f"{CE}+{EF}": 0.3}
@@ -107,7 +110,7 @@ def _first_plan(spec, kind, split, rin2_floor):
     floor = max(spec.rin_floor, 1.0)
     loss = 2 * floor / (2 * floor + spec.source_ohms)
     g2 = (spec.gain / loss) ** split
-    return 1, replace(spec, topology=CE, gain=g2, gain_tol=max(MIN_TOL, spec.gain_tol / 2), source_ohms=0.0,
+    return 1, replace(spec, topology=CE, gain=g2, gain_tol=max(MIN_TOL, spec.gain_tol / 3), source_ohms=0.0,
                       max_thd=t2 * spec.max_thd, min_rin_ohms=rin2_floor, **base)
 
 
@@ -147,9 +150,7 @@ def _second_plan(spec, kind, first: Half, index, rin2_floor):
         # moves over its corners, and the second stage's input divider with it.
         r_lo, r_hi = float(m[:, 2].min()), float(m[:, 2].max())
         spread += 0.5 * (r_hi - r_lo) / (rin2_floor + r_lo)
-        tol = _tol_left(spec.gain_tol, spread)
-        if tol < MIN_TOL:
-            return None
+        tol = max(_tol_left(spec.gain_tol, spread), spec.gain_tol * FLOOR_TOL_SHARE)
         return replace(spec, topology=k2, gain=spec.gain / centre, gain_tol=tol, source_ohms=math.sqrt(r_lo * r_hi),
                        max_thd=t2 * spec.max_thd, min_rin_ohms=rin2_floor, **base)
     m = _corner_midband(first, spec, source_ohms=0.0, load_ohms=spec.load_ohms)
@@ -159,9 +160,7 @@ def _second_plan(spec, kind, first: Half, index, rin2_floor):
     # about its load: a bound taken as the allowance, common practice, no source).
     z_lo, z_hi = float(m[:, 1].min()), float(m[:, 1].max())
     spread += 0.5 * (math.sqrt(z_hi / z_lo) - 1.0)
-    tol = _tol_left(spec.gain_tol, spread)
-    if tol < MIN_TOL:
-        return None
+    tol = max(_tol_left(spec.gain_tol, spread), spec.gain_tol * FLOOR_TOL_SHARE)
     low = float(np.abs(m[:, 0]).min())
     return replace(spec, topology=k1, gain=spec.gain / centre, gain_tol=tol, load_ohms=math.sqrt(z_lo * z_hi),
                    swing_pp=spec.swing_pp / max(low, 1e-9), max_thd=t1 * spec.max_thd, **base)
