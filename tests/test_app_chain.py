@@ -8,9 +8,9 @@ import shutil
 import pytest
 from textual.widgets import Static
 
+from tests.test_cli_chain import DRAWER, JOB
 from tui.app import make_app
 from tui.cli import main
-from tests.test_cli_chain import DRAWER, JOB
 
 pytestmark = pytest.mark.tui
 

@@ -78,7 +78,8 @@ def simulate(ch, bf1, bf2, temp_c, amp, f_low):
               (f"ac dec 400 {f_low / 3:.6g} {f_low * 3:.6g}", ["v(out)"]),
               (f"tran {period / 256:.6g} {12 * period:.6g} 0 {period / 256:.6g}\nlinearize v(out)", ["v(out)"])]
     # tests.spice.ACCURATE (reltol 1e-6, abstol 1e-12) stalls the transient's first step on the high-gain
-    # chains ("timestep too small" at Q2); reltol 1e-5 (vntol left at its default) still leaves its error far below the tolerances here.
+    # chains ("timestep too small" at Q2); reltol 1e-5 (vntol left at its default) still leaves its error
+    # far below the tolerances here.
     res = spice.run(bench, blocks, options=".options reltol=1e-5")
     dc = {n: float(res[0][f"v({n})"][0].real) for n in probes}
     h = complex(res[1]["v(out)"][0])

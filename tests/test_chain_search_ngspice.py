@@ -5,15 +5,13 @@ deviations."""
 
 from __future__ import annotations
 
-from pathlib import Path
-
 import pytest
 
 from inventory.drawer import Drawer
 from optimizer.select import find_designs
 from optimizer.spec import Spec
-from tests.test_chain_ngspice import DEVIATIONS, simulate, summary  # noqa: F401  (the module's summary fixture)
 from tests.helpers.verify_chain import chain_at
+from tests.test_chain_ngspice import DEVIATIONS, simulate, summary  # noqa: F401  (the module's summary fixture)
 from tests.test_cli_chain import DRAWER
 
 pytestmark = pytest.mark.ngspice

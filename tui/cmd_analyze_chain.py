@@ -24,7 +24,8 @@ def add_flags(p) -> None:
     """The second stage's options (-b) on the analyze parser."""
     for flag in FLAGS:
         unit = "FARADS" if flag.startswith("c") else "OHMS"
-        p.add_argument(f"--{flag}-b", metavar=unit, help=f"chains: the second stage's {flag.upper()} ({flag.upper()}_B)")
+        name = flag.upper()
+        p.add_argument(f"--{flag}-b", metavar=unit, help=f"chains: the second stage's {name} ({name}_B)")
     p.add_argument("--hfe-b", help="chains: Q2's hFE (BF) at 27 °C (default: --hfe)")
 
 

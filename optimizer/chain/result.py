@@ -22,7 +22,8 @@ from .deck import chain_netlist
 from .search import search_chain
 
 ORIENTATION_NODES = {"in": "the input", "x": "the first stage's output", "out": "the output", "0": "ground",
-                     "base1": "Q1's base", "emit1": "Q1's emitter", "coll1": "Q1's collector", "mid1": "the RE1–RE2 junction",
+                     "base1": "Q1's base", "emit1": "Q1's emitter", "coll1": "Q1's collector",
+                     "mid1": "the RE1–RE2 junction",
                      "base2": "Q2's base", "emit2": "Q2's emitter", "coll2": "Q2's collector",
                      "mid2": "the RE1_B–RE2_B junction"}
 POST_S_PER_DESIGN = 0.6  # the exact analysis of one chain shown (three corners, the response, THD)

@@ -29,8 +29,8 @@ def main(argv=None) -> None:
     ap.add_argument("--time-limit", type=float, default=90.0)
     ap.add_argument("--json", help="also write the result document here")
     args = ap.parse_args(argv)
-    from inventory.locate import demo_bytes
     from inventory.drawer import Drawer
+    from inventory.locate import demo_bytes
     from optimizer.select import find_designs
     from optimizer.spec import Spec
 
@@ -52,9 +52,11 @@ def main(argv=None) -> None:
         p = d["predicted"]
         print(f"#{i} {d['best_for']} parts {d['score']['parts']}: gain {p['gain']:.2f}, Rin {p['rin']:.4g} Ω, "
               f"Rout {p['rout']:.4g} Ω, f_low {p['f_low']:.3g} Hz, THD {100 * p['thd']:.3f} %")
-        print("   " + ", ".join(f"{k}={v.get('ohms') or v.get('farads') or v.get('part')}" for k, v in d["parts"].items()))
+        values = (f"{k}={v.get('ohms') or v.get('farads') or v.get('part')}" for k, v in d["parts"].items())
+        print("   " + ", ".join(values))
         c = d["corners"].values()
-        print(f"   over {len(d['corners'])} corners: gain {min(x['gain'] for x in c):.2f} … {max(x['gain'] for x in c):.2f}, "
+        print(f"   over {len(d['corners'])} corners: gain {min(x['gain'] for x in c):.2f} … "
+              f"{max(x['gain'] for x in c):.2f}, "
               f"Rin {min(x['rin'] for x in c):.4g} … {max(x['rin'] for x in c):.4g} Ω, "
               f"THD {100 * min(x['thd'] for x in c):.3f} … {100 * max(x['thd'] for x in c):.3f} %")
         if shutil.which("ngspice"):

@@ -37,7 +37,7 @@ def _value(part: dict, unit: str, drawer) -> float:
     """The network's value rebuilt from the drawer lines it names."""
 
     def leaf_value(leaf):
-        return getattr(drawer.part_at(leaf.line), "value")
+        return drawer.part_at(leaf.line).value
 
     node = network_tree.from_json(part["network"], unit_key=unit)
     kind = "resistor" if unit == "ohms" else "capacitor"
@@ -47,7 +47,7 @@ def _value(part: dict, unit: str, drawer) -> float:
 def stages_of(design: dict, spec, drawer):
     """(kind, resistors, capacitors, transistor line Part) of each stage, values from the drawer."""
     out = []
-    for k, stage in enumerate(design["stages"]):
+    for stage in design["stages"]:
         res, caps = {}, {}
         for pos in stage["positions"]:
             own = "Q1" if pos == "Q2" else (pos[:-2] if pos.endswith("_B") else pos)
@@ -127,7 +127,7 @@ def chain_failures(design: dict, spec, drawer) -> list[str]:
     for u in design["uses"]:
         used[int(u["line"])] += int(u["qty"])
     counted = Counter()
-    for pos, part in design["parts"].items():
+    for part in design["parts"].values():
         if "network" in part:
             for leaf in network_tree.leaves(network_tree.from_json(part["network"],
                                                                    unit_key="ohms" if "ohms" in part else "farads")):
