@@ -20,7 +20,7 @@ def saved(tmp_path_factory):
     folder = tmp_path_factory.mktemp("chain")
     drawer = folder / "drawer.csv"
     shutil.copy(DRAWER, drawer)
-    assert main(["--inventory", str(drawer), *JOB, "--time-limit", "12", "--top", "2", "--save",
+    assert main(["--inventory", str(drawer), *JOB, "--time-limit", "20", "--top", "2", "--save",
                  str(folder / "chain.json")]) == 0
     return drawer, folder / "chain.json"
 

@@ -20,7 +20,7 @@ SPEC = Spec(topology="common-emitter+emitter-follower", gain=10, source_ohms=1e3
 
 @pytest.fixture(scope="module")
 def doc():
-    return find_designs(Drawer.load(DRAWER), SPEC, time_limit_s=12)
+    return find_designs(Drawer.load(DRAWER), SPEC, time_limit_s=20)
 
 
 def test_found_chains_agree_with_ngspice(doc):

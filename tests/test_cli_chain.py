@@ -24,10 +24,16 @@ def drawerfit(*args):
 
 
 @pytest.fixture(scope="module")
-def found():
-    done = drawerfit("--inventory", str(DRAWER), *JOB, "--time-limit", "12", "--json")
+def saved(tmp_path_factory):
+    path = tmp_path_factory.mktemp("chain") / "chain.json"
+    done = drawerfit("--inventory", str(DRAWER), *JOB, "--time-limit", "20", "--json", "--save", str(path))
     assert done.returncode == 0, done.stderr + done.stdout[-2000:]
-    return json.loads(done.stdout)
+    return json.loads(done.stdout), path
+
+
+@pytest.fixture(scope="module")
+def found(saved):
+    return saved[0]
 
 
 def test_design_finds_a_chain_exit_0_with_stages(found):
@@ -53,6 +59,20 @@ def test_design_human_sheet_covers_both_stages(found):
     for meter in ("Q1 VB", "Q1 VE", "Q1 VC", "Q2 VB", "Q2 VE", "Q2 VC"):
         assert meter in out
     assert "not proven optimal" in out
+
+
+def test_sheet_files_of_a_chain(saved, tmp_path):
+    """The pick list names both stages' positions; the SPICE bench runs the chain's own deck; the formats
+    that draw one stage say plainly that they do not cover chains (exit 2, no traceback)."""
+    _, path = saved
+    csv = drawerfit("--inventory", str(DRAWER), "sheet", str(path), "--format", "csv")
+    assert csv.returncode == 0, csv.stderr
+    assert "Q2" in csv.stdout and "CIN_B" in csv.stdout
+    cir = drawerfit("--inventory", str(DRAWER), "sheet", str(path), "--format", "cir")
+    assert cir.returncode == 0, cir.stderr
+    assert "Q2 " in cir.stdout and ".four" in cir.stdout and "RS src in" in cir.stdout
+    md = drawerfit("--inventory", str(DRAWER), "sheet", str(path), "--format", "md")
+    assert md.returncode == 2 and "two-stage chain" in md.stderr and "Traceback" not in md.stderr
 
 
 def test_one_npn_exits_3_naming_the_missing_transistor(tmp_path):

@@ -67,3 +67,32 @@ def chain_netlist(chain: Chain, parts: dict, *, title: str | None = None) -> str
     lines += [t.spice_model(model_name(line)) for line, t in models.items()]
     lines.append(".end")
     return "\n".join(lines) + "\n"
+
+
+def chain_of_design(design: dict, spec: dict) -> Chain:
+    """The Chain of a chain design document entry (values from its parts, the saved spec's supply,
+    source and load; Q1's model from "hfe", Q2's from "hfe_b", each at its typical hFE)."""
+    from dataclasses import replace
+
+    from ..deck import transistor_of_design
+    from ..stage import Stage
+
+    load = spec.get("load_ohms")
+    stages = []
+    for k, s in enumerate(design["stages"]):
+        res, caps = {}, {}
+        for pos in s["positions"]:
+            own = "Q1" if pos == "Q2" else (pos[:-2] if pos.endswith("_B") else pos)
+            part = design["parts"][pos]
+            if "ohms" in part:
+                res[own] = float(part["ohms"])
+            elif "farads" in part:
+                caps[own] = float(part["farads"])
+        if k == 0:
+            t = transistor_of_design(design)
+        else:
+            t = transistor_of_design({"parts": {"Q1": design["parts"]["Q2"]}, "hfe": design.get("hfe_b") or {}})
+        stages.append(Stage(s["kind"], res, caps, float(spec["supply_v"]),
+                            float(spec.get("source_ohms") or 0.0) if k == 0 else 0.0,
+                            float("inf") if k == 0 or load is None else float(load), t, 27.0))
+    return Chain(design["topology"], stages[0], replace(stages[1], supply_v=stages[0].supply_v))
