@@ -42,6 +42,7 @@ def render(doc: dict, pick: int, fmt: str, source: str) -> str:
             amp = float(f.amplitude[0]) if f.reached[0] else 0.01
     except (KeyError, TypeError, ValueError, RuntimeError) as exc:
         raise SheetInputError(f"{source}: design {pick} cannot be read back ({exc})") from None
-    deck = design["netlist"].replace("\n.end", f"\n* Source level {amp:.4g} V peak: {swing:g} V p-p at the load.\n.end", 1)
+    note = f"\n* Source level {amp:.4g} V peak: {swing:g} V p-p at the load.\n.end"
+    deck = design["netlist"].replace("\n.end", note, 1)
     return bench(deck, source_ohms=float(spec.get("source_ohms") or 0.0), load_ohms=chain.second.load_ohms,
                  amplitude_v=amp, signal_hz=1e3, save_nodes=("x", "vcc"))
