@@ -5,8 +5,9 @@ from __future__ import annotations
 import math
 from dataclasses import asdict, dataclass
 
-from .chain.names import CHAINS
-from .stage import TOPOLOGIES
+from optimizer import kinds
+from optimizer.chain.names import CHAINS
+from optimizer.physics.stage import TOPOLOGIES
 
 # Defaults a practitioner assumes without saying them (one place: the CLI and the app read these).
 DEFAULT_MAX_THD = 0.01  # 1 % THD at the asked swing: a clean small-signal stage (common practice, no source)
@@ -26,6 +27,14 @@ DEFAULT_DEPTH = 2  # parts per position: single parts, series and parallel pairs
 def default_rin_floor(source_ohms: float) -> float:
     """Ω: the input resistance asked for when the user names none: 10 × the source, at least 1 kΩ."""
     return max(RIN_FLOOR_SOURCE_RATIO * float(source_ohms), RIN_FLOOR_MIN_OHMS)
+
+
+# `--topology any`: search every kind the request can use (optimizer/search/across.py).
+ANY_TOPOLOGY = "any"
+
+
+def _article(word: str) -> str:
+    return "an" if word[:1] in "aeiou" else "a"
 
 
 @dataclass(frozen=True)
@@ -94,8 +103,10 @@ class Spec:
                 out.append(f"{flag.strip()}: {x!r} is not a finite number")
         if out:
             return out
-        if self.topology not in TOPOLOGIES and self.topology not in CHAINS:
-            out.append(f"--topology: {self.topology!r} is not one of {', '.join((*TOPOLOGIES, *CHAINS))}")
+        kind = kinds.get(self.topology) if self.topology in TOPOLOGIES else None
+        if kind is None and self.topology != ANY_TOPOLOGY and self.topology not in CHAINS:
+            out.append(f"--topology: {self.topology!r} is not one of "
+                       f"{', '.join((*TOPOLOGIES, ANY_TOPOLOGY, *CHAINS))}")
         if not self.supply_v > 0:
             out.append(f"--supply: {self.supply_v:g} V; the supply must be positive")
         elif self.supply_v > 60:
@@ -104,8 +115,9 @@ class Spec:
             out.append(f"--gain: {self.gain:g}; the gain is a magnitude and must be above 0")
         elif not 0.01 <= self.gain <= 1e4:
             out.append(f"--gain: {self.gain:g}; one stage gives a gain between 0.01 and 10000")
-        if self.topology == "emitter-follower" and self.gain > 1:
-            out.append(f"--gain: {self.gain:g}; an emitter follower's gain is below 1")
+        if kind is not None and kind.max_gain is not None and self.gain > kind.max_gain:
+            out.append(f"--gain: {self.gain:g}; {_article(self.topology)} {self.topology} stage's gain is below "
+                       f"{kind.max_gain:g}")
         if not 0 < self.gain_tol < 1:
             out.append(f"--gain-tol: {self.gain_tol:g}; expected a fraction between 0 and 1 (0.05 = ±5 %)")
         elif self.gain_tol < 1e-3:

@@ -3,8 +3,8 @@
 from __future__ import annotations
 
 from optimizer.chain.circuit import Chain
-from optimizer.stage import Stage
-from optimizer.transistor import Transistor, is_from_vbe
+from optimizer.physics.stage import Stage
+from optimizer.physics.transistor import Transistor, is_from_vbe
 
 Q = Transistor(name="test NPN", bf=245.0, is_a=float(is_from_vbe(0.66)), vaf_v=90.0, hfe_min=150, hfe_max=400)
 CE_A = ({"R1": 82e3, "R2": 15e3, "RC": 8.2e3, "RE1": 330.0, "RE2": 1.2e3}, {"CIN": 2.2e-6, "CE": 100e-6})

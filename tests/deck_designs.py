@@ -8,7 +8,7 @@ from __future__ import annotations
 
 import math
 
-from optimizer import network_tree
+from optimizer.parts import network_tree
 
 SPEC = {"supply_v": 12.0, "source_ohms": 1e3, "load_ohms": 22e3, "swing_pp": 2.0, "temp_range_c": [0.0, 50.0],
         "gain": 5.0, "gain_tol": 0.1, "low_cut_hz": 50.0}
@@ -74,8 +74,8 @@ DESIGNS = {
 def full_design(d: dict, spec: dict = SPEC, mc: dict | None = None) -> dict:
     """A design document entry for a hand-made design: the analysis' figures at typical hFE and both ends,
     its response, warnings and cautions, and its deck, as `design --save` writes them."""
-    from optimizer.analysis import analyze
-    from optimizer.deck import design_netlist, stage_of_design
+    from optimizer.physics.analysis import analyze
+    from optimizer.physics.deck import design_netlist, stage_of_design
 
     out = dict(d)
     stage = stage_of_design(d, spec)

@@ -1,7 +1,7 @@
 """A checker of the design-netlist contract (README "The netlist of a design"), rule by rule.
 
 `lint(deck, positions)` returns one message per broken rule (empty when the deck keeps
-the contract).  It is written from the contract's text, not from optimizer/deck.py, and
+the contract).  It is written from the contract's text, not from optimizer/physics/deck.py, and
 tests/test_deck.py shows it catching a deck broken in each way.  SPICE facts it relies on
 (from the ngspice manual): the first line is the title; names are case-insensitive, so a
 value's `M` suffix means milli and `meg` mega; a letter after a number is read as a scale

@@ -1,10 +1,10 @@
 """Independent oracles for the stage model, written straight from the schematic.
 
-Nothing here uses optimizer.bias/smallsignal/swing: the DC point comes from
+Nothing here uses optimizer.physics.bias/smallsignal/swing: the DC point comes from
 nested scalar root-finds (scipy.optimize.brentq) on Kirchhoff's current law at
 each node, and the signal circuit (capacitors held at their DC charge, as
 midband) from scipy.optimize.root on the node equations.  Only the transistor
-equations (optimizer.transistor.terminal_currents) are shared, on purpose: they
+equations (optimizer.physics.transistor.terminal_currents) are shared, on purpose: they
 are the model ngspice also evaluates.
 """
 
@@ -15,7 +15,7 @@ from dataclasses import dataclass, field
 import numpy as np
 from scipy.optimize import brentq, root
 
-from optimizer.transistor import Transistor, terminal_currents
+from optimizer.physics.transistor import Transistor, terminal_currents
 
 
 @dataclass

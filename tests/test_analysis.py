@@ -7,9 +7,9 @@ import math
 
 import pytest
 
-from optimizer.analysis import PREDICTED_KEYS, analyze
-from optimizer.stage import Stage
-from optimizer.transistor import Transistor
+from optimizer.physics.analysis import PREDICTED_KEYS, analyze
+from optimizer.physics.stage import Stage
+from optimizer.physics.transistor import Transistor
 
 
 def ce(**kw) -> Stage:

@@ -12,10 +12,10 @@ import json
 import numpy as np
 import pytest
 
-from optimizer.analysis import analyze
-from optimizer.circuit import build, operating_point
-from optimizer.stage import Stage
-from optimizer.transistor import Transistor
+from optimizer.physics.analysis import analyze
+from optimizer.physics.circuit import build, operating_point
+from optimizer.physics.stage import Stage
+from optimizer.physics.transistor import Transistor
 
 pytestmark = pytest.mark.fuzz
 

@@ -99,7 +99,7 @@ async def test_follower_drops_the_gain_and_its_stale_error(demo_drawer):
 
 
 async def test_search_gets_every_option_and_shows_progress_then_stops(demo_drawer, monkeypatch):
-    from optimizer import select
+    from optimizer.search import select
 
     seen = {}
     doc = trade_doc()
@@ -141,7 +141,7 @@ async def test_search_gets_every_option_and_shows_progress_then_stops(demo_drawe
 
 
 async def test_stop_says_so_within_a_second_when_the_search_is_slow_to_hand_back(demo_drawer, monkeypatch):
-    from optimizer import select
+    from optimizer.search import select
 
     release = threading.Event()
 

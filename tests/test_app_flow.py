@@ -29,10 +29,14 @@ REQUEST = {"#r-gain": "10", "#r-supply": "12V", "#r-load": "22k", "#r-source": "
            "#r-low_cut": "30", "#r-min_rin": "8k"}
 
 
-async def solve(pilot, fields: dict[str, str]) -> None:
+async def solve(pilot, fields: dict[str, str], topology: str | None = "common-emitter") -> None:
+    """Fill the request form and search; `topology` picks the Stage (the form starts on `any`)."""
     await pilot.press("d")
     await pilot.pause()
     assert isinstance(pilot.app.screen, RequestScreen)
+    if topology is not None:
+        pilot.app.screen.query_one("#topology").value = topology
+        await pilot.pause()
     for selector, text in fields.items():
         await type_into(pilot, selector, text)
     await pilot.press("f5")
@@ -112,7 +116,7 @@ async def test_infeasible_request_shows_the_reasons(demo_drawer):
 async def test_escape_stops_a_running_solve(demo_drawer, monkeypatch):
     import threading
 
-    from optimizer import select
+    from optimizer.search import select
 
     real = select.find_designs
     app = make_app(demo_drawer)

@@ -4,8 +4,8 @@ from __future__ import annotations
 
 import pytest
 
-from optimizer.network_tree import Leaf, Parallel, Series, to_json
-from optimizer.stage import CAPACITOR_POSITIONS, RESISTOR_POSITIONS, TOPOLOGIES
+from optimizer.parts.network_tree import Leaf, Parallel, Series, to_json
+from optimizer.physics.stage import CAPACITOR_POSITIONS, RESISTOR_POSITIONS, TOPOLOGIES
 from tui.schematic import draw_stage
 from tui.sheet_text import network_text
 

@@ -19,7 +19,7 @@ from textual.worker import WorkerState
 
 from inventory.drawer import Drawer
 from inventory.store import Store
-from optimizer import crosscheck as xc
+from optimizer.physics import crosscheck as xc
 from tui.app import make_app
 from tui.cli import main
 from tui.cmd_design import fingerprint

@@ -5,10 +5,10 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from optimizer import bias
-from optimizer.screen import screen
-from optimizer.stage import RESISTOR_POSITIONS
-from optimizer.transistor import Transistor, terminal_currents
+from optimizer.physics import bias
+from optimizer.physics.screen import screen
+from optimizer.physics.stage import RESISTOR_POSITIONS
+from optimizer.physics.transistor import Transistor, terminal_currents
 from tests.screen_oracle import Oracle
 
 Q = Transistor()

@@ -14,9 +14,9 @@ import numpy as np
 import pytest
 from scipy.optimize import brentq
 
-from optimizer.bias import thevenin
-from optimizer.decompose import ibe_bracket, ic_bracket
-from optimizer.screen import screen
+from optimizer.physics.bias import thevenin
+from optimizer.search.decompose import ibe_bracket, ic_bracket
+from optimizer.physics.screen import screen
 from tests.test_select_oracle import qline
 
 T = qline(30, "BC547B", 200, 450).transistor

@@ -16,10 +16,12 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from optimizer import capchoice, lowcut, objective
-from optimizer.capacitors import capacitor_options
-from optimizer.feasible import check
-from optimizer.oracle import _best_caps
+from optimizer.parts import capchoice
+from optimizer.physics import lowcut
+from optimizer.search import objective
+from optimizer.parts.capacitors import capacitor_options
+from optimizer.search.feasible import check
+from optimizer.search.oracle import _best_caps
 from tests.demo_job import JOB_LEGACY as JOB
 from tests.test_select_oracle import qline
 
@@ -105,8 +107,8 @@ def test_fast_test_agrees_with_f_low_root_search():
     # f_low by root search on the exact AC response (analysis.py) is the definition of the −3 dB point.
     from dataclasses import replace
 
-    from optimizer.analysis import analyze
-    from optimizer.stage import Stage
+    from optimizer.physics.analysis import analyze
+    from optimizer.physics.stage import Stage
 
     row = _row("bypassed")
     test = lowcut.LowCut("common-emitter", row, JOB)

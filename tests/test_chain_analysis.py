@@ -12,8 +12,8 @@ import pytest
 from optimizer.chain.analysis import analyze_chain
 from optimizer.chain.circuit import Chain
 from optimizer.chain.figures import _pick, figures, transfer
-from optimizer.circuit import NODES, build, operating_point, solve_small_signal
-from optimizer.stage import Stage
+from optimizer.physics.circuit import NODES, build, operating_point, solve_small_signal
+from optimizer.physics.stage import Stage
 from tests.chain_designs import KINDS, chain
 
 CORNERS = [(150.0, 150.0, 27.0), (400.0, 150.0, 0.0), (150.0, 400.0, 50.0)]

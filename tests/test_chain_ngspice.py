@@ -13,8 +13,8 @@ import pytest
 from optimizer.chain.circuit import build_net
 from optimizer.chain.deck import chain_netlist, deck_nodes
 from optimizer.chain.figures import figures
-from optimizer.crosscheck import with_bf
-from optimizer.distortion import thd_of
+from optimizer.physics.crosscheck import with_bf
+from optimizer.physics.distortion import thd_of
 from tests import spice
 from tests.chain_designs import KINDS, chain
 

@@ -12,7 +12,7 @@ from pathlib import Path
 import pytest
 
 from inventory.drawer import Drawer
-from optimizer.select import find_designs
+from optimizer.search.select import find_designs
 from optimizer.spec import Spec
 from tests.deck_lint import lint
 from tests.helpers.verify_chain import chain_failures

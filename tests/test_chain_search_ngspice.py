@@ -8,7 +8,7 @@ from __future__ import annotations
 import pytest
 
 from inventory.drawer import Drawer
-from optimizer.select import find_designs
+from optimizer.search.select import find_designs
 from optimizer.spec import Spec
 from tests.helpers.verify_chain import chain_at
 from tests.test_chain_ngspice import DEVIATIONS, simulate, summary  # noqa: F401  (the module's summary fixture)

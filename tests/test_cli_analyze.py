@@ -6,7 +6,7 @@ import json
 
 import pytest
 
-from optimizer.analysis import PREDICTED_KEYS
+from optimizer.physics.analysis import PREDICTED_KEYS
 from tui.cli import main
 
 EXAMPLE = ("--topology common-emitter --r1 56k --r2 12k --rc 4k7 --re1 470 --re2 680 --cin 4u7 --cout 10u "

@@ -9,7 +9,7 @@ import json
 
 import pytest
 
-import optimizer.select as select
+import optimizer.search.select as select
 from optimizer import spec as spec_module
 from tui import cmd_design
 from tui.cli import main
@@ -23,7 +23,7 @@ def calls(tmp_path, monkeypatch):
     monkeypatch.delenv("DRAWERFIT_INVENTORY", raising=False)
     (tmp_path / "drawer.csv").write_bytes(DRAWER)
     seen = []
-    from optimizer.result import spec_json
+    from optimizer.search.result import spec_json
 
     def recorder(drawer, spec, **kw):
         seen.append((spec, kw))

@@ -149,12 +149,12 @@ def test_broken_pipe_in_process_is_exit_141(drawer, monkeypatch):
 
 # Ctrl-C during any command: exit 130, one line, the drawer untouched.
 def test_ctrl_c_exits_130_with_one_line(drawer, monkeypatch, capsys):
-    import optimizer.select
+    import optimizer.search.select
 
     def interrupted(*a, **k):
         raise KeyboardInterrupt
 
-    monkeypatch.setattr(optimizer.select, "find_designs", interrupted)
+    monkeypatch.setattr(optimizer.search.select, "find_designs", interrupted)
     before = drawer.read_bytes()
     assert main(["design", "--gain", "5"]) == 130
     err = capsys.readouterr().err.strip()

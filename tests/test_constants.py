@@ -5,7 +5,7 @@ from __future__ import annotations
 import pytest
 from scipy import constants
 
-from optimizer import transistor
+from optimizer.physics import transistor
 
 
 def test_boltzmann_over_q_and_zero_celsius_match_scipy():

@@ -16,9 +16,9 @@ import subprocess
 
 import pytest
 
-from optimizer import crosscheck as xc
-from optimizer.deck import stage_of_design
-from optimizer.distortion import distortion
+from optimizer.physics import crosscheck as xc
+from optimizer.physics.deck import stage_of_design
+from optimizer.physics.distortion import distortion
 from tests.conftest import need_program
 from tests.sheet_files import save_demo, save_networks
 from tui.cli import main

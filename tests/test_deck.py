@@ -7,8 +7,8 @@ import re
 
 import pytest
 
-from optimizer import network_tree
-from optimizer.deck import design_netlist, spice_value, stage_of_design
+from optimizer.parts import network_tree
+from optimizer.physics.deck import design_netlist, spice_value, stage_of_design
 from tests.deck_designs import DESIGNS, SPEC
 from tests.deck_lint import lint
 

@@ -1,5 +1,5 @@
 """Each design's own deck, with a source, a load and an analysis added, simulated in ngspice (an
-independent simulator) and compared with optimizer.analysis.analyze of the same stage.
+independent simulator) and compared with optimizer.physics.analysis.analyze of the same stage.
 
 Same transistor card on both sides, so the tolerances are tight: the midband gain within 0.1 %, the DC
 node voltages within 1 mV, Rin within 0.5 %.  Polarised capacitors must have their first node (the +
@@ -15,10 +15,10 @@ import subprocess
 import pytest
 
 from inventory.drawer import Drawer
-from optimizer.analysis import analyze
-from optimizer.deck import deck_nodes, design_netlist, stage_of_design
-from optimizer.result import spec_json
-from optimizer.select import find_designs
+from optimizer.physics.analysis import analyze
+from optimizer.physics.deck import deck_nodes, design_netlist, stage_of_design
+from optimizer.search.result import spec_json
+from optimizer.search.select import find_designs
 from tests import spice
 from tests.deck_designs import DESIGNS, SPEC
 from tests.deck_lint import lint

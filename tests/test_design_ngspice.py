@@ -12,10 +12,10 @@ from __future__ import annotations
 import pytest
 
 from inventory.drawer import Drawer
-from optimizer.netlist import node_names, to_netlist
-from optimizer.select import find_designs
-from optimizer.stage import Stage
-from optimizer.transistor import Transistor
+from optimizer.physics.netlist import node_names, to_netlist
+from optimizer.search.select import find_designs
+from optimizer.physics.stage import Stage
+from optimizer.physics.transistor import Transistor
 from tests import spice
 from tests.demo_job import DEMO, JOB
 

@@ -14,7 +14,7 @@ import time
 import pytest
 
 from inventory.drawer import Drawer
-from optimizer.select import find_designs
+from optimizer.search.select import find_designs
 from optimizer.spec import Spec
 from tests.demo_job import DEMO
 from tests.helpers.verify import verify_design

@@ -8,10 +8,10 @@ import numpy as np
 import pytest
 from scipy.special import iv
 
-from optimizer.circuit import build
-from optimizer.distortion import distortion, drive_for_swing, thd_of
-from optimizer.stage import Stage
-from optimizer.transistor import Transistor
+from optimizer.physics.circuit import build
+from optimizer.physics.distortion import distortion, drive_for_swing, thd_of
+from optimizer.physics.stage import Stage
+from optimizer.physics.transistor import Transistor
 
 
 def ce(re1: float | None, bf: float = 200.0, vaf: float = 100.0, rs: float = 1e3) -> Stage:

@@ -15,7 +15,7 @@ import pytest
 
 from inventory.drawer import Drawer
 from inventory.eseries import SERIES
-from optimizer.analysis import analyze
+from optimizer.physics.analysis import analyze
 from optimizer.spec import Spec
 from tests.bench import hand as hm
 from tests.bench.specs import si_text

@@ -10,9 +10,9 @@ from types import SimpleNamespace as NS
 
 import numpy as np
 
-from optimizer.explain import reasons
-from optimizer.hints import shopping_hints
-from optimizer.select import search
+from optimizer.search.explain import reasons
+from optimizer.search.hints import shopping_hints
+from optimizer.search.select import search
 from optimizer.spec import Spec
 from tests.demo_job import LEGACY
 from tests.test_select_oracle import CAPS, QS, capacitors, resistors
@@ -117,7 +117,7 @@ def test_capacitors_too_small_are_explained_by_the_rc_corner():
 
 def test_no_hint_is_searched_when_physics_rules_the_spec_out():
     # gm·RC bound as above: no bought part raises (VCC − VCE(sat) − swing/2)/Vt, so no hint is tried.
-    from optimizer.explain import no_purchase_helps
+    from optimizer.search.explain import no_purchase_helps
 
     spec = Spec(gain=500, gain_tol=0.05, supply_v=12, load_ohms=22e3, source_ohms=1e3, swing_pp=5, low_cut_hz=30)
     sol = search(resistors(GOOD), CAPS, QS, spec, depth=2)

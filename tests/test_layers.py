@@ -20,7 +20,7 @@ def test_import_contracts_hold():
     assert done.returncode == 0, done.stdout + done.stderr
 
 
-@pytest.mark.parametrize("module", ["inventory.drawer", "inventory.store", "optimizer.select", "optimizer.analysis", "tui.cli"])
+@pytest.mark.parametrize("module", ["inventory.drawer", "inventory.store", "optimizer.search.select", "optimizer.physics.analysis", "tui.cli"])
 def test_headless_modules_do_not_import_textual(module):
     code = f"import sys, {module}; print('textual' in sys.modules)"
     done = subprocess.run([sys.executable, "-c", code], cwd=ROOT, capture_output=True, text=True)

@@ -5,10 +5,10 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from optimizer import network_tree as nt
-from optimizer.montecarlo import monte_carlo, worst_case
+from optimizer.parts import network_tree as nt
+from optimizer.physics.montecarlo import monte_carlo, worst_case
 from optimizer.spec import Spec
-from optimizer.transistor import Transistor, beta_at, saturation_current, thermal_voltage
+from optimizer.physics.transistor import Transistor, beta_at, saturation_current, thermal_voltage
 
 Q = Transistor(hfe_min=100.0, hfe_max=400.0)
 NETWORKS = {

@@ -6,9 +6,9 @@ import math
 
 import pytest
 
-from optimizer.netlist import node_names, to_netlist
-from optimizer.stage import Stage
-from optimizer.transistor import Transistor
+from optimizer.physics.netlist import node_names, to_netlist
+from optimizer.physics.stage import Stage
+from optimizer.physics.transistor import Transistor
 
 Q = Transistor(bf=150.0, vaf_v=80.0)
 

@@ -20,11 +20,11 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from optimizer import network_tree as nt
-from optimizer.network_table import (
+from optimizer.parts import network_tree as nt
+from optimizer.parts.network_table import (
     PARALLEL2, PARALLEL3, PARALLEL_IN_SERIES, SERIES2, SERIES3, SERIES_IN_PARALLEL, SINGLE, argsort_positive,
 )
-from optimizer.networks import resistor_networks
+from optimizer.parts.networks import resistor_networks
 
 E12 = (1.0, 1.2, 1.5, 1.8, 2.2, 2.7, 3.3, 3.9, 4.7, 5.6, 6.8, 8.2)  # IEC 60063 E12 mantissas
 

@@ -16,9 +16,9 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from optimizer import network_tree as nt
-from optimizer.capacitors import capacitor_options
-from optimizer.network_table import PARALLEL2, SINGLE
+from optimizer.parts import network_tree as nt
+from optimizer.parts.capacitors import capacitor_options
+from optimizer.parts.network_table import PARALLEL2, SINGLE
 
 
 def stock(farads, qty, voltage_v=50.0, polarised=False, tolerance=0.1):

@@ -1,7 +1,7 @@
 """The netlist as a user would run it: `ngspice -b deck.cir`, nothing added.
 
 Oracle: ngspice 39's own operating point printout and its `.four` Fourier analysis
-(THD over the last period of the .tran), against optimizer.analysis.
+(THD over the last period of the .tran), against optimizer.physics.analysis.
 """
 
 from __future__ import annotations
@@ -11,10 +11,10 @@ import subprocess
 
 import pytest
 
-from optimizer.analysis import analyze
-from optimizer.netlist import to_netlist
-from optimizer.stage import Stage
-from optimizer.transistor import Transistor
+from optimizer.physics.analysis import analyze
+from optimizer.physics.netlist import to_netlist
+from optimizer.physics.stage import Stage
+from optimizer.physics.transistor import Transistor
 from tests.conftest import need_program
 
 pytestmark = pytest.mark.ngspice

@@ -1,6 +1,6 @@
 """The exact analysis (and the fast screen model) against ngspice on generated stages.
 
-Oracle: ngspice 39 simulating the netlist from optimizer.netlist, with the same
+Oracle: ngspice 39 simulating the netlist from optimizer.physics.netlist, with the same
 Gummel–Poon `.model` card (Transistor.spice_model()).  Tolerances from the
 brief: DC node voltages 10 mV, midband gain 1 %, input resistance 2 %, f_low 3 %,
 THD 20 % relative or 0.1 % absolute.  The largest deviation of each figure is
@@ -15,12 +15,12 @@ import time
 import numpy as np
 import pytest
 
-from optimizer.analysis import analyze
-from optimizer.circuit import OPEN_LOAD_OHMS
-from optimizer.distortion import thd_of
-from optimizer.netlist import node_names, to_netlist
-from optimizer.stage import COLLECTOR_FEEDBACK, COMMON_EMITTER, EMITTER_FOLLOWER, Stage
-from optimizer.transistor import Transistor, is_from_vbe
+from optimizer.physics.analysis import analyze
+from optimizer.physics.circuit import OPEN_LOAD_OHMS
+from optimizer.physics.distortion import thd_of
+from optimizer.physics.netlist import node_names, to_netlist
+from optimizer.physics.stage import COLLECTOR_FEEDBACK, COMMON_EMITTER, EMITTER_FOLLOWER, Stage
+from optimizer.physics.transistor import Transistor, is_from_vbe
 from tests import spice
 
 pytestmark = pytest.mark.ngspice
@@ -210,7 +210,7 @@ def test_analysis_matches_ngspice(topology, k, stage):
 
 def _check_screen(stage: Stage, sim: dict) -> None:
     """The fast screen model against the same ngspice run (its model assumes both coupling capacitors)."""
-    screen = pytest.importorskip("optimizer.screen").screen
+    screen = pytest.importorskip("optimizer.physics.screen").screen
     if not {"CIN", "COUT"} <= stage.capacitors.keys():
         return
     s = screen(stage.topology, stage.resistors, transistor=stage.transistor, supply_v=stage.supply_v,

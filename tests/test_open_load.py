@@ -10,11 +10,11 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from optimizer import ce_boxes
-from optimizer.feasible import check
+from optimizer.kinds import common_emitter_bounds as ce_boxes
+from optimizer.search.feasible import check
 from optimizer.spec import Spec
 from tests.test_select_oracle import CAPS, QS, qline, resistors
-from optimizer.select import search
+from optimizer.search.select import search
 
 SPEC = Spec(gain=4.5, gain_tol=0.1, supply_v=15.8, load_ohms=float("inf"), source_ohms=600.0, swing_pp=1.26,
             low_cut_hz=29.0, max_supply_a=1e-3, temp_range_c=(27.0, 27.0))

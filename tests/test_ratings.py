@@ -5,10 +5,10 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from optimizer import network_tree as nt
-from optimizer.ratings import check_ratings, part_dissipation
-from optimizer.screen import screen
-from optimizer.transistor import Transistor
+from optimizer.parts import network_tree as nt
+from optimizer.physics.ratings import check_ratings, part_dissipation
+from optimizer.physics.screen import screen
+from optimizer.physics.transistor import Transistor
 
 Q = Transistor(name="Q", vceo_v=40.0, ic_max_a=0.1, pd_max_w=0.5)
 CE = {"R1": 47e3, "R2": 10e3, "RC": 4.7e3, "RE1": 220.0, "RE2": 820.0}

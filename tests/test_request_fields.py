@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import pytest
 
-from optimizer.select import DEFAULT_PREFER, DEFAULT_TIME_LIMIT_S
+from optimizer.search.select import DEFAULT_PREFER, DEFAULT_TIME_LIMIT_S
 from optimizer.spec import Spec, default_rin_floor
 from tui import request_fields as rf
 
@@ -43,8 +43,8 @@ def test_every_cli_design_option_is_offered():
 
 
 def test_follower_is_not_asked_for_a_gain():
-    spec, _, problems = rf.build_request({"gain": "12"}, {"topology": rf.FOLLOWER})
-    assert problems == {} and spec.gain == rf.FOLLOWER_GAIN < 1
+    spec, _, problems = rf.build_request({"gain": "12"}, {"topology": "emitter-follower"})
+    assert problems == {} and spec.gain == rf.preset_gain("emitter-follower") < 1
     _, _, problems = rf.build_request({"gain": "12"}, {"topology": "common-emitter"})
     assert problems == {}
 

@@ -8,11 +8,11 @@ import numpy as np
 import pytest
 from scipy.optimize import brentq
 
-from optimizer.analysis import analyze
-from optimizer.circuit import build, junction, operating_point
-from optimizer.response import capacitor_corners, lower_corner, midband, transfer
-from optimizer.stage import Stage
-from optimizer.transistor import Transistor, thermal_voltage
+from optimizer.physics.analysis import analyze
+from optimizer.physics.circuit import build, junction, operating_point
+from optimizer.physics.response import capacitor_corners, lower_corner, midband, transfer
+from optimizer.physics.stage import Stage
+from optimizer.physics.transistor import Transistor, thermal_voltage
 
 
 def ce_stage(**kw) -> Stage:

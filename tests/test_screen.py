@@ -5,8 +5,8 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from optimizer.screen import screen
-from optimizer.transistor import Transistor
+from optimizer.physics.screen import screen
+from optimizer.physics.transistor import Transistor
 from tests.screen_oracle import Oracle
 from tests.test_bias import random_stages
 

@@ -1,6 +1,6 @@
 """The bundled demo drawer: the gain-of-10 job, every design re-checked by the exact analysis.
 
-The exact analysis (optimizer/analysis.py) solves the circuit node by node, a
+The exact analysis (optimizer/physics/analysis.py) solves the circuit node by node, a
 different code path from the vectorised screen the solver uses, so agreement
 here is a check of the solver's physics, not a restatement of it.
 """
@@ -12,11 +12,11 @@ import time
 import pytest
 
 from inventory.drawer import Drawer
-from optimizer.analysis import analyze
-from optimizer.select import find_designs
+from optimizer.physics.analysis import analyze
+from optimizer.search.select import find_designs
 from optimizer.spec import Spec
-from optimizer.stage import Stage
-from optimizer.transistor import Transistor
+from optimizer.physics.stage import Stage
+from optimizer.physics.transistor import Transistor
 from tests.demo_job import DEMO, JOB
 
 

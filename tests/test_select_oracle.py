@@ -1,4 +1,4 @@
-"""The solver against the exhaustive oracle (optimizer/oracle.py) on small drawers.
+"""The solver against the exhaustive oracle (optimizer/search/oracle.py) on small drawers.
 
 The oracle is plain enumeration: every network per position, every capacitor
 combination, every transistor line, the same physics and trade-off counts, no pruning,
@@ -17,10 +17,10 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from inventory.parts import Part
-from optimizer.candidates import QLine, transistor_of
-from optimizer import tradeoff
-from optimizer.oracle import TooBig, oracle_front
-from optimizer.select import search
+from optimizer.search.candidates import QLine, transistor_of
+from optimizer.search import tradeoff
+from optimizer.search.oracle import TooBig, oracle_front
+from optimizer.search.select import search
 from optimizer.spec import Spec
 
 # E12 values near what a gain-of-10 stage on 12 V wants; the drawers are drawn from these.
@@ -66,7 +66,7 @@ def solver_front(rs, cs, qs, spec, depth, prefer="balanced", top=5):
 
 def check_stock(sol, rs, cs, qs):
     """Every returned design takes no line beyond its count, across all positions together."""
-    from optimizer.result import uses_of
+    from optimizer.search.result import uses_of
 
     qty = {int(a): int(b) for a, b in zip(rs.line, rs.qty, strict=True)}
     qty.update({int(a): int(b) for a, b in zip(cs.line, cs.qty, strict=True)})

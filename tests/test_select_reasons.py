@@ -8,7 +8,7 @@ sets it, and that a proof and a time-out are told apart (exit 3 against exit 4 i
 from __future__ import annotations
 
 from inventory.drawer import Drawer
-from optimizer.select import find_designs
+from optimizer.search.select import find_designs
 from optimizer.spec import Spec
 from tests.demo_job import DEMO
 

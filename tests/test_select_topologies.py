@@ -1,7 +1,7 @@
 """Emitter follower and collector feedback: the solver against brute force.
 
 Two independent references, both plain enumeration with the same physics and no pruning:
-  * optimizer.oracle.oracle_front: every network per position, every capacitor combination, every
+  * optimizer.search.oracle.oracle_front: every network per position, every capacitor combination, every
     transistor line, the same physics and the same trade-off counts (equal trade-off sets show the
     box search, the lazy front and the CP-SAT realisation are exact);
   * the full mesh of value tuples through feasible.check: the box search (follower_boxes.py,
@@ -21,12 +21,12 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from optimizer.feasible import check
-from optimizer.feedback_boxes import feedback_chunks
-from optimizer.follower_boxes import follower_chunks
-from optimizer.oracle import TooBig, oracle_front
+from optimizer.search.feasible import check
+from optimizer.kinds.collector_feedback_bounds import feedback_chunks
+from optimizer.kinds.emitter_follower_bounds import follower_chunks
+from optimizer.search.oracle import TooBig, oracle_front
 from optimizer.spec import Spec
-from optimizer.stage import COLLECTOR_FEEDBACK, EMITTER_FOLLOWER
+from optimizer.physics.stage import COLLECTOR_FEEDBACK, EMITTER_FOLLOWER
 from tests.test_select_oracle import CAPS, POOL, QS, check_preferred, check_stock, resistors, solver_front
 
 # Our own scenarios: a follower driving 10 kΩ, an inverting gain-of-4 stage with feedback.
@@ -168,7 +168,7 @@ def test_boxes_keep_every_tuple_fuzz(topology, data):
 ], ids=["follower", "feedback"])
 def test_impossible_spec_on_demo_drawer_depth3(spec):
     from inventory.drawer import Drawer
-    from optimizer.select import find_designs
+    from optimizer.search.select import find_designs
 
     t0 = time.perf_counter()
     doc = find_designs(Drawer.load(DEMO), spec, depth=3, hints=False, time_limit_s=600)

@@ -11,9 +11,9 @@ import re
 import pytest
 
 from inventory.values import format_capacitance, format_resistance
-from optimizer.analysis import analyze
-from optimizer.deck import stage_of_design
-from optimizer.meter import meter_checks
+from optimizer.physics.analysis import analyze
+from optimizer.physics.deck import stage_of_design
+from optimizer.physics.meter import meter_checks
 from tests.deck_lint import lint
 from tests.test_deck import spice_reads
 from tests.sheet_files import save_demo, save_networks

@@ -5,9 +5,9 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from optimizer.largesignal import transfer
-from optimizer.screen import screen
-from optimizer.transistor import Transistor
+from optimizer.physics.largesignal import transfer
+from optimizer.physics.screen import screen
+from optimizer.physics.transistor import Transistor
 from tests.screen_oracle import Oracle
 from tests.test_swing import STAGES
 

@@ -11,12 +11,12 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from optimizer.distortion import distortion
-from optimizer.feasible import THD_SAFETY
-from optimizer.screen import screen
-from optimizer.stage import COLLECTOR_FEEDBACK, COMMON_EMITTER, EMITTER_FOLLOWER, Stage
-from optimizer.thd_screen import thd_at_swing
-from optimizer.transistor import Transistor
+from optimizer.physics.distortion import distortion
+from optimizer.search.feasible import THD_SAFETY
+from optimizer.physics.screen import screen
+from optimizer.physics.stage import COLLECTOR_FEEDBACK, COMMON_EMITTER, EMITTER_FOLLOWER, Stage
+from optimizer.physics.thd_screen import thd_at_swing
+from optimizer.physics.transistor import Transistor
 
 RNG = np.random.default_rng(20261202)
 

@@ -8,7 +8,7 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from optimizer import tradeoff
+from optimizer.search import tradeoff
 
 
 def _brute_front(c):

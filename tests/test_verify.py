@@ -2,7 +2,7 @@
 
 A good stage passes; deliberately bad ones fail for the right reason.  The stage's THD is
 compared with ngspice's `.four` (marked `ngspice`): the oracle is ngspice simulating the same
-netlist (optimizer.netlist) with the same Gummel–Poon card.
+netlist (optimizer.physics.netlist) with the same Gummel–Poon card.
 """
 
 from __future__ import annotations

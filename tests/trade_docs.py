@@ -14,7 +14,7 @@ import json
 from pathlib import Path
 
 from inventory.drawer import Drawer
-from optimizer.select import find_designs
+from optimizer.search.select import find_designs
 
 from .demo_job import DEMO, JOB
 

@@ -1,4 +1,4 @@
-"""The readable sheet `drawerfit analyze` prints: what optimizer.analysis computed, formatted."""
+"""The readable sheet `drawerfit analyze` prints: what optimizer.physics.analysis computed, formatted."""
 
 from __future__ import annotations
 

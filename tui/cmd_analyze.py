@@ -16,8 +16,8 @@ from pathlib import Path
 from inventory.atomic import atomic_write
 from inventory.values import ValueFormatError, parse_capacitance, parse_number, parse_resistance, parse_voltage
 from optimizer.chain.names import CHAINS
-from optimizer.stage import CAPACITOR_POSITIONS, OPTIONAL_POSITIONS, RESISTOR_POSITIONS, TOPOLOGIES, Stage
-from optimizer.transistor import Transistor, is_from_vbe
+from optimizer.physics.stage import CAPACITOR_POSITIONS, OPTIONAL_POSITIONS, RESISTOR_POSITIONS, TOPOLOGIES, Stage
+from optimizer.physics.transistor import Transistor, is_from_vbe
 
 from . import cmd_analyze_chain
 from .analyze_sheet import sheet
@@ -138,8 +138,8 @@ def stage_from_args(args) -> tuple[Stage, float | None]:
 
 def run(args) -> int:
     # Imported here: scipy and the nodal solver cost a second that other subcommands need not pay.
-    from optimizer.analysis import analyze
-    from optimizer.netlist import to_netlist
+    from optimizer.physics.analysis import analyze
+    from optimizer.physics.netlist import to_netlist
 
     if args.topology in CHAINS:
         return cmd_analyze_chain.run_chain(args, stage_from_args, _resistors, _capacitors, InputError)

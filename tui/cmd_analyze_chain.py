@@ -70,7 +70,7 @@ def chain_from_args(args, stage_from_args, resistors, capacitors, error):
 def run_chain(args, stage_from_args, resistors, capacitors, error) -> int:
     from optimizer.chain.analysis import analyze_chain
     from optimizer.chain.deck import chain_netlist
-    from optimizer.crosscheck import bench
+    from optimizer.physics.crosscheck import bench
 
     try:
         chain, swing = chain_from_args(args, stage_from_args, resistors, capacitors, error)

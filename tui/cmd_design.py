@@ -31,6 +31,7 @@ from inventory.values import (
     parse_voltage,
 )
 from optimizer.spec import (
+    ANY_TOPOLOGY,
     DEFAULT_DEPTH,
     DEFAULT_MAX_THD,
     DEFAULT_MIN_VCE_V,
@@ -42,7 +43,7 @@ from optimizer.spec import (
     Spec,
 )
 from optimizer.chain.names import CHAINS
-from optimizer.stage import TOPOLOGIES
+from optimizer.physics.stage import TOPOLOGIES
 
 from . import cmd_build
 from .cmd_common import InputError, drawer_path, load_drawer, say, value, whole
@@ -60,8 +61,10 @@ def register(sub) -> None:
                        description="Find the stages that meet the spec at both ends of the transistor's hFE "
                                    "range and of the temperature range, using only the parts on hand.  "
                                    "Values as on the parts: 22k, 4k7, 12V, 1.8k, 4.7e-6.")
-    p.add_argument("--topology", default="common-emitter", choices=(*TOPOLOGIES, *CHAINS),
-                   help="the stage, or a two-stage chain (FIRST+SECOND, e.g. emitter-follower+common-emitter)")
+    p.add_argument("--topology", default="common-emitter", choices=(*TOPOLOGIES, ANY_TOPOLOGY, *CHAINS),
+                   help="the kind of stage, or `any`: every kind the drawer can build, one trade-off set "
+                        "across them (default common-emitter), or a two-stage chain FIRST+SECOND "
+                        "(e.g. emitter-follower+common-emitter)")
     p.add_argument("--gain", required=True, help="gain magnitude (a common emitter reports it negative)")
     p.add_argument("--gain-tol", default="0.05", help="allowed gain error: 5%% or 0.05 (default ±5 %%)")
     d = DEFAULTS
@@ -168,7 +171,7 @@ def run_design(args) -> int:
         return 2
     for prob in drawer.errors:
         say(f"warning: {prob} (line left out)")
-    from optimizer.select import find_designs  # OR-Tools and scipy load only for a design
+    from optimizer.search.select import find_designs  # OR-Tools and scipy load only for a design
 
     with _progress_bar() as progress:
         doc = find_designs(drawer, spec, depth=spec.max_parts_per_position, hints=not args.no_hints,

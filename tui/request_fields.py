@@ -1,7 +1,7 @@
 """The design request's fields: one list, with one set of defaults, for the app's form and the CLI.
 
 Every default is read from the solver's own definitions (`optimizer.spec.Spec` field
-defaults and constants, `optimizer.select`'s preference and time limit), spelled as a user
+defaults and constants, `optimizer.search.select`'s preference and time limit), spelled as a user
 would type it.  Each field knows its CLI option, its parser and, for the form, its label and
 a one-line hint.  Headless: no Textual here.
 """
@@ -14,6 +14,7 @@ from dataclasses import dataclass, fields
 
 from inventory import values
 from optimizer.spec import (
+    ANY_TOPOLOGY,
     DEFAULT_PREFER,
     DEFAULT_TIME_LIMIT_S,
     DEFAULT_TOP,
@@ -23,14 +24,17 @@ from optimizer.spec import (
     Spec,
     default_rin_floor,
 )
-from optimizer.chain.names import CHAINS
-from optimizer.stage import TOPOLOGIES
+from optimizer import kinds
+from optimizer.physics.stage import TOPOLOGIES
 
 SPEC_DEFAULTS = Spec()
-FOLLOWER = "emitter-follower"
-# A follower's gain is just under 1 by nature; it is not asked for, the request takes 0.95 ± 5 %
-# (0.90…1.00).  Common practice, no source.
-FOLLOWER_GAIN = 0.95
+
+
+def preset_gain(topology) -> float | None:
+    """The gain a request asks of a kind whose gain is set by nature (a follower's), else None."""
+    return kinds.get(topology).preset_gain if topology in TOPOLOGIES else None
+
+
 PREFER_WORDS = {"balanced": "balanced", "parts": "fewest parts", "clean": "cleanest (least THD)",
                 "robust": "most robust (widest margin)", "frugal": "least supply current"}
 
@@ -173,10 +177,17 @@ OPTIONAL = {f.name for f in FIELDS if f.default == ""}
 GROUPS = (("stage", "The stage"), ("limits", "Limits"), ("search", "Search"))
 
 # The choice fields (the form shows them as lists).
-TOPOLOGY_CHOICES = tuple((t, t) for t in (*TOPOLOGIES, *CHAINS))  # the two-stage chains too (optimizer/chain)
+# The two-stage chains (optimizer/chain) are not in the form yet: the Stage list is in the request
+# snapshots; a saved chain opens in the app all the same.
+TOPOLOGY_CHOICES = (("any kind that fits", ANY_TOPOLOGY),) + tuple((t, t) for t in TOPOLOGIES)
 DEPTH_CHOICES = (("1 part per position", 1), ("up to 2 in series/parallel", 2), ("up to 3 in series/parallel", 3))
 PREFER_CHOICES = tuple((f"{PREFER_WORDS.get(p, p)} first", p) for p in PREFERENCES)
 CHOICE_DEFAULTS = {"topology": _spec("topology"), "depth": _spec("max_parts_per_position"), "prefer": DEFAULT_PREFER}
+
+
+# The app's form starts on every kind (`any`); the request's own default (Spec, and the CLI for
+# scripts) stays one kind, so a script's output does not change kind under it.
+APP_CHOICES = {**CHOICE_DEFAULTS, "topology": ANY_TOPOLOGY}
 
 
 def rin_floor_text(source_text: str) -> str:
@@ -197,11 +208,11 @@ def build_request(texts: dict[str, str], choices: dict[str, object]) -> tuple[Sp
     spec_kw: dict[str, object] = {"topology": choices.get("topology", CHOICE_DEFAULTS["topology"]),
                                   "max_parts_per_position": int(choices.get("depth", CHOICE_DEFAULTS["depth"]))}
     search_kw: dict[str, object] = {"prefer": choices.get("prefer", CHOICE_DEFAULTS["prefer"])}
-    follower = spec_kw["topology"] == FOLLOWER
+    preset = preset_gain(spec_kw["topology"])
     for f in FIELDS:
         text = texts.get(f.name, f.default)
-        if follower and f.name == "gain":
-            value: object = FOLLOWER_GAIN
+        if preset is not None and f.name == "gain":
+            value: object = preset
         elif text.strip() == "" and f.name in OPTIONAL:
             value = None
         else:
@@ -219,7 +230,7 @@ def build_request(texts: dict[str, str], choices: dict[str, object]) -> tuple[Sp
     for problem in spec.problems():
         option, _, text = problem.partition(": ")
         name = by_option.get(option, "")
-        if follower and name == "gain":
+        if preset is not None and name == "gain":
             name = ""
         problems[name] = f"{problems[name]}; {text}" if name in problems else (text if name else problem)
     return (None if problems else spec), search_kw, problems

@@ -7,6 +7,8 @@ labels each with its part value in RKM (a series/parallel network spelled out, e
 
 from __future__ import annotations
 
+from optimizer import kinds
+
 from .sheet_text import network_text
 from .widgets import figures
 
@@ -101,8 +103,9 @@ def draw_stage(design: dict, *, supply_v: float | None = None, source_ohms: floa
     c.put(0, GROUND_Y, "0 V ")
     c.hline(4, X_LOAD, GROUND_Y)
 
-    follower = topology == "emitter-follower"
-    feedback = topology == "collector-feedback"
+    kind = kinds.get(topology)
+    follower = kind.output == "e"  # drawn from what the kind declares, not its name
+    feedback = kind.bias == "feedback"
     # Collector: RC from the rail, or the rail straight down for a follower.
     c.put(X_C, 0, "┐")
     if follower:

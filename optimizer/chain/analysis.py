@@ -13,12 +13,12 @@ from dataclasses import dataclass, field, replace
 
 import numpy as np
 
-from ..analysis import CAUTIONS, Report, _plain, analyze
-from ..response import CURVE_HZ
-from .circuit import Chain
-from .deck import positive_nodes
-from .figures import figures, transfer
-from .names import CHAINS, second
+from optimizer.chain.circuit import Chain
+from optimizer.chain.deck import positive_nodes
+from optimizer.chain.figures import figures, transfer
+from optimizer.chain.names import CHAINS, second
+from optimizer.physics.analysis import CAUTIONS, Report, _plain, analyze
+from optimizer.physics.response import CURVE_HZ
 
 STAGE_KEYS = ("gain", "vb", "ve", "vc", "ic", "rin", "rout", "swing_pp")
 # Stage warnings that say nothing about a chain (its coupling is the interstage capacitor).
@@ -45,7 +45,7 @@ class ChainReport:
 
 def positions(chain: Chain, which: int) -> list[str]:
     """The chain design's position names of one stage (the second's suffixed; CIN_B the interstage)."""
-    from ..stage import CAPACITOR_POSITIONS, RESISTOR_POSITIONS
+    from optimizer.physics.stage import CAPACITOR_POSITIONS, RESISTOR_POSITIONS
 
     s = chain.first if which == 0 else chain.second
     names = [p for p in RESISTOR_POSITIONS[s.topology] if s.r(p) > 0]

@@ -17,11 +17,13 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from ..analysis import CUTOFF_A
-from ..capchoice import CAP_VOLTAGE_MARGIN as RATING_FACTOR  # rating ≥ 1.5 × the DC across, as for one stage
-from ..feasible import TRANSISTOR_PD_DERATING
-from .circuit import Chain
-from .figures import Figures, figures
+from optimizer.chain.circuit import Chain
+from optimizer.chain.figures import Figures, figures
+from optimizer.parts.capchoice import (
+    CAP_VOLTAGE_MARGIN as RATING_FACTOR,  # rating ≥ 1.5 × the DC across, as for one stage
+)
+from optimizer.physics.analysis import CUTOFF_A
+from optimizer.search.feasible import TRANSISTOR_PD_DERATING
 
 SIGN = {"emitter-follower+common-emitter": -1, "common-emitter+common-emitter": 1,
         "common-emitter+emitter-follower": -1}

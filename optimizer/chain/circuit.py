@@ -20,10 +20,10 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..circuit import Part, _pnjlim, build
-from ..stage import Stage
-from ..transistor import beta_at, saturation_current, terminal_currents, thermal_voltage
-from .names import SUFFIX
+from optimizer.chain.names import SUFFIX
+from optimizer.physics.circuit import Part, _pnjlim, build
+from optimizer.physics.stage import Stage
+from optimizer.physics.transistor import beta_at, saturation_current, terminal_currents, thermal_voltage
 
 FIRST_KEEP = {"0": "0", "vcc": "vcc", "src": "src", "in": "in", "out": "x"}
 SECOND_KEEP = {"0": "0", "vcc": "vcc", "in": "x", "out": "out"}

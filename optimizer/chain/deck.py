@@ -11,8 +11,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from ..deck import _leaves_between, model_name, spice_value
-from .circuit import Chain, Net, build_net, operating_point
+from optimizer.chain.circuit import Chain, Net, build_net, operating_point
+from optimizer.physics.deck import _leaves_between, model_name, spice_value
 
 RANK = ("0", "vcc", "in", "out", "x")
 SURROUNDINGS = ("RS", "RL")
@@ -74,8 +74,8 @@ def chain_of_design(design: dict, spec: dict) -> Chain:
     source and load; Q1's model from "hfe", Q2's from "hfe_b", each at its typical hFE)."""
     from dataclasses import replace
 
-    from ..deck import transistor_of_design
-    from ..stage import Stage
+    from optimizer.physics.deck import transistor_of_design
+    from optimizer.physics.stage import Stage
 
     load = spec.get("load_ohms")
     stages = []

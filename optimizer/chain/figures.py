@@ -13,9 +13,18 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..distortion import HARMONICS, VCE_SAT_V
-from ..swing import CUTOFF_FRACTION
-from .circuit import Chain, Net, build_net, dc_links, operating_point, q_currents, solve_nonlinear, solve_small_signal
+from optimizer.chain.circuit import (
+    Chain,
+    Net,
+    build_net,
+    dc_links,
+    operating_point,
+    q_currents,
+    solve_nonlinear,
+    solve_small_signal,
+)
+from optimizer.physics.distortion import HARMONICS, VCE_SAT_V
+from optimizer.physics.swing import CUTOFF_FRACTION
 
 SCAN_HZ = np.logspace(-4, 9, 261)
 POINTS = 256

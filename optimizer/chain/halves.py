@@ -11,9 +11,9 @@ from dataclasses import dataclass, field, fields, replace
 
 import numpy as np
 
-from .. import network_tree
-from ..result import capacitors_of, networks_of
-from ..stage import Stage
+from optimizer.parts import network_tree
+from optimizer.physics.stage import Stage
+from optimizer.search.result import capacitors_of, networks_of
 
 
 @dataclass

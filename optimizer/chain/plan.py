@@ -12,11 +12,11 @@ from dataclasses import replace
 
 import numpy as np
 
-from ..circuit import build, operating_point
-from ..response import midband
-from ..spec import OPEN_LOAD_OHMS
-from .halves import Half
-from .names import CE, CHAINS, EF
+from optimizer.chain.halves import Half
+from optimizer.chain.names import CE, CHAINS, EF
+from optimizer.physics.circuit import build, operating_point
+from optimizer.physics.response import midband
+from optimizer.spec import OPEN_LOAD_OHMS
 
 FREE_GAIN = (0.5, 0.99)  # a follower's gain left free: 0.005 … 0.995
 THD_SHARE = {f"{EF}+{CE}": (0.1, 0.9), f"{CE}+{CE}": (0.4, 0.6), f"{CE}+{EF}": (0.5, 0.5)}  # (stage 1, stage 2)

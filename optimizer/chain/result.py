@@ -13,13 +13,13 @@ from __future__ import annotations
 import time
 from dataclasses import replace
 
-from ..analysis import _plain
-from ..candidates import usable_transistors
-from ..result import spec_json
-from .analysis import analyze_chain
-from .check import corners as chain_corners
-from .deck import chain_netlist
-from .search import search_chain
+from optimizer.chain.analysis import analyze_chain
+from optimizer.chain.check import corners as chain_corners
+from optimizer.chain.deck import chain_netlist
+from optimizer.chain.search import search_chain
+from optimizer.physics.analysis import _plain
+from optimizer.search.candidates import usable_transistors
+from optimizer.search.result import spec_json
 
 ORIENTATION_NODES = {"in": "the input", "x": "the first stage's output", "out": "the output", "0": "ground",
                      "base1": "Q1's base", "emit1": "Q1's emitter", "coll1": "Q1's collector",

@@ -27,13 +27,13 @@ import time
 from collections import Counter
 from dataclasses import dataclass, field, replace
 
-from .. import tradeoff
-from ..select import search as stage_search
-from .check import Verdict, check_chain, corners
-from .circuit import Chain
-from .halves import Half, half_of, less_stock, less_transistor
-from .names import CE, CHAINS, EF, second
-from .plan import CE_SPLITS, first_plan, rin2_floor, second_plan
+from optimizer.chain.check import Verdict, check_chain, corners
+from optimizer.chain.circuit import Chain
+from optimizer.chain.halves import Half, half_of, less_stock, less_transistor
+from optimizer.chain.names import CE, CHAINS, EF, second
+from optimizer.chain.plan import CE_SPLITS, first_plan, rin2_floor, second_plan
+from optimizer.search import tradeoff
+from optimizer.search.select import search as stage_search
 
 FIRSTS = 3  # designs of the first search carried on
 SECONDS = 3  # designs of each second search
@@ -174,7 +174,7 @@ def _run_stage(rstock, cstock, qlines, spec, depth, end, cancel, sol):
                        deadline=time.perf_counter() + left)
     sol.stage_searches += 1
     if not sub.designs:
-        from ..explain import reasons
+        from optimizer.search.explain import reasons
 
         why = reasons(sub, spec)[:2]
         if sub.stopped_by:

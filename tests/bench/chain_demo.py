@@ -31,7 +31,7 @@ def main(argv=None) -> None:
     args = ap.parse_args(argv)
     from inventory.drawer import Drawer
     from inventory.locate import demo_bytes
-    from optimizer.select import find_designs
+    from optimizer.search.select import find_designs
     from optimizer.spec import Spec
 
     drawer = Drawer.from_bytes(demo_bytes(), "demo drawer.csv")

@@ -15,7 +15,7 @@ from types import SimpleNamespace
 import numpy as np
 
 from inventory.eseries import series_values
-from optimizer.networks import resistor_networks
+from optimizer.parts.networks import resistor_networks
 
 SIZES = (50, 150, 300, 1000)
 SEED = 20261201

@@ -15,10 +15,10 @@ import time
 
 import numpy as np
 
-from optimizer import network_tree as nt
-from optimizer.montecarlo import monte_carlo, worst_case
-from optimizer.screen import screen
-from optimizer.transistor import Transistor
+from optimizer.parts import network_tree as nt
+from optimizer.physics.montecarlo import monte_carlo, worst_case
+from optimizer.physics.screen import screen
+from optimizer.physics.transistor import Transistor
 
 RANGES = {  # ohms, log-uniform; "0" marks positions left out for a fifth of the candidates
     "common-emitter": {"R1": (4.7e3, 1e6), "R2": (1e3, 220e3), "RC": (470, 47e3), "RE1": (0, 10, 2.2e3), "RE2": (0, 100, 10e3)},

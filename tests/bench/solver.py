@@ -71,8 +71,8 @@ def job():
 def one(kind: str, n: int, depth: int) -> dict:
     import resource
 
-    from optimizer.oracle import TooBig, oracle_front
-    from optimizer.select import search
+    from optimizer.search.oracle import TooBig, oracle_front
+    from optimizer.search.select import search
 
     rs, cs, qs = drawer(n)
     if kind == "solver":

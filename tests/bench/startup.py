@@ -22,7 +22,7 @@ from pathlib import Path
 ROOT = Path(__file__).resolve().parents[2]
 DEMO = ROOT / "inventory" / "demo" / "drawer.csv"
 
-# Stop at find_designs: print the clock and leave without searching.  optimizer.select is imported
+# Stop at find_designs: print the clock and leave without searching.  optimizer.search.select is imported
 # where the command imports it (inside run_design), so its cost counts as it does for a user.
 PROBE = """
 import sys, time
@@ -32,7 +32,7 @@ def stop(*a, **k):
     print(repr(time.time()), flush=True)
     raise SystemExit(0)
 def probe(args):
-    import optimizer.select as s
+    import optimizer.search.select as s
     s.find_designs = stop
     return real(args)
 cd.run_design = probe
@@ -42,7 +42,7 @@ sys.exit(main(sys.argv[1:]))
 
 
 def to_search(n: int = 5) -> list[float]:
-    """Seconds from spawn to find_designs, with optimizer.select imported when the CLI imports it."""
+    """Seconds from spawn to find_designs, with optimizer.search.select imported when the CLI imports it."""
     out = []
     with tempfile.TemporaryDirectory() as folder:
         drawer = Path(folder) / "drawer.csv"
@@ -82,7 +82,7 @@ def main() -> None:
     print(f"design: spawn → find_designs  median {statistics.median(t):.3f} s  (min {min(t):.3f}, max {max(t):.3f})")
     e = end_to_end(["list"])
     print(f"list (demo drawer) end to end   median {statistics.median(e):.3f} s")
-    for module in ("tui.cli", "optimizer.select"):
+    for module in ("tui.cli", "optimizer.search.select"):
         rows = import_times(module)
         print(f"import {module}: " + ", ".join(f"{name} {us / 1e3:.0f} ms" for us, name in rows))
     loaded = subprocess.run([sys.executable, "-c", "import sys, tui.cli; print(' '.join(m for m in "

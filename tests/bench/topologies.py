@@ -31,7 +31,7 @@ def _child(name: str) -> None:
 
     resource.setrlimit(resource.RLIMIT_AS, (MEMORY_LIMIT_B, MEMORY_LIMIT_B))
     from inventory.drawer import Drawer
-    from optimizer.select import find_designs
+    from optimizer.search.select import find_designs
     from optimizer.spec import Spec
 
     drawer = Drawer.load("inventory/demo/drawer.csv")

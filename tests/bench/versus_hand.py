@@ -32,7 +32,7 @@ def child(index: int, n: int, seed: int, time_limit: float) -> dict:
     """Run find_designs on one spec in this process; the parent reads the JSON printed."""
     import resource
 
-    from optimizer.select import find_designs
+    from optimizer.search.select import find_designs
     from tests.bench import specs
 
     key, spec = specs.cases(n, seed)[index]
@@ -110,8 +110,8 @@ def judge(key, spec, time_limit, index, n, seed, mem_cap_mb=MEM_CAP_MB) -> dict:
 
 def spice_compare(design, spec, drawer) -> dict | None:
     """ngspice against the exact analysis at hFE min, 27 °C: DC node volts and midband gain."""
-    from optimizer.analysis import analyze
-    from optimizer.netlist import node_names, to_netlist
+    from optimizer.physics.analysis import analyze
+    from optimizer.physics.netlist import node_names, to_netlist
     from tests import spice
     from tests.helpers.verify import stage_at, thd_against_ngspice
 

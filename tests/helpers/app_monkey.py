@@ -111,7 +111,7 @@ def canned_results(find_designs) -> list[dict]:
 @contextlib.contextmanager
 def quick_solver():
     """Replace the solver with one that answers at once, alternating the two canned results."""
-    from optimizer import select
+    from optimizer.search import select
 
     turn = itertools.count()
     real = select.find_designs

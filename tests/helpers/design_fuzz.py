@@ -263,7 +263,7 @@ def _within_stock(drawer: Drawer, doc: dict) -> bool:
 
 def warm_up() -> None:
     """Import what a design needs once in the parent, so every forked child starts warm."""
-    import optimizer.select  # noqa: F401
+    import optimizer.search.select  # noqa: F401
     import tui.cli  # noqa: F401
 
 

@@ -2,11 +2,11 @@
 
 Nothing here trusts the design document's numbers: every network value is rebuilt from the
 drawer lines it names, and every figure comes from the exact nodal solver
-(optimizer.analysis.analyze / optimizer.distortion), not from the fast screen the solver
+(optimizer.physics.analysis.analyze / optimizer.physics.distortion), not from the fast screen the solver
 prunes with.  The stage is checked at every corner: hFE min and hFE max of its transistor line
 (hFE taken at 27 °C and moved with the model's temperature law) × every temperature of
 `spec.temps_c`, with nominal part values (tolerances are the Monte Carlo's business).  The
-limits are the spec's, plus the ratings rules of optimizer.ratings (resistors ≤ 50 % of their rating, capacitors' DC ≤ 80 % of theirs: common practice, no source)
+limits are the spec's, plus the ratings rules of optimizer.physics.ratings (resistors ≤ 50 % of their rating, capacitors' DC ≤ 80 % of theirs: common practice, no source)
 and the transistor's: PD ≤ 50 % of PD(max) (common practice, no source), IC ≤ IC(max),
 VCEO ≥ the supply.
 
@@ -29,13 +29,13 @@ from pathlib import Path
 
 import numpy as np
 
-from optimizer import network_tree
-from optimizer.analysis import analyze
-from optimizer.candidates import transistor_of
-from optimizer.distortion import distortion
-from optimizer.netlist import to_netlist
-from optimizer.ratings import CAPACITOR_MARGIN, RESISTOR_DERATING, capacitor_voltages, part_dissipation
-from optimizer.stage import CAPACITOR_POSITIONS, EMITTER_FOLLOWER, OPTIONAL_POSITIONS, RESISTOR_POSITIONS, Stage
+from optimizer.parts import network_tree
+from optimizer.physics.analysis import analyze
+from optimizer.search.candidates import transistor_of
+from optimizer.physics.distortion import distortion
+from optimizer.physics.netlist import to_netlist
+from optimizer.physics.ratings import CAPACITOR_MARGIN, RESISTOR_DERATING, capacitor_voltages, part_dissipation
+from optimizer.physics.stage import CAPACITOR_POSITIONS, EMITTER_FOLLOWER, OPTIONAL_POSITIONS, RESISTOR_POSITIONS, Stage
 
 PD_DERATING = 0.5  # transistor dissipation ≤ 50 % of PD(max) (common practice, no source)
 VALUE_RTOL = 1e-6  # the document's value against the one rebuilt from the drawer

@@ -24,10 +24,10 @@ from dataclasses import replace
 
 import numpy as np
 
-from optimizer import network_tree
-from optimizer.candidates import transistor_of
-from optimizer.circuit import NODES, build, operating_point, q_currents, solve_small_signal
-from optimizer.stage import Stage
+from optimizer.parts import network_tree
+from optimizer.physics.circuit import NODES, build, operating_point, q_currents, solve_small_signal
+from optimizer.physics.stage import Stage
+from optimizer.search.candidates import transistor_of
 
 SCAN_HZ = np.logspace(-2, 5, 701)
 IN, OUT = NODES.index("in"), NODES.index("out")

@@ -1,14 +1,14 @@
 """The design's netlist with a source, a load and analyses added: runs as written with `ngspice -b`.
 
-The sine's amplitude gives the spec's swing at the load (optimizer.distortion finds it),
+The sine's amplitude gives the spec's swing at the load (optimizer.physics.distortion finds it),
 so `.four` reports the distortion drawerfit predicts; `.ac` prints the response in dB.
 """
 
 from __future__ import annotations
 
-from optimizer.crosscheck import bench
-from optimizer.deck import deck_nodes
-from optimizer.distortion import drive_for_swing
+from optimizer.physics.crosscheck import bench
+from optimizer.physics.deck import deck_nodes
+from optimizer.physics.distortion import drive_for_swing
 
 from .content import Sheet
 

@@ -31,7 +31,7 @@ def render(doc: dict, pick: int, fmt: str, source: str) -> str:
         return buf.getvalue()
     from optimizer.chain.deck import chain_of_design
     from optimizer.chain.figures import figures
-    from optimizer.crosscheck import bench
+    from optimizer.physics.crosscheck import bench
 
     try:
         chain = chain_of_design(design, spec)

@@ -13,10 +13,10 @@ from dataclasses import dataclass
 from pathlib import Path
 
 from inventory.values import format_capacitance, format_resistance, format_si
-from optimizer.analysis import analyze
-from optimizer.deck import netlist_of, stage_of_design
-from optimizer.meter import meter_checks
-from optimizer.stage import Stage
+from optimizer.physics.analysis import analyze
+from optimizer.physics.deck import netlist_of, stage_of_design
+from optimizer.physics.meter import meter_checks
+from optimizer.physics.stage import Stage
 
 ORDER = ("R1", "R2", "RB", "RC", "RE", "RE1", "RE2", "CIN", "COUT", "CE", "Q1")
 SAFETY = (
@@ -51,7 +51,7 @@ class Sheet:
     networks: dict  # position → network node with Part leaves (series/parallel dicts)
     positive: dict  # capacitor position → circuit node of its + lead
     picks: list  # pick-list rows
-    meters: list  # optimizer.meter.meter_checks rows
+    meters: list  # optimizer.physics.meter.meter_checks rows
 
     @property
     def title(self) -> str:

@@ -11,6 +11,8 @@ from __future__ import annotations
 import schemdraw
 import schemdraw.elements as elm
 
+from optimizer import kinds
+
 from .content import Sheet
 
 LEAF = 2.2  # drawing units along a vertical branch per part
@@ -122,8 +124,9 @@ def schematic(sheet: Sheet) -> schemdraw.Drawing:
     dr = Drawer(d, sheet)
     n = sheet.networks
     topo = sheet.design["topology"]
-    follower = topo == "emitter-follower"
-    feedback = topo == "collector-feedback"
+    kind = kinds.get(topo)
+    follower = kind.output == "e"  # drawn from what the kind declares, not its name
+    feedback = kind.bias == "feedback"
     plus = sheet.positive  # capacitor position → circuit node of its + lead
 
     # Columns: base (xb), transistor (base lead at xq), collector/emitter (xc).

@@ -87,7 +87,7 @@ class RequestScreen(Screen):
         last = self.app.last_request  # the request searched last, as it was typed
         yield Masthead()
         with VerticalScroll(id="request"):
-            yield _choice_row("Stage", rf.TOPOLOGY_CHOICES, last.get("topology", rf.CHOICE_DEFAULTS["topology"]),
+            yield _choice_row("Stage", rf.TOPOLOGY_CHOICES, last.get("topology", rf.APP_CHOICES["topology"]),
                               "topology")
             for key, title in rf.GROUPS:
                 yield Label(title, classes="group-title")
@@ -131,7 +131,8 @@ class RequestScreen(Screen):
     @on(Select.Changed)
     def check(self):
         spec, _, found = self.request()
-        follower = self.query_one("#topology", Select).value == rf.FOLLOWER
+        topology = self.query_one("#topology", Select).value
+        preset = rf.preset_gain(topology)
         for f in rf.FIELDS:
             note = self.query_one(f"#m-{f.name}", Label)
             note.update(found.get(f.name, f.hint))
@@ -141,9 +142,9 @@ class RequestScreen(Screen):
             self.query_one("#m-min_rin", Label).update(rf.rin_floor_text(self.query_one("#r-source", Input).value))
         # A follower's gain is not asked for: just under 1 by nature.
         gain = self.query_one("#r-gain", Input)
-        gain.disabled = follower
-        if follower:
-            self.query_one("#m-gain", Label).update(f"a follower: about 1 (asked as {rf.FOLLOWER_GAIN:g})")
+        gain.disabled = preset is not None
+        if preset is not None:
+            self.query_one("#m-gain", Label).update(f"set by the {topology}: {preset:g}")
             gain.set_class(False, "-invalid")
         problems = self.query_one("#request-problems", Label)
         problems.update(found.get("", ""))
@@ -179,7 +180,7 @@ class RequestScreen(Screen):
     @work(thread=True, exclusive=True, group="solve", exit_on_error=False)
     def solve(self, run: int, drawer, spec, search_kw: dict, cancel: threading.Event) -> None:
         # Imported here: the solver pulls in OR-Tools, which the drawer view never needs.
-        from optimizer.select import find_designs
+        from optimizer.search.select import find_designs
 
         def progress(fraction: float, text: str) -> None:
             self.post_message(SolveProgress(run, fraction, text))
@@ -242,5 +243,5 @@ class RequestScreen(Screen):
     def action_reset(self) -> None:
         for f in rf.FIELDS:
             self.query_one(f"#r-{f.name}", Input).value = f.default
-        for name, value in rf.CHOICE_DEFAULTS.items():
+        for name, value in rf.APP_CHOICES.items():
             self.query_one(f"#{name}", Select).value = value

@@ -20,7 +20,7 @@ from textual.widgets import DataTable, Footer, Label, Static
 from textual.worker import Worker, WorkerState
 
 from inventory.atomic import atomic_write
-from optimizer import network_tree
+from optimizer.parts import network_tree
 from ..builds import build_record, last_build, record_problem, sheet_document, tag_of
 from ..schematic import draw_stage, position_text
 from ..schematic_chain import draw_chain

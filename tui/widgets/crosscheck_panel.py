@@ -1,6 +1,6 @@
 """The build sheet's ngspice section: runs the cross-check in a thread and shows ngspice beside drawerfit.
 
-The simulation (optimizer.crosscheck, one bounded ngspice run per hFE corner) runs in a thread
+The simulation (optimizer.physics.crosscheck, one bounded ngspice run per hFE corner) runs in a thread
 worker; the thread never touches a widget, it hands the result back with `call_from_thread`.
 When ngspice is absent the engine's own message (how to install it) is shown.
 
@@ -20,7 +20,7 @@ from textual.containers import Vertical
 from textual.widgets import DataTable, Label, Static
 from textual.worker import Worker, WorkerState, get_current_worker
 
-from optimizer.crosscheck import CrossCheck, crosscheck
+from optimizer.physics.crosscheck import CrossCheck, crosscheck
 
 from .. import crosscheck_text
 

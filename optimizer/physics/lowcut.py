@@ -1,0 +1,101 @@
+"""The low cut-off test with the coupling and bypass capacitors in place: |H(f_cut)| ≥ |H_mid|/√2.
+
+The midband nodal solve of smallsignal.py takes complex conductances, so CIN in
+series with RS, COUT in series with RL and CE across RE2 enter as impedances
+1/(jωC).  The response of these high-pass networks rises monotonically with
+frequency, so f_low ≤ f_cut exactly when |H(j·2π·f_cut)|² ≥ ½·|H_mid|²; and f_low
+falls as any capacitance grows.
+
+`meets_low_cut` is the plain test (any arrays, one full solve per element); the
+exhaustive oracle uses it.  `LowCut` is the same test for one screened row, fast
+over many capacitor combinations: CIN and COUT enter only the source and load
+conductances, so the stage is solved once per distinct CE value
+(`smallsignal.source_load_terms`) and each combination costs a few products.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from optimizer import kinds
+from optimizer.physics import smallsignal
+from optimizer.kinds.blocks import inv as _inv
+from optimizer.physics.circuit import OPEN_LOAD_OHMS
+from optimizer.search.feasible import corner_names
+
+SHORT = smallsignal.SHORT_S
+HALF_POWER = 0.5
+
+
+def _y(row, corner):
+    gm, gpi, gmu, go = (np.asarray(row[f"{corner}_{k}"]) for k in ("gm", "gpi", "gmu", "go"))
+    return gpi, gmu, gm + go, -go - gmu  # inverse of smallsignal.hybrid_pi
+
+
+def _zc(c, omega):
+    """1/(jωC) (Ω) with C = inf a short."""
+    c = np.asarray(c, dtype=float)
+    return np.where(np.isinf(c), 0.0, 1.0 / (1j * omega * np.where(np.isinf(c), 1.0, c)))
+
+
+def _stage(topology, r, omega, ce):
+    """(g_bias, g_feedback, g_collector, g_emitter, output) of the stage with CE fitted (S): `Kind.ac_network`."""
+    return kinds.get(topology).ac_network(r, omega, ce)
+
+
+def _load(spec) -> float:
+    """RL (Ω), an open load as the same 1 TΩ stand-in the exact solver uses."""
+    return min(float(spec.load_ohms), OPEN_LOAD_OHMS)
+
+
+def transfer(topology, r, y, rs, rl, omega, cin, cout, ce):
+    """Complex gain load voltage / source EMF (broadcast arrays); C = inf is a short, ω in rad/s."""
+    r = {k: np.asarray(v, dtype=float) for k, v in r.items()}
+    g_bias, g_fb, g_coll, g_emit, out = _stage(topology, r, omega, ce)
+    g_load = 1.0 / (rl + _zc(cout, omega))
+    ss = smallsignal.midband(y, g_source=_inv(rs + _zc(cin, omega)), g_bias=g_bias, g_feedback=g_fb,
+                             g_collector=g_coll, g_emitter=g_emit, g_load=g_load, output=out)
+    return ss["gain"] * rl * g_load
+
+
+def meets_low_cut(topology, row, spec, cin, cout, ce):
+    """Bool array: f_low ≤ spec.low_cut_hz at both hFE corners for the capacitor arrays given (F)."""
+    r = {k: row[k] for k in kinds.get(topology).resistors if k in row}
+    w = 2 * np.pi * spec.low_cut_hz
+    ok = True
+    for corner in corner_names(row):
+        y = _y(row, corner)
+        h = transfer(topology, r, y, spec.source_ohms, _load(spec), w, cin, cout, ce)
+        hm = transfer(topology, r, y, spec.source_ohms, _load(spec), w, np.inf, np.inf, np.inf)
+        ok = ok & (np.abs(h) ** 2 >= HALF_POWER * np.abs(hm) ** 2)
+    return np.asarray(ok)
+
+
+class LowCut:
+    """`meets_low_cut` for one row (dict of scalars), fast over arrays of CIN, COUT and CE (F)."""
+
+    def __init__(self, topology, row, spec):
+        self.topology = topology
+        self.r = {k: float(row[k]) for k in kinds.get(topology).resistors if k in row}
+        self.w = 2 * np.pi * spec.low_cut_hz
+        self.rs, self.rl = float(spec.source_ohms), _load(spec)
+        self.y = [_y(row, c) for c in corner_names(row)]
+        r = self.r
+        self.h_mid2 = [float(np.abs(transfer(topology, r, y, self.rs, self.rl, self.w, np.inf, np.inf, np.inf)) ** 2)
+                       for y in self.y]
+
+    def __call__(self, cin, cout, ce=np.inf) -> np.ndarray:
+        cin, cout, ce = np.broadcast_arrays(np.asarray(cin, float), np.asarray(cout, float), np.asarray(ce, float))
+        gs = _inv(self.rs + _zc(cin, self.w))
+        gl = 1.0 / (self.rl + _zc(cout, self.w))
+        uce, inv = np.unique(ce, return_inverse=True)
+        g_bias, g_fb, g_coll, g_emit, out = _stage(self.topology, self.r, self.w, uce)
+        ok = np.ones(cin.shape, dtype=bool)
+        for y, hm2 in zip(self.y, self.h_mid2, strict=True):
+            det0, c_bb, c_oo, c_bo, a_kk = (np.broadcast_to(t, uce.shape)[inv].reshape(cin.shape) for t in
+                                            smallsignal.source_load_terms(y, g_bias=g_bias, g_feedback=g_fb,
+                                                                          g_collector=g_coll, g_emitter=g_emit,
+                                                                          output=out))
+            h = gs * c_bo / (det0 + gs * c_bb + gl * c_oo + gs * gl * a_kk) * self.rl * gl
+            ok &= h.real ** 2 + h.imag ** 2 >= HALF_POWER * hm2
+        return ok

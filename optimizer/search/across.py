@@ -1,0 +1,115 @@
+"""`--topology any`: every kind the request can use, searched in turn, one trade-off set across them.
+
+Each kind is searched by `select.find_designs` with a share of the time limit: the kinds still to
+go split what is left equally, so a kind that finishes early (proven, or nothing to build) hands
+its time on.  The designs found are pooled and the trade-off set is taken again over the pool
+with the same four counts (tradeoff.py), so a design of one kind that another kind's design beats
+on every count drops out.  Kinds whose own gain limit rules the request out are skipped and
+named.
+
+Order: the preference picks the first design as for one kind.  Under the default `balanced`
+preference a design of fewer stages comes before one of more stages (a single stage that meets
+the spec is what a bench builds first); any other preference is taken as asked, so "clean" may
+put a two-stage chain first.  Kinds with more than one stage register `stages` > 1.
+
+The document says "optimal": true only when every kind searched was proven complete.
+"""
+
+from __future__ import annotations
+
+import time
+from dataclasses import replace
+
+from optimizer import kinds
+from optimizer.search import tradeoff
+from optimizer.spec import ANY_TOPOLOGY as ANY  # noqa: F401  (the request's name for "every kind")
+
+
+def usable_kinds(spec) -> tuple[list[str], list[str]]:
+    """(kinds to search, notes on the kinds left out and why)."""
+    use, notes = [], []
+    for name in kinds.names():
+        k = kinds.get(name)
+        if k.max_gain is not None and spec.gain > k.max_gain:
+            notes.append(f"{name}: left out, its gain stays below {k.max_gain:g}")
+        else:
+            use.append(name)
+    return use, notes
+
+
+def _stages(design) -> int:
+    """Stages in a design: a chain lists its stages, a single-stage design has no "stages"."""
+    return max(1, len(design.get("stages") or ()))
+
+
+def merge(docs: dict[str, dict], prefer: str, top: int) -> list[dict]:
+    """The designs of every kind's document pooled, the trade-off set over the pool, the preferred first."""
+    pool = [d for doc in docs.values() for d in doc.get("designs", [])]
+    if not pool:
+        return []
+    c = tradeoff.counts([d["score"]["parts"] for d in pool], [d["score"]["thd"] for d in pool],
+                        [d["score"]["robustness"] for d in pool], [d["score"]["supply_a"] for d in pool])
+    front = tradeoff.nondominated(c)
+    picks = tradeoff.shown(c[front], prefer, top)
+    out = []
+    for i, labels in picks:
+        d = dict(pool[int(front[i])])
+        d["best_for"] = labels
+        out.append(d)
+    if prefer == "balanced":  # fewer stages first, the balanced order kept within each
+        out.sort(key=_stages)
+    return out
+
+
+def find_any(drawer, spec, *, top, time_limit_s, progress=None, cancel=None, **kw) -> dict:
+    """The result document (select.find_designs' shape) over every usable kind."""
+    from optimizer.search.result import spec_json
+    from optimizer.search.select import find_designs
+
+    problems = spec.problems()
+    if problems:
+        return {"designs": [], "why": problems, "hints": [], "spec": spec_json(spec), "error": "spec",
+                "status": "invalid", "optimal": False, "unexplored": None}
+    names, notes = usable_kinds(spec)
+    t0 = time.perf_counter()
+    limit = None if time_limit_s is None else float(time_limit_s)
+    docs: dict[str, dict] = {}
+    for k, name in enumerate(names):
+        if cancel is not None and cancel.is_set():
+            break
+        left = None if limit is None else limit - (time.perf_counter() - t0)
+        if left is not None and left <= 0.2:
+            notes.append(f"{name}: not searched, the {limit:g} s limit was spent on the kinds before it")
+            continue
+        share = None if left is None else left / (len(names) - k)
+
+        def part(frac, text, k=k, name=name):
+            if progress:
+                progress((k + frac) / len(names), f"{name}: {text}")
+
+        docs[name] = find_designs(drawer, replace(spec, topology=name), top=top, time_limit_s=share,
+                                  progress=part, cancel=cancel, **kw)
+    prefer = kw.get("prefer", "balanced")
+    designs = merge(docs, prefer, top)
+    doc = {"designs": designs, "spec": spec_json(spec), "inventory": str(getattr(drawer, "path", "") or ""),
+           "hints": [], "why": list(notes), "kinds": {}}
+    for name, d in docs.items():
+        doc["kinds"][name] = {"status": d["status"], "optimal": d["optimal"], "found": len(d["designs"]),
+                              "seconds": (d.get("search") or {}).get("seconds")}
+        if not designs:
+            doc["why"] += [f"{name}: {w}" for w in d.get("why", [])]
+            doc["hints"] += [h for h in d.get("hints", []) if h not in doc["hints"]]
+        if d.get("cancelled"):
+            doc["cancelled"] = True
+    searched_all = len(docs) == len(names)
+    doc["optimal"] = bool(docs) and searched_all and all(d["optimal"] for d in docs.values())
+    left = [f"{n}: {d['unexplored']}" for n, d in docs.items() if d.get("unexplored")]
+    left += [f"{n}: not searched" for n in names if n not in docs]
+    doc["unexplored"] = "; ".join(left) or None
+    proven = searched_all and docs and all(d["status"] == "infeasible" for d in docs.values())
+    doc["status"] = "found" if designs else ("infeasible" if proven else "unproven")
+    doc["search"] = {"kinds": list(docs), "seconds": round(time.perf_counter() - t0, 3), "time_limit_s": limit,
+                     "prefer": prefer, "exhaustive": doc["optimal"]}
+    if progress:
+        progress(1.0, "done")
+    return doc

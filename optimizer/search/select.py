@@ -1,0 +1,538 @@
+"""The design solver: the exact best designs for a spec from the parts on hand.
+
+Search (exact for the objective in objective.py over the space in candidates.py):
+  for resistor part budget B = fewest positions, +1, … (B = Σ fewest parts per value):
+    screen every value tuple of budget B (candidates.tuples, pruned only by necessary
+    conditions) at hFE min and max (feasible.check), choose its capacitors
+    (capchoice.choose), add the survivors as rows;
+    let CP-SAT (assign.py) pick the top designs over all rows so far under shared stock;
+    stop once the N-th best uses ≤ B + 2 + 1 parts: every unscreened tuple needs
+    ≥ B + 1 resistor parts, ≥ 2 capacitors and Q1, so cannot tie or win.
+"""
+
+from __future__ import annotations
+
+import sys
+import time
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from optimizer.parts import capchoice
+from optimizer.search import objective, stopwatch, tradeoff
+from optimizer.parts.assign import Assignment, Choice
+from optimizer.search.candidates import POSITIONS, Pool, min_positions, profiles, tuples, usable_transistors
+from optimizer.parts.capacitors import capacitor_options
+from optimizer.search.feasible import Near, check, concat
+from optimizer.search.seed import seed_tuples
+from optimizer.spec import ANY_TOPOLOGY, DEFAULT_DEPTH, DEFAULT_PREFER, DEFAULT_TIME_LIMIT_S, DEFAULT_TOP, PREFERENCES, Bounds  # noqa: F401
+
+MIN_CAPS = 2  # CIN and COUT are always fitted
+MAX_SCREENED = 60_000_000  # a safety stop; reported in `why` when it ends the search
+MAX_REJECTED = 30  # designs the yield constraint may turn down before the search gives up
+# The trade-off set spans designs of up to this many parts more than the fewest that meet the
+# spec: past that, more parts buy too little to be worth a bench's time (design decision).
+SPARE_PARTS = 2
+SETTLE_ROWS = 4000  # pending rows folded into the trade-off set at a time
+SETTLE_GRACE_S = 0.2  # after a stop, for the rows screened just before it
+EXACT_BATCH = 16  # front rows made exact (capacitors chosen) at a time
+
+Cancelled = stopwatch.Cancelled
+
+
+@dataclass
+class Solution:
+    """What the search found; select.find_designs turns it into the JSON document."""
+
+    spec: object
+    designs: list = field(default_factory=list)  # (assign.Choice, row dict)
+    why: list = field(default_factory=list)
+    notes: list = field(default_factory=list)
+    near: Near = field(default_factory=Near)
+    pool: Pool | None = None
+    options: object = None
+    qlines: list = field(default_factory=list)
+    cap_failures: list = field(default_factory=list)  # rows that met the rest but found no capacitors
+    cap_cache: dict = field(default_factory=dict)  # (values, transistor model) → capchoice.CapChoice | None
+    bounds: object = None  # spec.Bounds the search pruned with
+    stock_bound: bool = False
+    exhaustive: bool = True
+    budget: int = 0
+    seconds: float = 0.0
+    started: float = 0.0  # time.perf_counter() at the start of the search
+    first_design_s: float | None = None  # seconds from the start until a design was first in hand
+    searched: int | None = None  # the last resistor part budget screened in full
+    stopped_by: str | None = None  # "time limit", "cancelled" or "size" when the search stopped early
+    unexplored: str | None = None
+    front_counts: object = None  # tradeoff.counts of the whole trade-off set (n, 4)
+
+
+def _row_dict(rows, i):
+    return {k: (v[i] if np.ndim(v) else v) for k, v in rows.items()}
+
+
+def _add_caps(topology, rows, spec, options, cap_qty, positions, sol):
+    keep, extra = [], {k: [] for k in ("pc", "ec", "fc", "nf", "opt_CIN", "opt_COUT", "opt_CE")}
+    n = len(rows["ge"])
+    for i in range(n):
+        stopwatch.poll()
+        row = _row_dict(rows, i)
+        q = sol.qlines[int(row["q"])]
+        # Lines of one transistor type share the physics, so their rows share the capacitors.
+        key = (tuple(float(row[p]) for p in positions), q.transistor)
+        if key not in sol.cap_cache:
+            sol.cap_cache[key] = capchoice.choose(topology, row, spec, options, cap_qty) if len(options) else None
+        c = sol.cap_cache[key]
+        if c is None:
+            if len(sol.cap_failures) < 50:
+                sol.cap_failures.append((row, q))
+            continue
+        keep.append(i)
+        extra["pc"].append(c.parts)
+        extra["ec"].append(c.emptied + (1 if q.qty <= 1 else 0))
+        extra["fc"].append(c.frac + objective.line_weight(q.qty))
+        extra["nf"].append(c.nf)
+        for p in capchoice.CAP_POSITIONS:
+            extra[f"opt_{p}"].append(c.options.get(p, -1))
+    out = {k: v[keep] for k, v in rows.items()}
+    out.update({k: np.asarray(v, dtype=np.int64) for k, v in extra.items()})
+    return out
+
+
+def search(rstock, cstock, qlines, spec, *, top=3, depth=3, progress=None, cancel=None, accept=None,
+           prefer="balanced", deadline=None, spare_parts=SPARE_PARTS) -> Solution:
+    """The trade-off set for `spec` (see the module docstring) and the designs to show from it.
+
+    accept(solution, choice, row) -> bool, if given, is one more constraint (e.g. the Monte Carlo yield):
+    a design it rejects leaves the set and the set is taken again without it.
+    deadline (time.perf_counter() value) and cancel (threading.Event) stop the screening; the
+    designs found so far are still returned, with `exhaustive` False.
+    """
+    t0 = time.perf_counter()
+    topology = spec.topology
+    positions = POSITIONS[topology]
+    sol = Solution(spec, qlines=qlines, started=t0)
+    options = capacitor_options(cstock, 0.0, depth=2)
+    sol.options = options
+    cap_qty = np.asarray(cstock.qty, dtype=np.int64)
+    if not qlines:
+        sol.why.append("no usable NPN transistor line is in stock")
+        return sol
+    if len(rstock.qty) == 0:
+        sol.why.append("no resistors are in stock")
+        return sol
+    if len(options) == 0:
+        sol.why.append("no capacitors are in stock (CIN and COUT are always fitted)")
+        return sol
+    bounds = sol.bounds = Bounds.of(spec, float(options.value.max()))  # floors the capacitors on hand imply
+    n_min = min_positions(topology)
+    b_max = len(positions) * depth
+    models = {}
+    for qi, q in enumerate(qlines):
+        models.setdefault(q.transistor, []).append(qi)
+    front = _Front(positions, sol, lambda r: _add_caps(topology, r, spec, options, cap_qty, positions, sol),
+                   keep_dominated=accept is not None, spare=spare_parts)
+    budget = n_min
+    try:
+        with stopwatch.watch(cancel, deadline):
+            # Pools grow with the budget (a deep table on a large drawer takes seconds); a value's
+            # fewest parts are the same in every pool that holds it, so rows keep their meaning.
+            sol.pool = Pool(rstock, min(depth, 2))
+            _screen_seeds(topology, positions, spec, models, qlines, sol, front)
+            for budget in range(n_min, b_max + 1):
+                if budget + MIN_CAPS + 1 > front.fewest_parts + spare_parts:
+                    break  # every design left needs more parts than the set spans
+                sol.budget = budget
+                level = min(depth, budget - n_min + 1)
+                if sol.pool.depth < level:
+                    sol.pool = Pool(rstock, level)
+                for profile in _anytime_order(profiles(topology, budget, level), sol.pool):
+                    for model, members in models.items():
+                        q = qlines[members[0]]
+                        for chunk in tuples(topology, profile, sol.pool, bounds, q):
+                            stopwatch.poll()
+                            _add_rows(check(topology, chunk, q, spec, sol.near), members, positions, sol, front)
+                    front.settle()
+                    if sol.near.screened > MAX_SCREENED:
+                        raise _Overrun()
+                front.settle()
+                sol.searched = budget
+                if progress:
+                    found = f", {len(front)} in the trade-off set" if len(front) else ""
+                    progress(min(0.95, (budget - n_min + 1) / (b_max - n_min + 1)),
+                             f"screened {sol.near.screened:,} value tuples (≤ {budget} resistor parts){found}")
+    except stopwatch.Stopped as exc:
+        sol.exhaustive = False
+        sol.stopped_by = "cancelled" if isinstance(exc, stopwatch.Cancelled) else "time limit"
+        sol.unexplored = _unexplored(sol, budget, b_max, front)
+    except _Overrun:
+        sol.exhaustive = False
+        sol.stopped_by = "size"
+        sol.unexplored = _unexplored(sol, budget, b_max, front)
+        sol.notes.append(f"search stopped after {sol.near.screened:,} tuples (≤ {budget} resistor parts); "
+                         "designs are the best found so far")
+    if sol.stopped_by in ("time limit", "cancelled"):
+        # Rows screened just before the stop are folded in only as far as a short grace allows.
+        try:
+            with stopwatch.watch(deadline=time.perf_counter() + SETTLE_GRACE_S):
+                front.settle()
+        except stopwatch.Stopped:
+            pass
+    else:
+        front.settle()
+    sol.designs = front.pick(prefer, top, accept)
+    sol.seconds = time.perf_counter() - t0
+    if not sol.designs:
+        sol.stock_bound = front.stock_bound
+    return sol
+
+
+def _screen_seeds(topology, positions, spec, models, qlines, sol, front):
+    """The stocked neighbours of the ideal values (seed.py), screened first: good designs early.
+    The budget loop screens them again in their turn, so the set's completeness rests on it alone."""
+    for members in models.values():
+        q = qlines[members[0]]
+        chunk = seed_tuples(topology, spec, q, sol.pool)
+        if not len(chunk[positions[0]]):
+            continue
+        _add_rows(check(topology, {p: chunk[p] for p in positions}, q, spec), members, positions, sol, front)
+    front.settle()
+
+
+def _add_rows(rows, members, positions, sol, front):
+    """Checked rows into the trade-off set, once per line of the transistor type (same physics)."""
+    if not len(rows["ge"]):
+        return
+    rows["nsm"] = -rows["sm"]
+    rows["parts_lb"] = _parts_lb(sol.pool, rows, positions)
+    for qi in members:
+        front.add(dict(rows, q=np.full(len(rows["ge"]), qi, dtype=np.int64)))
+
+
+def _anytime_order(profs, pool):
+    """Profiles with the plainest networks first (fewest parts at any one position), then the
+    smallest: single resistors are what a bench reaches for, and small profiles finish soon."""
+    def size(p):
+        return float(np.prod([max(1, len(pool.group(k))) for k in p.values()]))
+    return sorted(profs, key=lambda p: (max(p.values()), size(p)))
+
+
+class _Overrun(Exception):
+    pass
+
+
+def _unexplored(sol, budget, b_max, front) -> str:
+    done = getattr(sol, "searched", None)
+    span = "" if front.fewest_parts == np.inf else f" (the set spans designs of up to {front.fewest_parts + SPARE_PARTS} parts)"
+    if done is None:
+        return f"value tuples of {budget} to {b_max} resistor parts, from {budget} on{span}"
+    return f"value tuples of {done + 1} to {b_max} resistor parts{span}"
+
+
+class _Front:
+    """The rows no other beats (tradeoff.py), kept as the search goes, with the counts made exact
+    lazily: a row enters with its optimistic part count (each capacitor one part) and is made
+    exact (capacitors chosen, fewest-parts networks checked against stock) only while it is in
+    the front; a row an exact row dominates can never come back (rows only ever add dominators),
+    so it is dropped, which keeps memory to the front's size."""
+
+    def __init__(self, positions, sol, add_caps, keep_dominated=False, spare=SPARE_PARTS):
+        self.positions = positions
+        self.spare = spare
+        self.sol = sol
+        self.add_caps = add_caps
+        self.keep_dominated = keep_dominated
+        self.pending = []
+        self.n_pending = 0
+        self.rows = None  # exact rows (dict of arrays), every one with "pc", "opt_*" and "parts"
+        self.fewest_parts = np.inf
+        self.stock_bound = False
+
+    def __len__(self):
+        return 0 if self.rows is None else len(self.rows["ge"])
+
+    def add(self, rows):
+        self.pending.append(rows)
+        self.n_pending += len(rows["ge"])
+        if self.n_pending >= SETTLE_ROWS:
+            self.settle()
+
+    def settle(self):
+        """Fold the pending rows in: make front members exact until the front is all exact.
+
+        Polls the stop watch; a stop part-way leaves the front as it was before the call."""
+        if not self.pending:
+            return
+        new = concat(self.pending)
+        self.pending, self.n_pending = [], 0
+        new["parts"] = new["parts_lb"].astype(np.int64)
+        new["exact"] = np.zeros(len(new["ge"]), dtype=bool)
+        if self.rows is not None and not self.keep_dominated and len(self.rows["ge"]):
+            # Rows the exact front already beats can never come back: drop them before sorting.
+            beaten = tradeoff.dominated_by(
+                tradeoff.counts(self.rows["parts"], self.rows["thd"], self.rows["rob"], self.rows["isup"]),
+                tradeoff.counts(new["parts"], new["thd"], new["rob"], new["isup"]))
+            new = {k: v[~beaten] for k, v in new.items()}
+        rows = new if self.rows is None else _cat(self.rows, new)
+        done = []
+        try:
+            while True:
+                c = tradeoff.counts(rows["parts"], rows["thd"], rows["rob"], rows["isup"])
+                f = tradeoff.nondominated(c)
+                todo = f[~rows["exact"][f]]
+                if not len(todo):
+                    break
+                # A few at a time, most promising first, so a stop keeps what was made exact.
+                todo = todo[tradeoff.preference_order(c[todo], "balanced")]
+                done = []
+                for b0 in range(0, len(todo), EXACT_BATCH):
+                    done.append(self._exact({k: v[todo[b0:b0 + EXACT_BATCH]] for k, v in rows.items()}))
+                keep = np.ones(len(rows["ge"]), dtype=bool)
+                keep[todo] = False
+                rows = _cat({k: v[keep] for k, v in rows.items()}, concat(done))
+                done = []
+        except stopwatch.Stopped:
+            exact = {k: v[rows["exact"]] for k, v in rows.items()}
+            self._commit(_cat(exact, concat(done)) if done else exact)
+            raise
+        self._commit(rows if self.keep_dominated else {k: v[f] for k, v in rows.items()})
+
+    def _commit(self, rows):
+        exact = rows["exact"]
+        if exact.any():
+            self.fewest_parts = min(self.fewest_parts, int(rows["parts"][exact].min()))
+            if self.sol.first_design_s is None:
+                self.sol.first_design_s = time.perf_counter() - self.sol.started
+        self.rows = rows
+
+    def _exact(self, rows):
+        """Rows with capacitors chosen and parts made exact; rows that cannot be built dropped."""
+        rows = self.add_caps(rows)
+        if not len(rows["ge"]):
+            return rows
+        has_ce = rows["RE2"] > 0 if "RE2" in rows else np.zeros(len(rows["ge"]), dtype=bool)
+        res_parts = rows["parts_lb"] - MIN_CAPS - has_ce - 1
+        parts = res_parts + rows["pc"] + 1
+        ok = np.ones(len(parts), dtype=bool)
+        for i in np.flatnonzero(~_greedy_fits(self.sol.pool, rows, self.positions)):
+            got = _realise(self.positions, {k: v[i:i + 1] for k, v in rows.items()}, self.sol)
+            if got is None:
+                ok[i] = False
+                self.stock_bound = True
+            else:
+                parts[i] = got.score.parts
+        rows["parts"] = parts
+        rows["exact"] = np.ones(len(parts), dtype=bool)
+        return {k: v[ok] for k, v in rows.items()}
+
+    def pick(self, prefer, top, accept):
+        """The designs to show: [(assign.Choice, row dict, labels)], the preferred first."""
+        out = []
+        rejected = 0
+        while self.rows is not None and len(self.rows["ge"]):
+            rows = self._distinct(self.rows)
+            rows = {k: v[rows["parts"] <= rows["parts"].min() + self.spare] for k, v in rows.items()}
+            c = tradeoff.counts(rows["parts"], rows["thd"], rows["rob"], rows["isup"])
+            f = tradeoff.nondominated(c)
+            front = {k: v[f] for k, v in rows.items()}
+            self.sol.front_counts = c[f]
+            picks = tradeoff.shown(c[f], prefer, top)
+            out, bad = [], None
+            for i, labels in picks:
+                got = _realise(self.positions, {k: v[i:i + 1] for k, v in front.items()}, self.sol)
+                row = _row_dict(front, i)
+                if got is None:
+                    bad = i
+                    break
+                choice = Choice(got.networks, got.q, i, got.score)
+                if accept is not None and not accept(self.sol, choice, row):
+                    bad = i
+                    rejected += 1
+                    break
+                out.append((choice, row, labels))
+            if bad is None:
+                return out
+            if rejected > MAX_REJECTED:
+                self.sol.notes.append(f"--min-yield: stopped after {MAX_REJECTED} designs below the yield asked for")
+                return []
+            drop = np.ones(len(self.rows["ge"]), dtype=bool)
+            drop[self._index_of(front, bad)] = False
+            self.rows = {k: v[drop] for k, v in self.rows.items()}
+        return out
+
+    def _distinct(self, rows):
+        """One row per (values, transistor type): lines of one type share the physics."""
+        types = {}
+        kind = np.array([types.setdefault(self.sol.qlines[int(q)].transistor, len(types)) for q in rows["q"]])
+        key = np.column_stack([rows[p] for p in self.positions] + [kind])
+        _, first = np.unique(key, axis=0, return_index=True)
+        first = np.sort(first)
+        return {k: v[first] for k, v in rows.items()}
+
+    def _index_of(self, front, i):
+        mask = np.ones(len(self.rows["ge"]), dtype=bool)
+        for p in self.positions:
+            mask &= self.rows[p] == front[p][i]
+        mask &= self.rows["q"] == front["q"][i]
+        return np.flatnonzero(mask)
+
+
+def _cat(a, b):
+    """Rows of a then b; a column only one side has is filled with zeros on the other (rows not
+    yet made exact lack the capacitor columns)."""
+    na, nb = len(a["ge"]), len(b["ge"])
+    out = {}
+    for k in {**a, **b}:
+        x = a[k] if k in a else np.zeros(na, dtype=b[k].dtype)
+        y = b[k] if k in b else np.zeros(nb, dtype=a[k].dtype)
+        out[k] = np.concatenate([x, y])
+    return out
+
+
+def _greedy_fits(pool, rows, positions) -> np.ndarray:
+    """Per row: do the fewest-parts networks of its values fit the stock and carry their power?"""
+    d, table = pool.distinct, pool.table
+    n = len(rows["ge"])
+    use = np.zeros((n, len(pool.stock.qty)), dtype=np.int64)
+    ok = np.ones(n, dtype=bool)
+    for p in positions:
+        v = rows[p]
+        present = v > 0
+        g = np.clip(np.searchsorted(d.value, v * (1 - 1e-10)), 0, len(d) - 1)
+        net = d.best[g]
+        cap = objective.power_capacity_uw(table.power_w[net])
+        ok &= ~present | (cap >= rows[f"need_{p}"])
+        for c in range(table.members.shape[1]):
+            m = table.members[net, c]
+            has = present & (m >= 0)
+            np.add.at(use, (np.flatnonzero(has), m[has]), 1)
+    return ok & (use <= np.asarray(pool.stock.qty, dtype=np.int64)).all(axis=1)
+
+
+def _realise(positions, rows, sol):
+    """The stock-best networks for a one-row table (assign.Assignment), or None when stock rules it out."""
+    with stopwatch.watch():  # realising a handful of rows is short and must not be cut off half-way
+        a = Assignment(positions, rows, sol.pool, _stock_qty(sol.pool), sol.qlines)
+        return a.solve()
+
+
+def _parts_lb(pool, rows, positions):
+    """Fewest parts a row can be built with: Σ fewest parts per value + its capacitors (≥ 1 each) + Q1."""
+    d = pool.distinct
+    lb = np.ones(len(rows["ge"]), dtype=np.int64)
+    for p in positions:
+        v = rows[p]
+        g = np.clip(np.searchsorted(d.value, v * (1 - 1e-10)), 0, len(d) - 1)
+        lb += np.where(v > 0, d.min_parts[g], 0)
+    has_ce = rows["RE2"] > 0 if "RE2" in rows else np.zeros(len(lb), dtype=bool)
+    return lb + MIN_CAPS + has_ce
+
+
+def _stock_qty(pool) -> np.ndarray:
+    return np.asarray(pool.stock.qty, dtype=np.int64)
+
+
+
+SEARCH_SHARE = 0.3  # of the time limit, at least, for the search itself
+POST_S_PER_DESIGN = 0.3  # analysing one design shown (measured about 0.2 s on this project's 2-core machines)
+# Modules loaded on first use after the search (CP-SAT to realise the designs, scipy's root finder for
+# the exact f_low) and what importing each costs on this project's machines, in seconds.
+LAZY_IMPORTS_S = {"ortools.sat.python.cp_model": 0.5, "scipy.optimize": 0.6}
+OVERRUN_S = 1.0  # no command ends more than this past its time limit
+HINT_RESERVE_S = 0.3
+HINT_SHARE = 0.3  # of the time limit, at most, for shopping hints when nothing fits
+
+
+def find_designs(drawer, spec, *, top=DEFAULT_TOP, depth=DEFAULT_DEPTH, min_yield=None, progress=None, cancel=None,
+                 hints=True, seed=None, prefer=DEFAULT_PREFER, time_limit_s=DEFAULT_TIME_LIMIT_S) -> dict:
+    """The design result document (DEVELOPERS.md) for `spec` from an inventory Drawer.
+
+    The document's "status" is "found" (designs non-empty), "infeasible" (proven: nothing in
+    the drawer meets the spec) or "unproven" (nothing found within `time_limit_s`, not proven
+    impossible); "optimal" says whether the trade-off set is proven complete.
+    """
+    from optimizer.chain.names import is_chain
+    from optimizer.search import explain, result
+    from optimizer.search.hints import HINT_MAX_OHMS, shopping_hints
+
+    if spec.topology == ANY_TOPOLOGY:  # every kind in turn, one trade-off set across them
+        from optimizer.search.across import find_any
+
+        return find_any(drawer, spec, top=top, time_limit_s=time_limit_s, progress=progress, cancel=cancel,
+                        depth=depth, min_yield=min_yield, hints=hints, seed=seed, prefer=prefer)
+
+    if is_chain(spec.topology):  # two stages designed together: optimizer/chain
+        from optimizer.chain.result import find_chain_designs
+
+        return find_chain_designs(drawer, spec, top=top, depth=depth, progress=progress, cancel=cancel, hints=hints,
+                                  prefer=prefer, time_limit_s=time_limit_s, min_yield=min_yield)
+
+    doc = {"designs": [], "why": [], "hints": [], "spec": result.spec_json(spec),
+           "inventory": str(getattr(drawer, "path", "") or ""), "status": "unproven", "optimal": False,
+           "unexplored": None}
+    problems = spec.problems()
+    if problems:
+        doc["why"] = problems
+        doc["error"] = "spec"
+        doc["status"] = "invalid"  # the CLI exits 2 before it gets here
+        return doc
+    rstock, cstock = drawer.resistor_stock(), drawer.capacitor_stock()
+    qlines, notes = usable_transistors(drawer.transistors())
+    locations = {p.line: p.location for p in drawer.parts}
+    mc_seed = result.MC_SEED if seed is None else int(seed)
+    yields = {}
+    t0 = time.perf_counter()
+    limit = float(time_limit_s) if time_limit_s is not None else None
+    # The search gets what the limit leaves after analysing the designs shown (exact analysis at
+    # three hFE, Monte Carlo) and realising them (CP-SAT, loaded on first use), and at least
+    # SEARCH_SHARE of it; when nothing fits, the shopping hints get what is left.
+    post = POST_S_PER_DESIGN * max(1, top) + sum(s for m, s in LAZY_IMPORTS_S.items() if m not in sys.modules)
+    deadline = None if limit is None else t0 + max(SEARCH_SHARE * limit, limit - post)
+
+    def accept(sol, choice, row):
+        y, mc = result.yield_of(sol, choice, spec, seed=mc_seed)
+        yields[id(choice)] = (y, mc)
+        return y >= min_yield
+
+    sol = search(rstock, cstock, qlines, spec, top=top, depth=depth, progress=progress, cancel=cancel,
+                 accept=accept if min_yield is not None else None, prefer=prefer, deadline=deadline)
+    doc["search"] = {"resistor_part_budget": sol.budget, "tuples_screened": sol.near.screened,
+                     "seconds": round(sol.seconds, 3), "exhaustive": sol.exhaustive, "depth": depth,
+                     "prefer": prefer, "time_limit_s": limit, "stopped_by": sol.stopped_by,
+                     "first_design_s": None if sol.first_design_s is None else round(sol.first_design_s, 3)}
+    for k, (choice, row, labels) in enumerate(sol.designs):
+        if k and limit is not None and time.perf_counter() - t0 > limit + OVERRUN_S - POST_S_PER_DESIGN:
+            doc["why"].append(f"{len(sol.designs) - k} more design(s) of the trade-off set left out to keep the "
+                              f"{limit:g} s limit")
+            break
+        y, mc = yields.get(id(choice)) or result.yield_of(sol, choice, spec, seed=mc_seed)
+        doc["designs"].append(result.design_json(sol, choice, row, spec, locations=locations, mc=mc, yld=y,
+                                                 labels=labels))
+    if sol.stopped_by == "cancelled":
+        doc["cancelled"] = True
+    doc["why"] = notes + (sol.notes if sol.designs else []) + doc["why"]
+    if not sol.designs:
+        doc["why"] = explain.reasons(sol, spec) + notes
+        if min_yield is not None and sol.designs == [] and yields:
+            best = max(y for y, _ in yields.values())
+            doc["why"].append(f"--min-yield {min_yield:g}: the best Monte Carlo yield among designs meeting "
+                              f"the spec is {best:.1%}")
+        skip = explain.no_purchase_helps(sol, spec, HINT_MAX_OHMS) if hints and qlines else None
+        if skip:
+            doc["why"].append(skip)
+        elif hints and qlines and not sol.stopped_by:
+            left = None if limit is None else min(t0 + limit - HINT_RESERVE_S - time.perf_counter(),
+                                                  HINT_SHARE * limit)
+            if left is None or left > 0.5:
+                doc["hints"] = shopping_hints(rstock, cstock, qlines, spec, sol, depth=depth, search=search,
+                                              budget_s=left if left is not None else 20.0)
+    doc["optimal"] = bool(sol.exhaustive)
+    doc["unexplored"] = sol.unexplored
+    if not sol.designs and not sol.exhaustive and sol.stopped_by in ("time limit", "cancelled"):
+        how = f"within the {limit:g} s limit" if sol.stopped_by == "time limit" else "before the stop"
+        doc["why"].insert(0, f"no design found {how} ({sol.near.screened:,} value tuples screened; not proven "
+                             f"impossible: {sol.unexplored} were left), so a longer --time-limit may find one")
+    doc["status"] = "found" if doc["designs"] else ("infeasible" if sol.exhaustive else "unproven")
+    if progress:
+        progress(1.0, "done")
+    return doc
