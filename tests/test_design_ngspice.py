@@ -35,7 +35,7 @@ def test_designs_match_ngspice(designs, corner, ngspice):
     for design in found:
         part = drawer.part_at(design["parts"]["Q1"]["line"])
         bf = part.hfe_min if corner == "min" else part.hfe_max
-        q = Transistor(name=part.part, bf=bf)
+        q = Transistor(name=part.part, polarity=part.polarity, bf=bf)
         res = {p: v["ohms"] for p, v in design["parts"].items() if "ohms" in v}
         caps = {p: v["farads"] for p, v in design["parts"].items() if "farads" in v}
         stage = Stage(JOB.topology, res, caps, JOB.supply_v, JOB.source_ohms, JOB.load_ohms, q)

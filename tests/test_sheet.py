@@ -138,10 +138,14 @@ def test_meter_range_spans_the_hfe_and_temperature_corners(saved):
         assert row["typical"] == pytest.approx(design["predicted"][key], abs=1e-6)
         for corner in ("min", "max"):  # the saved figures at the hFE ends (27 °C) lie inside the range
             assert row["low"] - 1e-9 <= design["at_hfe"][corner][key] <= row["high"] + 1e-9
-    # VBE falls about 2 mV/°C (a fact of the trade for silicon junctions), so VE spans more than hFE alone gives.
+    # VBE falls about 2 mV/°C (a fact of the trade for silicon junctions), so VE spans more than hFE alone gives:
+    # an NPN's emitter rises when hot, a PNP's (its emitter side to +V) falls.
     ve = next(r for r in rows if r["point"] == "VE")
     hot = analyze(stage.__class__(**{**stage.__dict__, "temp_c": 50.0})).predicted["ve"]
-    assert ve["high"] >= hot > design["predicted"]["ve"]
+    if design["parts"]["Q1"].get("polarity") == "PNP":
+        assert ve["low"] <= hot < design["predicted"]["ve"]
+    else:
+        assert ve["high"] >= hot > design["predicted"]["ve"]
 
 
 def test_decade_labels_are_whole_decades():

@@ -20,14 +20,16 @@ def _si(value, unit: str) -> str:
 
 def sheet(report) -> str:
     s, p, op = report.stage, report.predicted, report.operating_point
-    lines = [f"{s.topology} stage, {_si(s.supply_v, 'V')} supply, {s.temp_c:g} °C, hFE {s.transistor.bf:g}"]
+    lines = [f"{s.topology} stage ({s.transistor.polarity}), {_si(s.supply_v, 'V')} supply, {s.temp_c:g} °C, "
+             f"hFE {s.transistor.bf:g}"]
     parts = [f"{k} {_si(v, 'Ω')}" for k, v in s.resistors.items()]
     parts += [f"{k} {_si(v, 'F')}" for k, v in s.capacitors.items()]
     lines.append("  parts: " + ", ".join(parts))
     lines.append(f"  source {_si(s.source_ohms, 'Ω')}, load {_si(s.load_ohms, 'Ω') if math.isfinite(s.load_ohms) else 'open'}")
     lines.append("")
     lines.append("Operating point")
-    lines.append(f"  VB {_si(op['vb'], 'V')}   VE {_si(op['ve'], 'V')}   VC {_si(op['vc'], 'V')}   VCE {_si(op['vce'], 'V')}")
+    vce = "VEC" if op.get("polarity") == "PNP" else "VCE"  # a PNP's emitter sits above its collector
+    lines.append(f"  VB {_si(op['vb'], 'V')}   VE {_si(op['ve'], 'V')}   VC {_si(op['vc'], 'V')}   {vce} {_si(op['vce'], 'V')}")
     lines.append(f"  IC {_si(op['ic'], 'A')}   IB {_si(op['ib'], 'A')}   supply current {_si(op['i_supply'], 'A')}")
     a = report.approximations
     hand = f"  by hand: re' = Vt/IC = {_si(a['re_prime'], 'Ω')}"

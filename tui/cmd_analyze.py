@@ -44,6 +44,8 @@ def register(sub) -> None:
     p.add_argument("--supply", default="12", metavar="VOLTS", help="supply voltage (default 12 V)")
     p.add_argument("--source", default="0", metavar="OHMS", help="source resistance (default 0 Ω)")
     p.add_argument("--load", default="open", metavar="OHMS", help="load resistance (default: open, no load)")
+    p.add_argument("--polarity", default="npn", type=str.lower, choices=("npn", "pnp"),
+                   help="Q1's polarity (default npn); a pnp stage has its emitter side to +V and needs --cin and --cout")
     p.add_argument("--hfe", default="200", help="Q1's hFE (BF) at 27 °C (default 200)")
     p.add_argument("--vbe", default="0.65", metavar="VOLTS", help="VBE at IC = 1 mA, 27 °C (default 0.65 V)")
     p.add_argument("--vaf", default="100", metavar="VOLTS", help="Early voltage (default 100 V)")
@@ -127,11 +129,16 @@ def stage_from_args(args) -> tuple[Stage, float | None]:
     if not 0.3 <= vbe <= 1.0:
         raise InputError(f"--vbe: {vbe:g} V at 1 mA is not a silicon junction (expected 0.3…1.0 V)")
     vaf = _value(args, "vaf", parse_voltage)
-    q = Transistor(bf=hfe, is_a=float(is_from_vbe(vbe)), vaf_v=vaf)
+    polarity = str(getattr(args, "polarity", "npn") or "npn").upper()
+    q = Transistor(name=f"generic {polarity}", polarity=polarity, bf=hfe, is_a=float(is_from_vbe(vbe)), vaf_v=vaf)
     swing = _value(args, "swing", parse_voltage)
     if swing is not None and swing >= supply:
         raise InputError(f"--swing: {swing:g} V p-p cannot fit on a {supply:g} V supply")
-    stage = Stage(topology, _resistors(args, topology), _capacitors(args, topology), supply_v=supply,
+    caps = _capacitors(args, topology)
+    if polarity == "PNP" and not ("CIN" in caps and "COUT" in caps):
+        raise InputError("--polarity pnp: give --cin and --cout (a PNP stage is modelled with the source and "
+                         "load coupled through capacitors)")
+    stage = Stage(topology, _resistors(args, topology), caps, supply_v=supply,
                   source_ohms=source, load_ohms=load, transistor=q, temp_c=_temperature(args.temp))
     return stage, swing
 

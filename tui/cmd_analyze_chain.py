@@ -41,6 +41,8 @@ def chain_from_args(args, stage_from_args, resistors, capacitors, error):
     from optimizer.chain.circuit import Chain
 
     first_kind, second_kind = CHAINS[args.topology]
+    if str(getattr(args, "polarity", "npn") or "npn").lower() != "npn":
+        raise error("--polarity: chains are NPN-only for now")
     if args.cout is not None:
         raise error("--cout: a chain's first stage has no COUT; the interstage capacitor is --cin-b")
     one = SimpleNamespace(**{**vars(args), "topology": first_kind})

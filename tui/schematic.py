@@ -54,14 +54,15 @@ class Canvas:
         self.put(x - 1, y + 2, "└┬┘")
         self.put(x + 3, y + 1, label)
 
-    def vcap(self, x: int, y: int, label: str, plus: bool) -> None:
-        """A capacitor on rows y..y+3 of column x, plates across; '+' marks the positive plate."""
+    def vcap(self, x: int, y: int, label: str, plus: bool, plus_below: bool = False) -> None:
+        """A capacitor on rows y..y+3 of column x, plates across; '+' marks the positive plate
+        (the upper one, or the lower one with `plus_below`)."""
         self.put(x, y, "│")
         self.put(x - 1, y + 1, "─┴─")
         self.put(x - 1, y + 2, "─┬─")
         self.put(x, y + 3, "│")
         if plus:
-            self.put(x - 2, y + 1, "+")
+            self.put(x - 2, y + 2 if plus_below else y + 1, "+")
         self.put(x + 3, y + 1, label)
 
     def text(self) -> str:
@@ -84,6 +85,8 @@ def draw_stage(design: dict, *, supply_v: float | None = None, source_ohms: floa
 
     `polarised` names the capacitor positions filled with electrolytic/tantalum
     parts; their '+' plate is drawn toward the transistor, where the DC voltage is.
+    A PNP stage (Q1's "polarity") is the same drawing with the rails swapped: 0 V on
+    top (R1, RC, the load), +V below (R2, the emitter chain, CE with its + toward +V).
     """
     topology = design.get("topology", "common-emitter")
     parts = design.get("parts", {})
@@ -98,16 +101,18 @@ def draw_stage(design: dict, *, supply_v: float | None = None, source_ohms: floa
         return text
 
     rail = f"+{supply_v:g} V " if supply_v is not None else "+V "
-    c.put(0, 0, rail)
-    c.hline(len(rail), X_C, 0)
-    c.put(0, GROUND_Y, "0 V ")
-    c.hline(4, X_LOAD, GROUND_Y)
+    pnp = str(parts.get("Q1", {}).get("polarity", "")).upper() == "PNP"
+    top, bottom = ("0 V ", rail) if pnp else (rail, "0 V ")
+    c.put(0, 0, top)
+    c.hline(len(top), X_LOAD if pnp else X_C, 0)  # a PNP stage's load returns to the 0 V on top
+    c.put(0, GROUND_Y, bottom)
+    c.hline(len(bottom), (X_CE if "CE" in values else X_C) if pnp else X_LOAD, GROUND_Y)
 
     kind = kinds.get(topology)
     follower = kind.output == "e"  # drawn from what the kind declares, not its name
     feedback = kind.bias == "feedback"
     # Collector: RC from the rail, or the rail straight down for a follower.
-    c.put(X_C, 0, "┐")
+    c.put(X_C, 0, "┬" if pnp else "┐")
     if follower:
         c.vline(X_C, 1, BASE_Y - 2)
     else:
@@ -115,7 +120,6 @@ def draw_stage(design: dict, *, supply_v: float | None = None, source_ohms: floa
         c.vline(X_C, 4, BASE_Y - 2)
     # Transistor glyph (NPN arrow out of the emitter; PNP drawn the same with the arrow in).
     q1 = parts.get("Q1", {})
-    pnp = str(q1.get("polarity", "")).upper() == "PNP"
     c.put(X_BAR, BASE_Y - 1, "│╱")
     c.put(X_BAR, BASE_Y, "┤")
     c.put(X_BAR, BASE_Y + 1, "│↖" if pnp else "│↘")
@@ -178,7 +182,7 @@ def draw_stage(design: dict, *, supply_v: float | None = None, source_ohms: floa
             c.put(X_C, node, "├")
             c.hline(X_C + 1, X_CE - 1, node)
             c.put(X_CE, node, "┐")
-            c.vcap(X_CE, node + 1, label("CE"), "CE" in polarised)
+            c.vcap(X_CE, node + 1, label("CE"), "CE" in polarised, plus_below=pnp)
             c.vline(X_CE, node + 5, GROUND_Y - 1)
             c.put(X_CE, GROUND_Y, "┴")
     c.put(X_C, GROUND_Y, "┴")
@@ -187,10 +191,16 @@ def draw_stage(design: dict, *, supply_v: float | None = None, source_ohms: floa
     c.hline(X_C + 1, X_LOAD - 1, out_y)
     c.put(X_COUT, out_y, "+┤├" if "COUT" in polarised else "┤├")
     c.put(X_COUT - 2, out_y - 1, label("COUT"))
-    c.put(X_LOAD, out_y, "┬─○ out")
     load = f"load {figures.ohms(load_ohms)}" if load_ohms is not None else "load"
-    c.resistor(X_LOAD, out_y + 1, load)
-    c.vline(X_LOAD, out_y + 4, GROUND_Y - 1)
-    c.put(X_LOAD, GROUND_Y, "┘")
+    if pnp:  # the load goes up to the 0 V rail on top
+        c.put(X_LOAD, out_y, "┴─○ out")
+        c.resistor(X_LOAD, out_y - 3, load)
+        c.vline(X_LOAD, 1, out_y - 4)
+        c.put(X_LOAD, 0, "┐")
+    else:
+        c.put(X_LOAD, out_y, "┬─○ out")
+        c.resistor(X_LOAD, out_y + 1, load)
+        c.vline(X_LOAD, out_y + 4, GROUND_Y - 1)
+        c.put(X_LOAD, GROUND_Y, "┘")
     drawing = c.text()
     return drawing + ("\n" + "\n".join(legend) if legend else "")

@@ -18,6 +18,7 @@ from optimizer.chain.check import corners as chain_corners
 from optimizer.chain.deck import chain_netlist
 from optimizer.chain.search import search_chain
 from optimizer.physics.analysis import _plain
+from optimizer.physics.polarity import is_pnp
 from optimizer.search.candidates import usable_transistors
 from optimizer.search.result import spec_json
 
@@ -107,6 +108,12 @@ def find_chain_designs(drawer, spec, *, top=5, depth=2, progress=None, cancel=No
     # Stage searches wind up past their deadlines (CP-SAT realising the designs): a second kept for that.
     deadline = None if limit is None else t0 + max(0.6 * limit, limit - post - SEARCH_WIND_UP_S)
     qlines, notes = usable_transistors(drawer.transistors())
+    # Chains are NPN-only for now: the chain's nodal solver joins two stages in one frame, and a PNP
+    # stage is solved in its mirror frame (physics/polarity.py).
+    pnp = [q for q in qlines if is_pnp(q.transistor)]
+    if pnp:
+        qlines = [q for q in qlines if not is_pnp(q.transistor)]
+        notes = notes + [f"{len(pnp)} PNP line(s) left out: chains are NPN-only for now"]
     locations = {p.line: p.location for p in drawer.parts}
     sol = search_chain(drawer.resistor_stock(), drawer.capacitor_stock(), qlines, spec, depth=depth,
                        deadline=deadline, cancel=cancel, progress=progress, prefer=prefer, top=top)

@@ -31,6 +31,7 @@ from optimizer import kinds
 from optimizer.search import objective
 from optimizer.search.feasible import corner_names
 from optimizer.physics.lowcut import LowCut
+from optimizer.physics import polarity
 
 CAP_VOLTAGE_MARGIN = 1.5  # rating ≥ 1.5 × the DC across the part (common practice, no source)
 CAP_POSITIONS = ("CIN", "COUT", "CE")
@@ -38,10 +39,13 @@ GRID_CHUNK = 200_000  # value combinations tested per call
 
 
 def dc_across(topology, row) -> dict[str, float]:
-    """Largest DC voltage (V) across each capacitor over the row's corners; + faces the stage side."""
+    """Largest DC voltage (V) across each capacitor over the row's corners; + faces the stage side
+    (CE's + faces +V in a PNP stage: its DC is then VCC − VN, the mirror frame's VN)."""
     v = dict(kinds.get(topology).cap_nodes)
     v.setdefault("CE", "vn")  # rows of kinds without CE still answer for it (a 0 V node)
-    return {p: max(float(row[f"{c}_{k}"]) for c in corner_names(row)) for p, k in v.items()}
+    real = polarity.row_volts  # CIN, COUT: a PNP row's node voltages are mirrored about the supply
+    return {p: max(float(row[f"{c}_{k}"]) if p == "CE" else real(row, k, c) for c in corner_names(row))
+            for p, k in v.items()}
 
 
 @dataclass(frozen=True)

@@ -18,6 +18,7 @@ from optimizer.physics.distortion import distortion
 from optimizer.physics.ratings import check_ratings
 from optimizer.physics.response import capacitor_corners, curve, lower_corner, midband, small_signal_params
 from optimizer.physics.stage import Stage
+from optimizer.physics import polarity
 
 PREDICTED_KEYS = ("gain", "vb", "ve", "vc", "ic", "rin", "rout", "f_low", "swing_pp", "thd")
 CUTOFF_A = 1e-6  # below 1 µA the stage is not amplifying (common practice, no source)
@@ -103,8 +104,9 @@ def analyze(stage: Stage, swing_pp: float | None = None, *, ratings: dict | None
     caps = capacitor_corners(circuit, op)
     for name, c in caps.items():
         part = next(p for p in circuit.parts if p.name == name)
-        c["dc_v"] = abs(op[part.a] - op[part.b])
-        c["positive_node"] = part.a if op[part.a] >= op[part.b] else part.b
+        va, vb_ = polarity.node_volts(stage, op, part.a), polarity.node_volts(stage, op, part.b)  # real polarity
+        c["dc_v"] = abs(va - vb_)
+        c["positive_node"] = polarity.real_node(part.a if va >= vb_ else part.b, polarity.mirrored(stage))
     f_low = lower_corner(circuit, op, mid.gain)
     limits = _swing_limits(stage, circuit, op, ic, vce)
     vt = circuit.model[4]
@@ -132,8 +134,10 @@ def analyze(stage: Stage, swing_pp: float | None = None, *, ratings: dict | None
                 warnings.append(f"clips at {swing_pp:g} V p-p ({' and '.join(why) or 'limited'}{reach})")
         if swing_pp > limits["pp"]:
             warnings.append(f"asked for {swing_pp:g} V p-p but the load line allows {limits['pp']:.3g} V p-p clip-free")
-    return Report(stage, predicted, point, power, caps, curve(circuit, op), limits,
-                  small_signal_params(circuit, op), approx, dist, warnings)
+    # A PNP stage was solved as its NPN mirror: its DC node voltages are shown in real polarity.
+    return Report(stage, polarity.real_predicted(stage, predicted), polarity.real_point(stage, point), power, caps,
+                  curve(circuit, op), limits, small_signal_params(circuit, op),
+                  polarity.real_approximations(stage, approx), dist, warnings)
 
 
 def _swing_limits(stage: Stage, circuit, op, ic, vce) -> dict:

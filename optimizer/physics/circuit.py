@@ -18,6 +18,7 @@ import numpy as np
 
 from optimizer.physics.stage import Stage
 from optimizer.physics.transistor import terminal_currents
+from optimizer.physics import polarity
 
 NODES = ("0", "vcc", "src", "in", "base", "emit", "mid", "coll", "out")
 # An unloaded output still needs a DC path; the netlist uses the same stand-in.
@@ -54,6 +55,7 @@ def build(stage: Stage) -> Circuit:
     missing = missing_positions(stage)
     if missing:
         raise ValueError(f"{stage.topology} needs {', '.join(missing)}")
+    polarity.require_coupled(stage)  # a PNP stage is solved as its NPN mirror (polarity.py)
     parts, shorts = [], []
 
     def two(name, kind, a, b, value):

@@ -14,6 +14,7 @@ from __future__ import annotations
 from optimizer.physics.circuit import NODES, build
 from optimizer.physics.stage import Stage
 from optimizer.physics.transistor import Transistor
+from optimizer.physics import polarity
 
 # Which name a group of shorted nodes keeps (earlier wins): `in` and `out` must survive a merge,
 # since the surroundings attach there.  "src" is the source's own node: never in the deck.
@@ -45,7 +46,7 @@ def deck_nodes(stage: Stage) -> dict[str, str]:
     for n in NODES:
         ranked = [m for m in group[n] if m in RANK]
         out[n] = min(ranked, key=RANK.index) if ranked else n
-    return out
+    return polarity.real_deck_names(stage, out)  # a PNP stage's parts: 0 and vcc swap
 
 
 def model_name(line: int) -> str:
@@ -101,7 +102,7 @@ def design_netlist(stage: Stage, parts: dict, positive_nodes: dict | None = None
         a, b = name[p.a], name[p.b]
         if a == b:
             continue  # shorted out by an absent neighbour (e.g. CE across a missing RE2)
-        if p.kind == "C" and positive_nodes.get(p.name) == p.b:
+        if p.kind == "C" and positive_nodes.get(p.name) == polarity.real_node(p.b, polarity.mirrored(stage)):
             a, b = b, a
         node = (parts.get(p.name) or {}).get("network") or {"line": 0, ("ohms" if p.kind == "R" else "farads"): p.value}
         _leaves_between(node, a, b, p.name, "ohms" if p.kind == "R" else "farads", lines, {"parts": 0, "nodes": 0})

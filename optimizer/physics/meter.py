@@ -13,6 +13,7 @@ from dataclasses import replace
 
 from optimizer.physics.circuit import build, operating_point
 from optimizer.physics.stage import Stage
+from optimizer.physics import polarity
 
 TEST_POINTS = (("VB", "base"), ("VE", "emit"), ("VC", "coll"))
 
@@ -27,8 +28,8 @@ def meter_checks(stage: Stage, hfe: tuple[float, ...], temps_c: tuple[float, ...
     corners = [operating_point(build(replace(stage, transistor=stage.transistor.with_beta(b), temp_c=float(t))))
                for b in hfe for t in temps_c]
     out = []
-    for point, node in TEST_POINTS:
-        values = [c[node] for c in corners] + [typical[node]]
-        out.append({"point": point, "node": node, "typical": float(typical[node]),
+    for point, node in TEST_POINTS:  # a PNP stage is solved as its mirror: readings in real polarity
+        values = [polarity.node_volts(stage, c, node) for c in corners + [typical]]
+        out.append({"point": point, "node": node, "typical": values[-1],
                     "low": float(min(values)), "high": float(max(values))})
     return out

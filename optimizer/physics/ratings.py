@@ -10,7 +10,8 @@ fraction of the allowed value in use (≤ 1 is fine):
     (common practice, no source).
 DC voltages across the capacitors (the source and the load sit at 0 V DC):
 CIN base − source, COUT collector (emitter for the follower) − load, CE the
-RE1–RE2 node − ground.  A polarised capacitor's + goes toward the higher side.
+RE1–RE2 node − ground (− the supply for a PNP stage, polarity.py).  A polarised
+capacitor's + goes toward the higher side.
 """
 
 from __future__ import annotations
@@ -23,6 +24,7 @@ import numpy as np
 from optimizer import kinds
 from optimizer.parts import network_tree
 from optimizer.physics.transistor import Transistor
+from optimizer.physics import polarity
 
 RESISTOR_DERATING = 0.5  # common practice, no source
 CAPACITOR_MARGIN = 0.8  # common practice, no source
@@ -60,15 +62,22 @@ def _toward(high_side, low_side, v):
     return np.where(np.asarray(v) >= 0, f"+ toward {high_side}", f"+ toward {low_side}")
 
 
-def capacitor_voltages(topology, op) -> dict:
-    """DC voltage (V) across each capacitor, positive when the first-named side is higher."""
-    return {p: op[key] for p, key in kinds.get(topology).cap_nodes.items()}
+def capacitor_voltages(topology, op, *, transistor=None, supply_v=None) -> dict:
+    """DC voltage (V) across each capacitor, positive when the first-named side is higher.
+
+    op is the (mirror-frame, for a PNP) screen result; a PNP `transistor` needs `supply_v`."""
+    volts = {p: op[key] for p, key in kinds.get(topology).cap_nodes.items()}
+    return polarity.capacitor_volts(volts, transistor, supply_v)
 
 
-def orientation(topology, op) -> dict:
+def orientation(topology, op, *, transistor=None, supply_v=None) -> dict:
     """"+ toward …" for each capacitor position, from the DC voltages."""
-    v = capacitor_voltages(topology, op)
-    return {p: _toward(*kinds.get(topology).cap_sides[p], v[p]) for p in v}
+    v = capacitor_voltages(topology, op, transistor=transistor, supply_v=supply_v)
+    sides = kinds.get(topology).cap_sides
+    text = {p: _toward(*sides[p], v[p]) for p in v}
+    if "CE" in v:  # CE's far lead goes to ground, or to +V in a PNP stage
+        text["CE"] = _toward(sides["CE"][0], polarity.ce_return(transistor), v["CE"])
+    return text
 
 
 def check_ratings(topology, op: Mapping, *, transistor: Transistor, supply_v,
@@ -98,12 +107,12 @@ def check_ratings(topology, op: Mapping, *, transistor: Transistor, supply_v,
         add("Q1_vceo", f"{q.name} VCE at cut-off (the supply)", "V", supply_v + 0.0 * op["ic"], q.vceo_v)
     if q.ic_max_a:
         add("Q1_ic", f"{q.name} collector current", "A", op["ic"], q.ic_max_a)
-    volts = capacitor_voltages(topology, op)
+    volts = capacitor_voltages(topology, op, transistor=transistor, supply_v=supply_v)
     for pos, rating in (capacitor_voltage_v or {}).items():
         if rating is not None and pos in volts:
             add(pos, f"{pos} DC voltage", "V", volts[pos], np.asarray(rating) * capacitor_margin)
     polarised = [p for p, yes in (capacitor_polarised or {}).items() if yes]
-    signs = orientation(topology, op)
+    signs = orientation(topology, op, transistor=transistor, supply_v=supply_v)
     return Ratings(usage, {p: signs[p] for p in polarised if p in signs}, what)
 
 

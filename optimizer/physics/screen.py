@@ -2,7 +2,8 @@
 
 `screen` broadcasts over numpy arrays of resistor values (and supply, source,
 load, temperature, β, IS) and returns a dict of arrays of the broadcast shape;
-scalar inputs give 0-d arrays.  NPN on a single positive supply; the physics
+scalar inputs give 0-d arrays.  NPN on a single positive supply (a PNP stage is solved as its NPN
+mirror, polarity.py: node voltages are then the mirror frame's VCC − V); the physics
 lives in `bias`, `smallsignal` and `swing`, this module only wires it up.
 
 Flags (common practice, no source): `saturated` when VCE < VCE(sat) = 0.2 V;
@@ -71,8 +72,6 @@ def screen(
     the source EMF to the load), gain_textbook rin_textbook rout_textbook,
     swing_up swing_down swing_pp (V at the load), p_<position> and p_q (W).
     """
-    if transistor.polarity.upper() != "NPN":
-        raise ValueError(f"{transistor.name}: only NPN stages on a positive supply are modelled so far")
     # The model at temperature, before broadcasting (usually one temperature for all).
     is_t, bf_t, br_t, vt = transistor.at(temp_c)
     if is_a is not None:

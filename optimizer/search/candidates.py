@@ -7,7 +7,8 @@ Candidate space (the README quotes this):
     absent; RE2 is the part bypassed by CE, so CE is fitted exactly when RE2 is;
   * each capacitor position takes one option of `capacitors.capacitor_options`
     (a single part or a parallel pair);
-  * Q1 is one in-stock NPN line with both hFE min and hFE max given;
+  * Q1 is one in-stock NPN or PNP line with both hFE min and hFE max given (a PNP stage is the
+    mirror of the NPN one, polarity.py);
   * counts are shared across all positions.
 
 Value tuples are screened by distinct value (many networks share a value).  They
@@ -56,23 +57,15 @@ def transistor_of(part) -> Transistor:
 
 
 def usable_transistors(parts) -> tuple[list[QLine], list[str]]:
-    """In-stock NPN lines with an hFE range, and notes on the lines left out."""
+    """In-stock NPN and PNP lines with an hFE range, and notes on the lines left out."""
     out, notes = [], []
-    pnp = 0
     for p in parts:
         if p.qty <= 0:
-            continue
-        if (p.polarity or "NPN").upper() != "NPN":
-            pnp += 1
             continue
         if not (p.hfe_min and p.hfe_max and 0 < p.hfe_min <= p.hfe_max):
             notes.append(f"transistor on line {p.line} ({p.part or '?'}) has no hFE range; left out")
             continue
         out.append(QLine(p.line, int(p.qty), transistor_of(p), p.part or f"line {p.line}"))
-    if pnp and not out:
-        notes.append(f"only PNP transistors are in stock ({pnp} line(s)); designs are NPN-only for now")
-    elif pnp:
-        notes.append(f"{pnp} PNP line(s) left out: designs are NPN-only for now")
     return out, notes
 
 

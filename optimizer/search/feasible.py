@@ -19,6 +19,7 @@ from optimizer.physics.screen import screen
 from optimizer.search.stopwatch import poll
 from optimizer.physics.swing import CUTOFF_FRACTION
 from optimizer.physics.thd_screen import thd_at_swing
+from optimizer.physics import polarity
 
 TRANSISTOR_PD_DERATING = 0.5  # dissipation ≤ 50 % of PD(max) (common practice, no source)
 CONSTRAINTS = ("bias", "gain", "swing", "rin", "vce", "current", "ratings", "thd")
@@ -161,6 +162,7 @@ def check(topology, r, q, spec, near: Near | None = None):
     out["thd"] = thd[idx]
     out["isup"] = np.max([f["i_supply"] for f in figs], axis=0)
     out["rob"] = _robustness(figs, thd[idx], spec)
+    out["mirror_v"] = polarity.mirror_column(t, spec.supply_v, len(idx))  # PNP rows: mirror frame
     return out
 
 

@@ -19,6 +19,7 @@ from optimizer.search import feasible
 from optimizer.physics.analysis import analyze
 from optimizer.physics.montecarlo import monte_carlo
 from optimizer.physics.stage import Stage
+from optimizer.physics import polarity
 
 MC_SAMPLES = 2000
 MC_SEED = 1
@@ -71,7 +72,8 @@ def uses_of(sol, choice, row) -> list[dict]:
 def _orientation(sol, row, report) -> list[str]:
     out = []
     names = {"base": "the base (Q1 side)", "in": "the input", "coll": "the collector (Q1 side)",
-             "emit": "the emitter (Q1 side)", "out": "the output", "mid": "the RE1–RE2 junction", "0": "ground"}
+             "emit": "the emitter (Q1 side)", "out": "the output", "mid": "the RE1–RE2 junction", "0": "ground",
+             "vcc": "the supply (+V)"}
     for p, (i, _) in capacitors_of(sol, row).items():
         if not bool(sol.options.polarised[i]):
             continue
@@ -95,7 +97,7 @@ def design_json(sol, choice, row, spec, *, locations=None, mc=None, yld=None, la
     for p, (i, node) in capacitors_of(sol, row).items():
         parts[p] = {"farads": float(sol.options.value[i]), "network": network_tree.to_json(node, "farads"),
                     "polarised": bool(sol.options.polarised[i]), "voltage_v": float(sol.options.voltage_v[i])}
-    parts["Q1"] = {"line": int(q.line), "part": q.name}
+    parts["Q1"] = {"line": int(q.line), "part": q.name, "polarity": q.transistor.polarity}
     uses = uses_of(sol, choice, row)
     data = report.to_json()
     out = {
@@ -115,7 +117,7 @@ def design_json(sol, choice, row, spec, *, locations=None, mc=None, yld=None, la
     }
     out["best_for"] = list(labels)
     out["score"].update(trade_off_json(row))
-    out["corners"] = corners_json(row, spec)
+    out["corners"] = polarity.real_corners(corners_json(row, spec), spec.supply_v, polarity.is_pnp(q.transistor))
     out["netlist"] = deck.design_netlist(typical, parts, report.capacitors)  # README: the netlist contract
     if mc is not None:
         out["mc"] = {"gain": [float(g) for g in np.asarray(mc.samples["gain"])[:MC_KEPT]], "n": int(mc.n),

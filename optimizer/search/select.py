@@ -116,7 +116,7 @@ def search(rstock, cstock, qlines, spec, *, top=3, depth=3, progress=None, cance
     sol.options = options
     cap_qty = np.asarray(cstock.qty, dtype=np.int64)
     if not qlines:
-        sol.why.append("no usable NPN transistor line is in stock")
+        sol.why.append("no usable transistor line (NPN or PNP with an hFE range) is in stock")
         return sol
     if len(rstock.qty) == 0:
         sol.why.append("no resistors are in stock")

@@ -148,8 +148,8 @@ def _transistor(entry, drawer, out):
         out.append(Failure("parts", "", "Q1 is missing"))
         return None
     part = drawer.part_at(int(entry["line"]))
-    if part is None or part.kind != "transistor" or (part.polarity or "NPN").upper() != "NPN":
-        out.append(Failure("parts", "", f"Q1: drawer line {entry['line']} is not an NPN transistor"))
+    if part is None or part.kind != "transistor" or (part.polarity or "NPN").upper() not in ("NPN", "PNP"):
+        out.append(Failure("parts", "", f"Q1: drawer line {entry['line']} is not a transistor"))
         return None
     if not (part.hfe_min and part.hfe_max):
         out.append(Failure("parts", "", f"Q1: line {part.line} gives no hFE range to check the corners with"))

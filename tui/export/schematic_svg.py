@@ -152,17 +152,21 @@ def schematic(sheet: Sheet) -> schemdraw.Drawing:
     else:
         top = max(yb + extent(n.get("R1")), yr + extent(n.get("RC")) if "RC" in n else yb + 1.5, ycoll + 1.0)
     top += 0.6
-    q = d.add(elm.BjtNpn().anchor("base").at((xq, yb)).label("Q1\n" + str(sheet.design["parts"]["Q1"].get("part", "")),
+    # A PNP stage is drawn with the rails swapped: 0 V on top, +V below, the PNP's emitter down.
+    pnp = str(sheet.design["parts"]["Q1"].get("polarity", "")).upper() == "PNP"
+    q = d.add((elm.BjtPnp().flip() if pnp else elm.BjtNpn()).anchor("base").at((xq, yb)).label("Q1\n" + str(sheet.design["parts"]["Q1"].get("part", "")),
                                                              loc="right", fontsize=FONT))
     xe = q.absanchors["emitter"][0]
     xc = q.absanchors["collector"][0]
     # The top rail and its supply mark, the bottom rail and ground.
     left = xb - (max(extent(n.get("CIN"), LEAF_H), 2.0) + 0.6)
     d.add(elm.Line().endpoints((xb if not feedback else xc, top), (xc, top)))
-    d.add(elm.Vdd().at((xc, top)).label(f"+{sheet.stage.supply_v:g} V (VCC)", fontsize=FONT))
+    supply = f"+{sheet.stage.supply_v:g} V (VCC)"
+    d.add(elm.Ground().at((xc, top)).flip().label("0 V", loc="right", fontsize=FONT) if pnp
+          else elm.Vdd().at((xc, top)).label(supply, fontsize=FONT))
     d.add(elm.Line().endpoints((xb, 0.0), (max(xe, xc) + 2.0 + side_room(n.get("RE2"), GAP_V)
                                              + side_room(n.get("CE"), GAP_V) + GAP_V, 0.0)))
-    d.add(elm.Ground().at((xb, 0.0)))
+    d.add(elm.Vss().at((xb, 0.0)).label(supply, loc="bottom", fontsize=FONT) if pnp else elm.Ground().at((xb, 0.0)))
 
     # Input: in ── CIN ── base node.
     cin_plus_at_in = plus.get("CIN") == "in"
@@ -209,7 +213,7 @@ def schematic(sheet: Sheet) -> schemdraw.Drawing:
                 xce = xe + GAP_V + side_room(n.get("RE2"), GAP_V)
                 dr.wire((xe, y_mid), (xce, y_mid))
                 d.add(elm.Dot().at((xe, y_mid)))
-                dr.net("CE", (xce, y_mid), (xce, 0.0), plus_at_a=plus.get("CE") != "0")
+                dr.net("CE", (xce, y_mid), (xce, 0.0), plus_at_a=plus.get("CE") not in ("0", "vcc"))
         else:
             dr.wire((xe, y_mid), (xe, 0.0))
     # Output: collector (emitter) node ── COUT ── out.
