@@ -6,6 +6,7 @@ import math
 from dataclasses import asdict, dataclass
 
 from optimizer import kinds
+from optimizer.chain.names import CHAINS
 from optimizer.physics.stage import TOPOLOGIES
 
 # Defaults a practitioner assumes without saying them (one place: the CLI and the app read these).
@@ -110,8 +111,9 @@ class Spec:
         if out:
             return out
         kind = kinds.get(self.topology) if self.topology in TOPOLOGIES else None
-        if kind is None and self.topology != ANY_TOPOLOGY:
-            out.append(f"--topology: {self.topology!r} is not one of {', '.join((*TOPOLOGIES, ANY_TOPOLOGY))}")
+        if kind is None and self.topology != ANY_TOPOLOGY and self.topology not in CHAINS:
+            out.append(f"--topology: {self.topology!r} is not one of "
+                       f"{', '.join((*TOPOLOGIES, ANY_TOPOLOGY, *CHAINS))}")
         if not self.supply_v > 0:
             out.append(f"--supply: {self.supply_v:g} V; the supply must be positive")
         elif self.supply_v > 60:

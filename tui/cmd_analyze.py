@@ -15,10 +15,12 @@ from pathlib import Path
 
 from inventory.atomic import atomic_write
 from inventory.values import ValueFormatError, parse_capacitance, parse_number, parse_resistance, parse_voltage
+from optimizer.chain.names import CHAINS
 from optimizer.physics.stage import CAPACITOR_POSITIONS, OPTIONAL_POSITIONS, RESISTOR_POSITIONS, TOPOLOGIES, Stage
 from optimizer.physics.transistor import Transistor, is_from_vbe
 from optimizer.spec import Spec
 
+from . import cmd_analyze_chain
 from .analyze_sheet import sheet
 from .request_fields import parse_negative_voltage, rails_shorthand
 
@@ -36,7 +38,7 @@ def register(sub) -> None:
         description="Solve one transistor stage exactly: bias, gain, input/output resistance, "
                     "low cut-off, swing, distortion, dissipation.  Values as on the parts: 4k7, 220u, 12V.",
     )
-    p.add_argument("--topology", required=True, choices=TOPOLOGIES)
+    p.add_argument("--topology", required=True, choices=(*TOPOLOGIES, *CHAINS))
     for flag in RESISTOR_FLAGS:
         p.add_argument(f"--{flag}", metavar="OHMS", help=f"{flag.upper()} (omit = absent)")
     for flag in CAPACITOR_FLAGS:
@@ -55,6 +57,7 @@ def register(sub) -> None:
     p.add_argument("--swing", metavar="VOLTS", help="output swing (V p-p at the load) at which to compute THD")
     p.add_argument("--json", action="store_true", help="print the analysis as JSON")
     p.add_argument("--netlist", metavar="FILE", help="also write a SPICE netlist of the stage")
+    cmd_analyze_chain.add_flags(p)
     p.set_defaults(handler=run)
 
 
@@ -168,6 +171,12 @@ def run(args) -> int:
     from optimizer.physics.analysis import analyze
     from optimizer.physics.netlist import to_netlist
 
+    if args.topology in CHAINS:
+        return cmd_analyze_chain.run_chain(args, stage_from_args, _resistors, _capacitors, InputError)
+    if any(getattr(args, f"{flag}_b", None) is not None for flag in (*cmd_analyze_chain.FLAGS, "hfe")):
+        print("drawerfit analyze: the -b options are for the second stage of a chain (--topology FIRST+SECOND)",
+              file=sys.stderr)
+        return 2
     try:
         stage, swing = stage_from_args(args)
     except InputError as exc:

@@ -222,6 +222,8 @@ OPTIONAL = {f.name for f in FIELDS if f.default == ""}
 GROUPS = (("stage", "The stage"), ("limits", "Limits"), ("search", "Search"))
 
 # The choice fields (the form shows them as lists).
+# The two-stage chains (optimizer/chain) are not in the form yet: the Stage list is in the request
+# snapshots; a saved chain opens in the app all the same.
 TOPOLOGY_CHOICES = (("any kind that fits", ANY_TOPOLOGY),) + tuple((t, t) for t in TOPOLOGIES)
 DEPTH_CHOICES = (("1 part per position", 1), ("up to 2 in series/parallel", 2), ("up to 3 in series/parallel", 3))
 PREFER_CHOICES = tuple((f"{PREFER_WORDS.get(p, p)} first", p) for p in PREFERENCES)

@@ -9,6 +9,9 @@ from __future__ import annotations
 from .widgets import figures
 
 ORDER = ("R1", "R2", "RB", "RC", "RE", "RE1", "RE2", "CIN", "COUT", "CE", "Q1")
+# A chain's second stage: its positions with the suffix _B (CIN_B the interstage capacitor), Q2.
+ORDER = ORDER + tuple(p + "_B" for p in ORDER[:-1]) + ("Q2",)
+TRANSISTORS = ("Q1", "Q2")
 FIT_WITH_POWER_OFF = ("Work with the supply off while fitting parts; set the bench supply's current limit low "
                       "for the first power-up.")
 LOCAL_CODES = "These are low-voltage bench circuits; for anything mains-powered, local codes and licensed practice apply."
@@ -48,7 +51,7 @@ def network_text(node: dict) -> str:
 
 
 def position_value(pos: str, part: dict) -> str:
-    if pos == "Q1":
+    if pos in TRANSISTORS:
         return str(part.get("part", "?"))
     return figures.part_value(part)
 
@@ -102,7 +105,7 @@ def part_lines(design: dict) -> list[str]:
         part = design.get("parts", {}).get(pos)
         if part is None:
             continue
-        if pos == "Q1":
+        if pos in TRANSISTORS:
             out.append(f"  {pos:<5} {part.get('part', '?'):<12} {where(part.get('line'))}")
             continue
         node = part.get("network") or {}
@@ -121,6 +124,8 @@ def part_lines(design: dict) -> list[str]:
 
 def meter_lines(design: dict) -> list[str]:
     """The DC voltages to check, with their range over the hFE spread, low end first."""
+    if design.get("stages"):
+        return chain_meter_lines(design)
     p = design.get("predicted", {})
     at = design.get("at_hfe") or {}
     out = []
@@ -133,6 +138,35 @@ def meter_lines(design: dict) -> list[str]:
     return out
 
 
+def chain_meter_lines(design: dict) -> list[str]:
+    """A chain's meter checks: VB, VE, VC of each transistor, with the range over every corner
+    (both transistors' hFE ends and the temperatures), low end first."""
+    corners = list((design.get("corners") or {}).values())
+    out = []
+    for k, (q, stage) in enumerate(zip(TRANSISTORS, design.get("stages") or [])):
+        p = stage.get("predicted") or {}
+        suffix = "" if k == 0 else "_b"
+        for name, key in (("VB", "vb"), ("VE", "ve"), ("VC", "vc")):
+            text = f"  {q} {name} ≈ {figures.volts(p.get(key))}"
+            values = [c.get(key + suffix) for c in corners if isinstance(c.get(key + suffix), (int, float))]
+            if values:
+                text += f"   ({figures.span(min(values), max(values), figures.volts)} over hFE and temperature)"
+            out.append(text)
+        out.append(f"  {q} IC ≈ {figures.amps(p.get('ic'))}")
+    return out
+
+
+def stage_lines(design: dict) -> list[str]:
+    """One line per stage of a chain: its kind, gain within the chain, Rin, Rout (typical hFE)."""
+    out = []
+    for k, stage in enumerate(design.get("stages") or [], 1):
+        p = stage.get("predicted") or {}
+        out.append(f"  stage {k}: {stage.get('kind', '?')}  gain {figures.gain(p.get('gain'))}  "
+                   f"Rin {figures.ohms(p.get('rin'))}  Rout {figures.ohms(p.get('rout'))}  "
+                   f"({', '.join(stage.get('positions') or [])})")
+    return out
+
+
 def sheet(design: dict, spec: dict | None = None) -> str:
     """The build sheet of one design."""
     p = design.get("predicted", {})
@@ -142,6 +176,9 @@ def sheet(design: dict, spec: dict | None = None) -> str:
     best = best_for_text(design)
     if best:
         out.append(f"  best for: {best}")
+    if design.get("stages"):
+        out += ["", "Stages (the second stage's positions end in _B; CIN_B couples stage 1 to stage 2):",
+                *stage_lines(design)]
     out += ["", "Parts (value, then where to take it from):", *part_lines(design)]
     out += ["", "Check with a meter (DC, to 0 V, supply on, no signal):", *meter_lines(design)]
     out += ["", "Predicted (typical hFE):"]

@@ -1,8 +1,9 @@
 """`--topology any`: every kind the request can use, searched in turn, one trade-off set across them.
 
-Each kind is searched by `select.find_designs` with a share of the time limit: the kinds still to
-go split what is left equally, so a kind that finishes early (proven, or nothing to build) hands
-its time on.  The designs found are pooled and the trade-off set is taken again over the pool
+Each kind is searched by `select.find_designs` with a share of the time limit: the single-stage
+kinds first, splitting half the limit between them, then the two-stage chains (optimizer/chain)
+with the rest; within each group the kinds still to go split what is left equally, so a kind that
+finishes early (proven, or nothing to build) hands its time on.  The designs found are pooled and the trade-off set is taken again over the pool
 with the same four counts (tradeoff.py), so a design of one kind that another kind's design beats
 on every count drops out.  Kinds whose own gain limit rules the request out are skipped and
 named.
@@ -12,7 +13,8 @@ preference a design of fewer stages comes before one of more stages (a single st
 the spec is what a bench builds first); any other preference is taken as asked, so "clean" may
 put a two-stage chain first.  Kinds with more than one stage register `stages` > 1.
 
-The document says "optimal": true only when every kind searched was proven complete.
+The document says "optimal": true only when every kind searched was proven complete (a chain's
+search never is: chains are found, not proven).
 """
 
 from __future__ import annotations
@@ -25,10 +27,15 @@ from optimizer.search import tradeoff
 from optimizer.spec import ANY_TOPOLOGY as ANY  # noqa: F401  (the request's name for "every kind")
 
 
-def usable_kinds(spec) -> tuple[list[str], list[str]]:
-    """(kinds to search, notes on the kinds left out and why)."""
+def usable_kinds(spec, *, min_yield=None) -> tuple[list[str], list[str]]:
+    """(kinds to search, single stages first, then two-stage chains; notes on those left out and why)."""
+    from optimizer.chain.names import CHAINS
+
     use, notes = [], []
-    for name in kinds.names():
+    for name in (*kinds.names(), *CHAINS):
+        if name in CHAINS and min_yield is not None:
+            notes.append(f"{name}: left out (a chain has no Monte Carlo yield yet, and --min-yield asks for one)")
+            continue
         # The kind's own limits (its gain, the rails it runs on, a DC-coupled input) say whether it can.
         problems = replace(spec, topology=name).problems()
         if problems:
@@ -71,9 +78,10 @@ def find_any(drawer, spec, *, top, time_limit_s, progress=None, cancel=None, **k
     if problems:
         return {"designs": [], "why": problems, "hints": [], "spec": spec_json(spec), "error": "spec",
                 "status": "invalid", "optimal": False, "unexplored": None}
-    names, notes = usable_kinds(spec)
+    names, notes = usable_kinds(spec, min_yield=kw.get("min_yield"))
     t0 = time.perf_counter()
     limit = None if time_limit_s is None else float(time_limit_s)
+    singles = [n for n in names if n in kinds.names()]
     docs: dict[str, dict] = {}
     for k, name in enumerate(names):
         if cancel is not None and cancel.is_set():
@@ -83,6 +91,9 @@ def find_any(drawer, spec, *, top, time_limit_s, progress=None, cancel=None, **k
             notes.append(f"{name}: not searched, the {limit:g} s limit was spent on the kinds before it")
             continue
         share = None if left is None else left / (len(names) - k)
+        if left is not None and k < len(singles) < len(names):
+            # Single stages first, with half the limit between them: the chains get the rest.
+            share = max(0.0, left - limit / 2) / (len(singles) - k) if left > limit / 2 else left / (len(names) - k)
 
         def part(frac, text, k=k, name=name):
             if progress:

@@ -458,6 +458,7 @@ def find_designs(drawer, spec, *, top=DEFAULT_TOP, depth=DEFAULT_DEPTH, min_yiel
     the drawer meets the spec) or "unproven" (nothing found within `time_limit_s`, not proven
     impossible); "optimal" says whether the trade-off set is proven complete.
     """
+    from optimizer.chain.names import is_chain
     from optimizer.search import explain, result
     from optimizer.search.hints import HINT_MAX_OHMS, shopping_hints
 
@@ -466,6 +467,12 @@ def find_designs(drawer, spec, *, top=DEFAULT_TOP, depth=DEFAULT_DEPTH, min_yiel
 
         return find_any(drawer, spec, top=top, time_limit_s=time_limit_s, progress=progress, cancel=cancel,
                         depth=depth, min_yield=min_yield, hints=hints, seed=seed, prefer=prefer)
+
+    if is_chain(spec.topology):  # two stages designed together: optimizer/chain
+        from optimizer.chain.result import find_chain_designs
+
+        return find_chain_designs(drawer, spec, top=top, depth=depth, progress=progress, cancel=cancel, hints=hints,
+                                  prefer=prefer, time_limit_s=time_limit_s, min_yield=min_yield)
 
     doc = {"designs": [], "why": [], "hints": [], "spec": result.spec_json(spec),
            "inventory": str(getattr(drawer, "path", "") or ""), "status": "unproven", "optimal": False,

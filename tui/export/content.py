@@ -148,6 +148,9 @@ def pick_list(design: dict, networks: dict) -> list[dict]:
 def build_sheet(doc: dict, pick: int, source: str) -> Sheet:
     design = doc["designs"][pick - 1]
     spec = doc.get("spec") or {}
+    if design.get("stages"):
+        raise SheetInputError(f"{source}: design {pick} is a two-stage chain; only its csv and cir "
+                              "files are written so far (`drawerfit design` without --json prints its build sheet)")
     try:
         stage = stage_of_design(design, spec)
         networks = {}

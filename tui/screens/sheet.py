@@ -9,6 +9,7 @@ html sheet, ngspice) runs in thread workers that hand back through `call_from_th
 
 from __future__ import annotations
 
+import functools
 from pathlib import Path
 
 from textual import work
@@ -23,7 +24,8 @@ from inventory.atomic import atomic_write
 from optimizer.parts import network_tree
 from ..builds import build_record, last_build, record_problem, sheet_document, tag_of
 from ..schematic import draw_stage, position_text
-from ..sheet_text import best_for_text, cautions
+from ..schematic_chain import draw_chain
+from ..sheet_text import best_for_text, cautions, chain_meter_lines
 from ..widgets import figures
 from ..widgets.chart import Chart, draw_histogram, draw_response
 from ..widgets.crosscheck_panel import BAD_DESIGN, CrossCheckPanel
@@ -77,6 +79,8 @@ def meter_text(design: dict) -> str:
     p = design.get("predicted", {})
     spread = design.get("at_hfe") or {}
     lines = ["Power up with no signal; black probe on 0 V."]
+    if design.get("stages"):
+        return "\n".join(lines + chain_meter_lines(design))
     for name, key in (("Base", "vb"), ("Emitter", "ve"), ("Collector", "vc")):
         lo = spread.get("min", {}).get(key)
         hi = spread.get("max", {}).get(key)
@@ -162,8 +166,10 @@ class SheetScreen(Screen):
             yield Label(f"Build sheet: design #{self.rank}, {design.get('topology', '')}, "
                         f"Q1 {q1.get('part', '')}{spread}" + (f"\nBest for: {best}" if best else ""),
                         classes="section-title")
-            yield Static(draw_stage(design, supply_v=spec.get("supply_v"), source_ohms=spec.get("source_ohms"),
-                                    negative_supply_v=spec.get("negative_supply_v"),
+            # A chain draws both its stages; a split-supply stage also its negative rail.
+            draw = draw_chain if design.get("stages") else \
+                functools.partial(draw_stage, negative_supply_v=spec.get("negative_supply_v"))
+            yield Static(draw(design, supply_v=spec.get("supply_v"), source_ohms=spec.get("source_ohms"),
                                     load_ohms=spec.get("load_ohms"),
                                     polarised=polarised_positions(design, drawer)), id="schematic")
             yield Label("Parts (drawer line and place)", classes="section-title")

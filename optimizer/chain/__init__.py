@@ -1,0 +1,1 @@
+"""Two-stage chains: two stages designed together, the second stage being the first one's load."""

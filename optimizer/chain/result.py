@@ -1,0 +1,170 @@
+"""The design result document for a chain (the single-stage shape, plus "stages").
+
+Each design keeps the keys every reader knows ("parts", "predicted", "uses", "at_hfe", "score",
+"corners", "netlist", …) and adds "stages": [{"kind", "positions", "predicted"}], first stage first.
+"parts" names the second stage's positions with the suffix "_B" and its transistor Q2; CIN_B is
+the interstage capacitor.  "predicted" is the whole chain's (gain from the source EMF to the load,
+Rin, Rout, f_low, swing, THD), with VB, VE, VC and IC of Q1; each stage's own are in "stages".
+"at_hfe" gives the chain with both transistors at their hFE min, and both at their max.
+"""
+
+from __future__ import annotations
+
+import time
+from dataclasses import replace
+
+from optimizer.chain.analysis import analyze_chain
+from optimizer.chain.check import corners as chain_corners
+from optimizer.chain.deck import chain_netlist
+from optimizer.chain.search import search_chain
+from optimizer.physics.analysis import _plain
+from optimizer.physics.polarity import is_pnp
+from optimizer.search.candidates import usable_transistors
+from optimizer.search.result import spec_json
+
+ORIENTATION_NODES = {"in": "the input", "x": "the first stage's output", "out": "the output", "0": "ground",
+                     "base1": "Q1's base", "emit1": "Q1's emitter", "coll1": "Q1's collector",
+                     "mid1": "the RE1–RE2 junction",
+                     "base2": "Q2's base", "emit2": "Q2's emitter", "coll2": "Q2's collector",
+                     "mid2": "the RE1_B–RE2_B junction"}
+POST_S_PER_DESIGN = 0.6  # the exact analysis of one chain shown (three corners, the response, THD)
+OVERRUN_S = 1.0
+SEARCH_WIND_UP_S = 1.0
+
+
+def _at(chain, bf1, bf2, swing_pp):
+    c = replace(chain, first=replace(chain.first, transistor=chain.first.transistor.with_beta(bf1)),
+                second=replace(chain.second, transistor=chain.second.transistor.with_beta(bf2)))
+    return analyze_chain(c, swing_pp)
+
+
+def design_json(cand, spec, *, labels=(), locations=None) -> dict:
+    """One entry of "designs" for a chain Candidate (search.py)."""
+    ch = cand.chain
+    h1, h2 = cand.halves
+    report = analyze_chain(ch, spec.swing_pp if spec.swing_pp > 0 else None)
+    at = {end: _at(ch, getattr(h1.q.transistor, f"hfe_{end}"), getattr(h2.q.transistor, f"hfe_{end}"),
+                   spec.swing_pp if spec.swing_pp > 0 else None).predicted for end in ("min", "max")}
+    uses = [{"line": int(k), "qty": int(v)} for k, v in sorted(cand.uses.items())]
+    parts = dict(cand.parts)
+    parts["Q2"] = dict(parts.get("Q2") or {"line": int(h2.q.line), "part": h2.q.name})
+    cautions = list(report.cautions)
+    for name, node in report.positive_nodes.items():
+        part = parts.get(name) or {}
+        if part.get("polarised"):
+            cautions.append(f"{name} is polarised: fit its + lead toward {ORIENTATION_NODES.get(node, node)} "
+                            f"(rated {part.get('voltage_v', 0):g} V)")
+    v = cand.verdict
+    corners = {}
+    if v is not None and v.figures is not None:
+        f = v.figures
+        (c1, b1, e1), (c2, b2, e2) = f.net.qs
+        for k, (name, (bf1, bf2, temp)) in enumerate(zip(v.names, chain_corners(h1.q, h2.q, spec).values(),
+                                                        strict=True)):
+            end1, _, rest = name.partition(".")
+            corners[name] = {"hfe_end": end1, "hfe_end_b": rest.split("_")[0], "temp_c": temp, "hfe": bf1, "hfe_b": bf2,
+                             "vb": f.node(b1)[k], "ve": f.node(e1)[k], "vc": f.node(c1)[k],
+                             "vb_b": f.node(b2)[k], "ve_b": f.node(e2)[k], "vc_b": f.node(c2)[k],
+                             "gain": f.gain[k], "rin": f.rin[k], "thd": None if f.thd is None else f.thd[k]}
+    out = {
+        "topology": ch.kind,
+        "stages": report.stages,
+        "parts": parts,
+        "predicted": report.predicted,
+        "uses": uses,
+        "at_hfe": at,
+        "hfe": {"min": h1.q.transistor.hfe_min, "typical": h1.q.transistor.bf, "max": h1.q.transistor.hfe_max},
+        "hfe_b": {"min": h2.q.transistor.hfe_min, "typical": h2.q.transistor.bf, "max": h2.q.transistor.hfe_max},
+        "score": {"parts": cand.part_count, "thd": None if v is None else v.thd,
+                  "robustness": None if v is None else v.robustness, "supply_a": None if v is None else v.supply_a},
+        "yield": None,
+        "warnings": report.warnings,
+        "cautions": cautions,
+        "locations": {str(u["line"]): (locations or {}).get(u["line"], "") for u in uses},
+        "response": {"freq_hz": report.response["freq_hz"], "gain_db": report.response["gain_db"]},
+        "mc": None,
+        "best_for": list(labels),
+        "corners": corners,
+        "netlist": chain_netlist(ch, parts),
+    }
+    return _plain(out)
+
+
+def find_chain_designs(drawer, spec, *, top=5, depth=2, progress=None, cancel=None, hints=True, prefer="balanced",
+                       time_limit_s=10.0, min_yield=None) -> dict:
+    """The result document for a chain spec (select.find_designs hands chain topologies here)."""
+    doc = {"designs": [], "why": [], "hints": [], "spec": spec_json(spec),
+           "inventory": str(getattr(drawer, "path", "") or ""), "status": "unproven", "optimal": False,
+           "unexplored": None}
+    problems = spec.problems()
+    if min_yield is not None:  # not silently dropped: a chain has no Monte Carlo yield yet
+        problems.append("--min-yield: a chain has no Monte Carlo yield yet; leave --min-yield out for chains")
+    if problems:
+        doc.update(why=problems, error="spec", status="invalid")
+        return doc
+    t0 = time.perf_counter()
+    limit = float(time_limit_s) if time_limit_s is not None else None
+    post = POST_S_PER_DESIGN * max(1, top)
+    # Stage searches wind up past their deadlines (CP-SAT realising the designs): a second kept for that.
+    deadline = None if limit is None else t0 + max(0.6 * limit, limit - post - SEARCH_WIND_UP_S)
+    qlines, notes = usable_transistors(drawer.transistors())
+    # Chains are NPN-only for now: the chain's nodal solver joins two stages in one frame, and a PNP
+    # stage is solved in its mirror frame (physics/polarity.py).
+    pnp = [q for q in qlines if is_pnp(q.transistor)]
+    if pnp:
+        qlines = [q for q in qlines if not is_pnp(q.transistor)]
+        notes = notes + [f"{len(pnp)} PNP line(s) left out: chains are NPN-only for now"]
+    locations = {p.line: p.location for p in drawer.parts}
+    sol = search_chain(drawer.resistor_stock(), drawer.capacitor_stock(), qlines, spec, depth=depth,
+                       deadline=deadline, cancel=cancel, progress=progress, prefer=prefer, top=top)
+    doc["search"] = {"seconds": round(sol.seconds, 3), "exhaustive": False, "depth": depth, "prefer": prefer,
+                     "time_limit_s": limit, "stopped_by": sol.stopped_by, "stage_searches": sol.stage_searches,
+                     "chains_checked": sol.pairs, "chains_meeting": len(sol.found)}
+    for k, (cand, labels) in enumerate(sol.shown):
+        if k and limit is not None and time.perf_counter() - t0 > limit + OVERRUN_S - POST_S_PER_DESIGN:
+            doc["why"].append(f"{len(sol.shown) - k} more chain(s) of the trade-off set left out to keep the "
+                              f"{limit:g} s limit")
+            break
+        doc["designs"].append(design_json(cand, spec, labels=labels, locations=locations))
+    if doc["designs"]:
+        doc["unexplored"] = sol.unexplored
+        doc["status"] = "found"
+        doc["why"] = notes + doc["why"]
+    else:
+        doc["why"] = sol.why + _reasons(sol, spec) + notes
+        doc["hints"] = list(sol.hints) if hints else []
+        doc["status"] = "infeasible" if sol.proven_none else "unproven"
+        doc["unexplored"] = None if sol.proven_none else sol.unexplored
+    if sol.stopped_by == "cancelled":
+        doc["cancelled"] = True
+    if progress:
+        progress(1.0, "done")
+    return doc
+
+
+LIMIT_WORDS = {"gain": "the chain's gain left its tolerance at some corner",
+               "gain spread": "the first stage's gain spreads over its corners more than the chain's tolerance allows",
+               "rin": "the chain's input resistance fell below the floor at some corner",
+               "thd": "the chain's THD at the swing was over --max-thd at some corner",
+               "swing": "the chain clipped before the asked swing at some corner",
+               "low_cut": "the chain's f_low was above --low-cut at some corner",
+               "vce": "a transistor's VCE fell below --min-vce at some corner",
+               "bias": "a transistor was cut off or saturated at some corner",
+               "current": "the supply current was over --max-current at some corner",
+               "ratings": "a capacitor or transistor rating was exceeded at some corner"}
+
+
+def _reasons(sol, spec) -> list[str]:
+    """Why no chain was found: the limits the chains checked broke, and what the stage searches said."""
+    out = []
+    if sol.failed:
+        top = ", ".join(f"{LIMIT_WORDS.get(k, k)} ({n})" for k, n in sol.failed.most_common(3))
+        out.append(f"{sol.pairs} chain(s) were checked whole and none met the spec: {top}")
+    for stage_spec, why in sol.stage_empty[:2]:
+        out.append(f"no {stage_spec.topology} stage for gain {stage_spec.gain:.3g} ±{stage_spec.gain_tol:.1%} "
+                   f"(source {stage_spec.source_ohms:.3g} Ω, load {stage_spec.load_ohms:.3g} Ω): " + "; ".join(why))
+    if not sol.proven_none:
+        how = "within the time limit" if sol.stopped_by != "cancelled" else "before the stop"
+        out.append(f"no chain found {how}; not proven impossible (the chain search tries a few gain splits and "
+                   "stage pairs), so a longer --time-limit may find one")
+    return out

@@ -1,0 +1,238 @@
+"""The joint search for a two-stage chain: stages designed one after the other on shared stock,
+then every pair checked whole at every corner (check.py).
+
+The plan per chain kind (the gain split and which stage is designed first):
+  * emitter-follower+common-emitter: the follower first (source: the spec's; load: the least input
+    resistance the second stage will be asked for; its gain left free), then the common emitter
+    driven by the follower's output resistance, for the gain the chain still needs;
+  * common-emitter+common-emitter: the second stage first (driven from the interstage node, the
+    real load), at a share of the gain the transistors make (√(G/loss) first, with loss the source's division into about
+    twice the Rin floor, then exponents 0.4 and 0.6 while time is left), then
+    the first stage loaded by the second's input resistance, for the rest of the gain;
+  * common-emitter+emitter-follower: the follower first (the real load, its gain left free), then
+    the common emitter loaded by the follower's input resistance.
+Each single stage comes from select.search (its trade-off set, anytime, within a share of the
+time); the second search sees the stock the first design leaves (select.search on less stock and
+one transistor fewer), so every chain is buildable from the counts on hand.  The gain tolerance is
+split so the product of the two stages' corner spreads stays within the chain's; THD, low cut-off
+and ratings get shares too; the whole chain is then checked exactly, so the shares only steer.
+
+This is a heuristic over gain splits and stage pairs: the chain's trade-off set is never proven
+complete, and the document says "optimal": false with what was left unexplored.
+"""
+
+from __future__ import annotations
+
+import time
+from collections import Counter
+from dataclasses import dataclass, field, replace
+
+from optimizer.chain.check import Verdict, check_chain, corners
+from optimizer.chain.circuit import Chain
+from optimizer.chain.halves import Half, half_of, less_stock, less_transistor
+from optimizer.chain.names import CE, CHAINS, EF, second
+from optimizer.chain.plan import CE_SPLITS, first_plan, rin2_floor, second_plan
+from optimizer.search import tradeoff
+from optimizer.search.select import search as stage_search
+
+FIRSTS = 3  # designs of the first search carried on
+SECONDS = 3  # designs of each second search
+# Of a split's time, for the stage designed first: a follower is quick to design, a common emitter
+# of a share of the gain is as hard as the second stage.
+FIRST_SHARE = {f"{EF}+{CE}": 0.3, f"{CE}+{CE}": 0.4, f"{CE}+{EF}": 0.3}
+# select.search works past its deadline to realise the designs it shows (CP-SAT, loaded on first use):
+# each stage search is handed its slice less this much (measured 0.3–0.9 s on this project's machines).
+STAGE_RESERVE_S = 0.8
+SPLIT_MIN_S = 30.0  # time left below which the first gain split gets all of it
+CHECK_S = 0.4  # one chain checked at every corner (measured 0.35 s for 12 corners)
+
+
+@dataclass
+class Candidate:
+    chain: Chain
+    halves: tuple  # (Half of stage 1, Half of stage 2)
+    parts: dict  # design-JSON parts with suffixed positions, Q1, Q2
+    uses: Counter
+    ratings: dict  # capacitor → (volts, polarised)
+    verdict: Verdict | None = None
+
+    @property
+    def part_count(self) -> int:
+        return int(sum(self.uses.values()))
+
+
+@dataclass
+class ChainSolution:
+    spec: object
+    found: list = field(default_factory=list)  # Candidates meeting the spec
+    shown: list = field(default_factory=list)  # (Candidate, labels), the preferred first
+    why: list = field(default_factory=list)
+    hints: list = field(default_factory=list)
+    failed: Counter = field(default_factory=Counter)  # limit → chains that broke it
+    pairs: int = 0
+    stage_searches: int = 0
+    stage_empty: list = field(default_factory=list)  # reasons single-stage searches found nothing
+    proven_none: bool = False
+    stopped_by: str | None = None
+    seconds: float = 0.0
+    unexplored: str = ("other gain splits and other pairs of stages: the chain search designs the stages one "
+                       "after the other from a few designs of each stage's trade-off set, so its set is not "
+                       "proven complete")
+
+
+def _join(kind, spec, h1: Half, h2: Half, index) -> Candidate:
+    """The chain of two halves.  The first stage's COUT and the second's CIN are one capacitor in a
+    chain (CIN_B): the one chosen by the stage designed second, which saw the real surroundings."""
+    donor = h1 if index == 1 else h2  # the stage designed second
+    inter = donor.parts.get("COUT" if donor is h1 else "CIN")
+    c1 = {k: v for k, v in h1.capacitors.items() if k != "COUT"}
+    c2 = {k: v for k, v in h2.capacitors.items() if k != "CIN"}
+    if inter is not None:
+        c2["CIN"] = float(inter["farads"])
+    s1 = h1.stage(spec, load_ohms=float("inf"))
+    s1 = replace(s1, capacitors=c1)
+    s2 = replace(h2.stage(spec, source_ohms=0.0), capacitors=c2)
+    parts = {p: v for p, v in h1.parts.items() if p != "COUT"}
+    parts.update({second(p): v for p, v in h2.parts.items() if p != "CIN"})
+    if inter is not None:
+        parts["CIN_B"] = inter
+    uses = h1.counter(leave_out=("COUT",)) + h2.counter(leave_out=("CIN",))
+    uses.update(donor.uses.get("COUT" if donor is h1 else "CIN", Counter()))
+    ratings = {p: (float(v.get("voltage_v", float("nan"))), bool(v.get("polarised", False)))
+               for p, v in parts.items() if "farads" in v}
+    return Candidate(Chain(kind, s1, s2), (h1, h2), parts, uses, ratings)
+
+
+def search_chain(rstock, cstock, qlines, spec, *, depth=2, deadline=None, cancel=None, progress=None,
+                 prefer="balanced", top=5) -> ChainSolution:
+    """The chains found for `spec` (spec.topology a chain kind) within `deadline` (perf_counter)."""
+    t0 = time.perf_counter()
+    kind = spec.topology
+    sol = ChainSolution(spec)
+    if not _stocked(rstock, cstock, qlines, sol):
+        sol.seconds = time.perf_counter() - t0
+        return sol
+    floor2 = rin2_floor(spec, qlines, kind)
+    splits = CE_SPLITS if CHAINS[kind] == (CE, CE) else (None,)
+    end = deadline if deadline is not None else t0 + 60.0
+    seen = set()
+    for k, split in enumerate(splits):
+        if _stop(cancel, end, sol):
+            break
+        # The first split gets most of the time; later ones what is left, while a design is still missing.
+        if k and (sol.found or end - time.perf_counter() < 3.0):
+            break
+        # A single-stage search needs seconds to get going: more than one split only on a long limit.
+        left = end - time.perf_counter()
+        share = 0.6 if k + 1 < len(splits) and left > SPLIT_MIN_S else 1.0
+        slot_end = time.perf_counter() + left * share
+        _one_split(kind, spec, split, floor2, rstock, cstock, qlines, depth, slot_end, cancel, sol, seen, progress)
+    if sol.stopped_by is None and deadline is not None and time.perf_counter() >= deadline:
+        sol.stopped_by = "time limit"
+    sol.shown = _shown(sol.found, prefer, top)
+    sol.seconds = time.perf_counter() - t0
+    return sol
+
+
+def _stocked(rstock, cstock, qlines, sol) -> bool:
+    """False (with the reason, proven) when the drawer cannot hold any chain at all."""
+    npn = sum(q.qty for q in qlines)
+    if not qlines:
+        sol.why.append("no usable NPN transistor line is in stock (a chain needs two NPN transistors)")
+    elif npn < 2:
+        q = qlines[0]
+        sol.why.append(f"the drawer lacks a second NPN: only one usable NPN transistor is in stock "
+                       f"({q.name}, line {q.line}); a chain needs two")
+        sol.hints.append({"position": "Q2", "buy": f"one more {q.name} (or any NPN with an hFE range)",
+                          "value": q.name, "effect": "a second transistor for the chain's second stage"})
+    if len(rstock.qty) == 0:
+        sol.why.append("no resistors are in stock")
+    if len(cstock.qty) == 0:
+        sol.why.append("no capacitors are in stock (a chain fits CIN, the interstage CIN_B and COUT_B)")
+    if sol.why:
+        sol.proven_none = True
+        return False
+    return True
+
+
+def _stop(cancel, end, sol) -> bool:
+    if cancel is not None and cancel.is_set():
+        sol.stopped_by = "cancelled"
+        return True
+    if time.perf_counter() >= end:
+        sol.stopped_by = sol.stopped_by or "time limit"
+        return True
+    return False
+
+
+def _run_stage(rstock, cstock, qlines, spec, depth, end, cancel, sol):
+    left = end - time.perf_counter() - STAGE_RESERVE_S
+    if left <= 0.05:
+        sol.stage_empty.append((spec, ["no time was left for this stage's search"]))
+        return []
+    sub = stage_search(rstock, cstock, qlines, spec, top=FIRSTS, depth=depth, cancel=cancel,
+                       deadline=time.perf_counter() + left)
+    sol.stage_searches += 1
+    if not sub.designs:
+        from optimizer.search.explain import reasons
+
+        why = reasons(sub, spec)[:2]
+        if sub.stopped_by:
+            why = [f"its search stopped ({sub.stopped_by}) after {sub.near.screened:,} value tuples"] + why[1:]
+        sol.stage_empty.append((spec, why))
+    return [half_of(sub, choice, row, spec.topology) for choice, row, _ in sub.designs]
+
+
+def _one_split(kind, spec, split, floor2, rstock, cstock, qlines, depth, end, cancel, sol, seen, progress):
+    index, spec_a = first_plan(spec, kind, split, floor2)
+    start = time.perf_counter()
+    span = max(end - start, 0.0)
+    firsts = _run_stage(rstock, cstock, qlines, spec_a, depth, start + FIRST_SHARE[kind] * span, cancel, sol)
+    if progress:
+        progress(0.3, f"{len(firsts)} design(s) of the {'first' if index == 0 else 'second'} stage")
+    for j, h in enumerate(firsts):
+        if _stop(cancel, end, sol):
+            return
+        spec_b = second_plan(spec, kind, h, index, floor2)
+        if spec_b is None:
+            sol.failed["gain spread"] += 1
+            continue
+        leave = ("COUT",) if index == 0 else ("CIN",)
+        r_left = less_stock(rstock, h.counter(leave_out=leave))
+        c_left = less_stock(cstock, h.counter(leave_out=leave))
+        q_left = less_transistor(qlines, h.q.line)
+        if not q_left:
+            sol.why.append("the drawer lacks a second NPN: the first stage takes the last one in stock")
+            continue
+        # Anytime: the most promising first design gets half of what is left, the next half of the rest, …
+        left = start + span - SECONDS * CHECK_S - time.perf_counter()
+        slice_end = time.perf_counter() + left * (0.5 if j + 1 < len(firsts) else 1.0)
+        seconds = _run_stage(r_left, c_left, q_left, spec_b, depth, slice_end, cancel, sol)
+        for h2 in seconds[:SECONDS]:
+            pair = (h, h2) if index == 0 else (h2, h)
+            key = (tuple(sorted(pair[0].resistors.items())), tuple(sorted(pair[1].resistors.items())),
+                   pair[0].q.line, pair[1].q.line)
+            if key in seen:
+                continue
+            seen.add(key)
+            cand = _join(kind, spec, pair[0], pair[1], index)
+            cand.verdict = check_chain(cand.chain, spec, pair[0].q, pair[1].q, cand.ratings)
+            sol.pairs += 1
+            if cand.verdict.ok:
+                sol.found.append(cand)
+            else:
+                sol.failed.update(cand.verdict.failed)
+        if progress:
+            progress(0.3 + 0.6 * (j + 1) / len(firsts), f"{sol.pairs} chain(s) checked, {len(sol.found)} meet the spec")
+
+
+def _shown(found, prefer, top):
+    if not found:
+        return []
+    c = tradeoff.counts([x.part_count for x in found], [x.verdict.thd for x in found],
+                        [x.verdict.robustness for x in found], [x.verdict.supply_a for x in found])
+    front = tradeoff.nondominated(c)
+    return [(found[int(front[i])], labels) for i, labels in tradeoff.shown(c[front], prefer, top)]
+
+
+__all__ = ["search_chain", "ChainSolution", "Candidate", "corners"]

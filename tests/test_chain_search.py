@@ -1,0 +1,89 @@
+"""The chain search (optimizer/chain/search.py through find_designs) on a small drawer of our own:
+every chain it returns is re-checked by an independent route (tests/helpers/verify_chain.py: each
+stage rebuilt from the drawer lines and solved alone, the stages cascaded as two-ports), the stock
+both stages take together fits the drawer, and the document says honestly that the set is not
+proven optimal.  A drawer with a single NPN is proven unable to hold a chain."""
+
+from __future__ import annotations
+
+from collections import Counter
+from pathlib import Path
+
+import pytest
+
+from inventory.drawer import Drawer
+from optimizer.search.select import find_designs
+from optimizer.spec import Spec
+from tests.deck_lint import lint
+from tests.helpers.verify_chain import chain_failures
+
+DRAWER = Path(__file__).parent / "data" / "chain_drawer.csv"  # E6-like values, four of each, two 2N3904
+LIMIT_S = 20.0  # a chain needs seconds per stage search; room for a machine shared with other work
+JOBS = {
+    # A follower behind a gain stage drives a 1 kΩ load (common practice: a low-resistance load).
+    "common-emitter+emitter-follower": Spec(topology="common-emitter+emitter-follower", gain=10, source_ohms=1e3,
+                                            load_ohms=1e3, swing_pp=1.0),
+    # A follower in front keeps a 10 kΩ source from losing most of its signal.
+    "emitter-follower+common-emitter": Spec(topology="emitter-follower+common-emitter", gain=10, source_ohms=10e3,
+                                            load_ohms=22e3, swing_pp=1.0),
+}
+
+
+@pytest.fixture(scope="module")
+def drawer():
+    return Drawer.load(DRAWER)
+
+
+@pytest.fixture(scope="module", params=sorted(JOBS))
+def solved(request, drawer):
+    spec = JOBS[request.param]
+    return spec, find_designs(drawer, spec, time_limit_s=LIMIT_S)
+
+
+def test_every_chain_meets_the_spec_by_an_independent_check(solved, drawer):
+    spec, doc = solved
+    assert doc["status"] == "found", doc["why"]
+    for d in doc["designs"]:
+        assert chain_failures(d, spec, drawer) == []
+        # THD at every corner from the search's own whole-chain check (the independent THD check is
+        # ngspice's, in tests/test_chain_search_ngspice.py).
+        assert max(c["thd"] for c in d["corners"].values()) <= spec.max_thd
+
+
+def test_the_two_stages_share_the_stock(solved, drawer):
+    _, doc = solved
+    for d in doc["designs"]:
+        used = Counter({u["line"]: u["qty"] for u in d["uses"]})
+        for line, n in used.items():
+            assert n <= drawer.part_at(line).qty
+        # Two transistors: Q1 and Q2 (here the same line, which holds two).
+        assert {"Q1", "Q2"} <= set(d["parts"])
+        q_lines = Counter([d["parts"]["Q1"]["line"], d["parts"]["Q2"]["line"]])
+        for line, n in q_lines.items():
+            assert used[line] >= n
+
+
+def test_the_document_is_honest_and_has_stages(solved):
+    spec, doc = solved
+    assert doc["optimal"] is False and doc["unexplored"]
+    for d in doc["designs"]:
+        kinds = spec.topology.split("+")
+        assert [s["kind"] for s in d["stages"]] == kinds
+        names = [p for s in d["stages"] for p in s["positions"]]
+        assert sorted(names) == sorted(d["parts"])
+        assert all(p.endswith("_B") or p == "Q2" for p in d["stages"][1]["positions"])
+        assert lint(d["netlist"], list(d["parts"])) == []
+        assert set(d["predicted"]) == {"gain", "vb", "ve", "vc", "ic", "rin", "rout", "f_low", "swing_pp", "thd"}
+        # The chain's gain is the product of its stages' (each stage's gain as the chain sees it).
+        g1, g2 = (s["predicted"]["gain"] for s in d["stages"])
+        assert g1 * g2 == pytest.approx(d["predicted"]["gain"], rel=1e-9)
+
+
+def test_a_single_npn_cannot_make_a_chain(tmp_path):
+    text = DRAWER.read_text().replace("transistor,,2,", "transistor,,1,")
+    path = tmp_path / "one.csv"
+    path.write_text(text)
+    doc = find_designs(Drawer.load(path), JOBS["common-emitter+emitter-follower"], time_limit_s=5)
+    assert doc["status"] == "infeasible" and doc["designs"] == []
+    assert any("lacks a second NPN" in w for w in doc["why"])
+    assert doc["hints"] and doc["hints"][0]["position"] == "Q2"
