@@ -14,6 +14,7 @@ from dataclasses import dataclass, fields
 
 from inventory import values
 from optimizer.spec import (
+    DEFAULT_PATIENCE_S,
     DEFAULT_PREFER,
     DEFAULT_TIME_LIMIT_S,
     DEFAULT_TOP,
@@ -81,6 +82,18 @@ def parse_seconds(text: str) -> float:
         v = math.nan
     if not 0 < v <= 3600:
         raise FieldError(f'"{text}" is not a time limit (expected seconds, 0 < t ≤ 3600, e.g. 10)')
+    return v
+
+
+def parse_patience(text: str) -> float:
+    """Seconds the designs may go unchanged before the search stops; 0 = off."""
+    s = text.strip().removesuffix("s").strip()
+    try:
+        v = values.parse_number(s)
+    except values.ValueFormatError:
+        v = math.nan
+    if not 0 <= v <= 3600:
+        raise FieldError(f'"{text}" is not a patience (expected seconds, 0 = off … 3600, e.g. 2)')
     return v
 
 
@@ -165,6 +178,8 @@ FIELDS: tuple[Field, ...] = (
     Field("top", "Designs", "--top", "top", parse_count, str(DEFAULT_TOP), "how many to show", "search"),
     Field("time_limit", "Time limit", "--time-limit", "time_limit_s", parse_seconds,
           f"{DEFAULT_TIME_LIMIT_S:g} s", "then the best found so far", "search"),
+    Field("patience", "Patience", "--patience", "patience_s", parse_patience, f"{DEFAULT_PATIENCE_S:g} s",
+          "stop once the designs stop changing this long; 0 = off", "search"),
 )
 BY_NAME = {f.name: f for f in FIELDS}
 SPEC_FIELDS = {f.name for f in fields(Spec)}
