@@ -547,10 +547,10 @@ def _stock_qty(pool) -> np.ndarray:
 
 SEARCH_SHARE = 0.3  # of the time limit, at least, for the search itself
 POST_S_PER_DESIGN = 0.3  # analysing one design shown (measured about 0.2 s on this project's 2-core machines)
-# Modules used after the search (CP-SAT to realise the designs, scipy's root finder for the exact
-# f_low): find_designs loads them before it sets the search's deadline, so their import time
-# (about 1 s together, more on a loaded machine) is charged to the limit as it is, not estimated.
-LAZY_IMPORTS = ("ortools.sat.python.cp_model", "scipy.optimize")
+# Modules used after the search (CP-SAT to realise the designs): find_designs loads them before it
+# sets the search's deadline, so their import time (about 0.4 s, more on a loaded machine) is
+# charged to the limit as it is, not estimated.
+LAZY_IMPORTS = ("ortools.sat.python.cp_model",)
 OVERRUN_S = 1.0  # no command ends more than this past its time limit
 HINT_RESERVE_S = 0.3
 HINT_SHARE = 0.3  # of the time limit, at most, for shopping hints when nothing fits
