@@ -139,7 +139,7 @@ def _add_cap_parts(topology, rows, spec, options, cap_qty, positions, sol):
 
 
 def search(rstock, cstock, qlines, spec, *, top=3, depth=3, progress=None, cancel=None, accept=None,
-           prefer="balanced", deadline=None, spare_parts=SPARE_PARTS, patience=None) -> Solution:
+           prefer="balanced", deadline=None, spare_parts=SPARE_PARTS, patience=None, empty_deadline=None) -> Solution:
     """The trade-off set for `spec` (see the module docstring) and the designs to show from it.
 
     accept(solution, choice, row) -> bool, if given, is one more constraint (e.g. the Monte Carlo yield):
@@ -147,6 +147,8 @@ def search(rstock, cstock, qlines, spec, *, top=3, depth=3, progress=None, cance
     deadline (time.perf_counter() value) and cancel (threading.Event) stop the screening; the
     designs found so far are still returned, with `exhaustive` False.  patience (seconds; None
     or 0 = off) stops it too once the trade-off set is non-empty and has not changed for that long.
+    empty_deadline (later than deadline) is when the search stops while it has no design yet: the
+    time deadline keeps for analysing designs is not needed then.
     """
     t0 = time.perf_counter()
     topology = spec.topology
@@ -173,6 +175,8 @@ def search(rstock, cstock, qlines, spec, *, top=3, depth=3, progress=None, cance
     front = _Front(positions, sol, lambda r: _add_caps(topology, r, spec, options, cap_qty, positions, sol),
                    lambda r: _add_cap_parts(topology, r, spec, options, cap_qty, positions, sol),
                    keep_dominated=accept is not None, spare=spare_parts, patience=patience, t0=t0)
+    if empty_deadline is not None and deadline is not None and empty_deadline > deadline:
+        front.deadline, deadline = deadline, empty_deadline  # the front enforces the earlier one once it has a design
     budget = n_min
     try:
         with stopwatch.watch(cancel, deadline, front.quiet):
@@ -221,7 +225,7 @@ def search(rstock, cstock, qlines, spec, *, top=3, depth=3, progress=None, cance
     if sol.stopped_by in ("time limit", "cancelled", "settled"):
         # Rows screened just before the stop are folded in only as far as a short grace allows
         # (after a settled stop, as far as the time limit allows).
-        grace = deadline if sol.stopped_by == "settled" else time.perf_counter() + SETTLE_GRACE_S
+        grace = (front.deadline or deadline) if sol.stopped_by == "settled" else time.perf_counter() + SETTLE_GRACE_S
         try:
             with stopwatch.watch(cancel, deadline=grace):
                 front.settle()
@@ -307,6 +311,7 @@ class _Front:
         self.last_change_s = None
         self.quiet_until = None
         self.busy = False
+        self.deadline = None  # with a design in hand the search stops here (see search's empty_deadline)
         self.settled_at = self.t0
         self.trace = []
 
@@ -339,9 +344,12 @@ class _Front:
     def quiet_time_up(self) -> bool:
         return self.quiet_until is not None and time.perf_counter() >= self.quiet_until
 
-    def quiet(self) -> bool:
-        """For the stop watch: is a settled stop due?  (Not while folding rows in; rows screened
-        but not yet folded in are folded in after the stop, so the set shown includes them.)"""
+    def quiet(self):
+        """For the stop watch: OutOfTime once a design is in hand and the deadline for that case has
+        passed; True when a settled stop is due (not while folding rows in: rows screened but not
+        yet folded in are folded in after the stop, so the set shown includes them)."""
+        if self.deadline is not None and self.fewest_parts < np.inf and time.perf_counter() >= self.deadline:
+            return stopwatch.OutOfTime
         return not self.busy and self.quiet_time_up()
 
     def stop_if_settled(self):
@@ -552,6 +560,7 @@ POST_S_PER_DESIGN = 0.3  # analysing one design shown (measured about 0.2 s on t
 # charged to the limit as it is, not estimated.
 LAZY_IMPORTS = ("ortools.sat.python.cp_model",)
 OVERRUN_S = 1.0  # no command ends more than this past its time limit
+EMPTY_RESERVE_S = 0.5  # of the limit, kept for the reasons when the search has found nothing
 HINT_RESERVE_S = 0.3
 HINT_SHARE = 0.3  # of the time limit, at most, for shopping hints when nothing fits
 
@@ -602,7 +611,7 @@ def find_designs(drawer, spec, *, top=DEFAULT_TOP, depth=DEFAULT_DEPTH, min_yiel
 
     sol = search(rstock, cstock, qlines, spec, top=top, depth=depth, progress=progress, cancel=cancel,
                  accept=accept if min_yield is not None else None, prefer=prefer, deadline=deadline,
-                 patience=patience_s)
+                 patience=patience_s, empty_deadline=None if limit is None else t0 + limit - EMPTY_RESERVE_S)
     doc["search"] = {"resistor_part_budget": sol.budget, "tuples_screened": sol.near.screened,
                      "seconds": round(sol.seconds, 3), "exhaustive": sol.exhaustive, "depth": depth,
                      "prefer": prefer, "time_limit_s": limit, "stopped_by": sol.stopped_by,

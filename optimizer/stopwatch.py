@@ -36,15 +36,17 @@ class Watch:
     def __init__(self, cancel=None, deadline=None, quiet=None):
         self.cancel = cancel
         self.deadline = deadline  # time.perf_counter() value, or None
-        self.quiet = quiet  # callable() -> bool: True once a settled stop is due, or None
+        self.quiet = quiet  # callable() -> True (a settled stop is due), a Stopped class, or falsy; or None
 
     def due(self) -> type[Stopped] | None:
         if self.cancel is not None and self.cancel.is_set():
             return Cancelled
         if self.deadline is not None and time.perf_counter() >= self.deadline:
             return OutOfTime
-        if self.quiet is not None and self.quiet():
-            return Settled
+        if self.quiet is not None:
+            due = self.quiet()
+            if due:
+                return due if isinstance(due, type) else Settled
         return None
 
     def left(self) -> float:
