@@ -1,4 +1,4 @@
-"""`design` options of the trade-off search (--max-thd, --min-vce, --prefer, --time-limit), the default Rin
+"""`design` options of the trade-off search (--max-thd, --min-vce, --prefer, --time-limit, --patience), the default Rin
 floor, exit codes 0/3/4 and the progress bar.  The solver is replaced by a recorder here: these tests pin
 what the command line hands to `find_designs` and how it reports each status, not the search."""
 
@@ -52,6 +52,7 @@ def test_defaults_reach_the_solver(calls):
     assert spec.min_rin_ohms is None  # not given: the spec's default floor applies
     assert spec.max_thd == spec_module.DEFAULT_MAX_THD and spec.min_vce_v == spec_module.DEFAULT_MIN_VCE_V
     assert kw["prefer"] == select.DEFAULT_PREFER and kw["time_limit_s"] == select.DEFAULT_TIME_LIMIT_S
+    assert kw["patience_s"] == select.DEFAULT_PATIENCE_S
 
 
 def test_cli_mirrors_of_solver_constants_agree():
@@ -75,6 +76,31 @@ def test_options_are_passed_through(calls):
     spec, kw = calls[-1]
     assert (spec.min_vce_v, spec.min_rin_ohms, spec.temp_range_c, spec.low_cut_hz) == (1.5, 20e3, (-10.0, 60.0), 1800.0)
     assert kw["prefer"] == "robust" and kw["time_limit_s"] == 2.5
+
+
+@pytest.mark.parametrize(("text", "seconds"), [("0", 0.0), ("1.5", 1.5), ("30", 30.0)])
+def test_patience_is_passed_through(calls, text, seconds):
+    DOC["now"] = _doc("found", [DESIGN], optimal=True)
+    assert main(["design", "--gain", "10", "--patience", text, "--json"]) == 0
+    assert calls[-1][1]["patience_s"] == seconds
+
+
+@pytest.mark.parametrize("text", ["-1", "nan", "soon", "1e9"])
+def test_patience_refuses_nonsense(calls, capsys, text):
+    DOC["now"] = _doc("found", [DESIGN], optimal=True)
+    assert main(["design", "--gain", "10", f"--patience={text}"]) == 2
+    assert "--patience" in capsys.readouterr().err
+    assert calls == []
+
+
+def test_a_settled_stop_says_so(calls, capsys):
+    DOC["now"] = {**_doc("found", [DESIGN], optimal=False), "search": {"stopped_by": "settled"},
+                  "unexplored": "settled: the trade-off set had not changed for 2 s (--patience), so the search "
+                                "stopped; left: value tuples of 6 to 10 resistor parts"}
+    assert main(["design", "--gain", "10"]) == 0
+    out = capsys.readouterr().out
+    assert "not proven optimal (--patience 0 searches to the time limit)" in out
+    assert "unexplored: settled: the trade-off set had not changed for 2 s" in out
 
 
 @pytest.mark.parametrize(("status", "designs", "code"), [

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import pytest
 
-from optimizer.search.select import DEFAULT_PREFER, DEFAULT_TIME_LIMIT_S
+from optimizer.search.select import DEFAULT_PATIENCE_S, DEFAULT_PREFER, DEFAULT_TIME_LIMIT_S
 from optimizer.spec import Spec, default_rin_floor
 from tui import request_fields as rf
 
@@ -14,7 +14,7 @@ def test_the_defaults_are_the_solvers():
     assert problems == {}
     assert spec == Spec()  # every Spec field, min_rin None = the default floor
     assert search == {"prefer": DEFAULT_PREFER, "time_limit_s": DEFAULT_TIME_LIMIT_S, "top": rf.DEFAULT_TOP,
-                      "min_yield": None, "depth": Spec().max_parts_per_position}
+                      "min_yield": None, "depth": Spec().max_parts_per_position, "patience_s": DEFAULT_PATIENCE_S}
 
 
 def test_each_default_text_parses_back_to_the_default():
@@ -23,7 +23,7 @@ def test_each_default_text_parses_back_to_the_default():
             continue
         value = f.parse(f.default)
         want = getattr(Spec(), f.target) if f.target in rf.SPEC_FIELDS else {
-            "top": rf.DEFAULT_TOP, "time_limit_s": DEFAULT_TIME_LIMIT_S}[f.target]
+            "top": rf.DEFAULT_TOP, "time_limit_s": DEFAULT_TIME_LIMIT_S, "patience_s": DEFAULT_PATIENCE_S}[f.target]
         assert value == pytest.approx(want), f.name
 
 
@@ -38,7 +38,7 @@ def test_every_cli_design_option_is_offered():
     offered = {f.option for f in rf.FIELDS} | {"--topology", "--depth", "--prefer"}
     assert cli <= offered, cli - offered
     for option in ("--max-current", "--temp-range", "--min-yield", "--top", "--max-thd", "--min-vce",
-                   "--prefer", "--time-limit", "--min-rin"):
+                   "--prefer", "--time-limit", "--patience", "--min-rin"):
         assert option in offered
 
 

@@ -3,7 +3,8 @@
     drawerfit [--inventory F] design --topology T --gain G [--gain-tol 5%] --supply V --load R
               [--source R] [--swing V] [--low-cut HZ] [--min-rin R] [--max-current A]
               [--max-thd 1%] [--min-vce V] [--temp-range LO..HI] [--depth 1-3] [--top N]
-              [--min-yield F] [--seed S] [--prefer P] [--time-limit S] [--no-hints] [--json] [--save FILE]
+              [--min-yield F] [--seed S] [--prefer P] [--time-limit S] [--patience S] [--no-hints] [--json]
+              [--save FILE]
 
 Exit codes: 0 designs found (optimal or not), 3 proven that nothing in the drawer meets the
 spec, 4 nothing found within the time limit (not proven impossible), 2 bad input.
@@ -35,6 +36,7 @@ from optimizer.spec import (
     DEFAULT_DEPTH,
     DEFAULT_MAX_THD,
     DEFAULT_MIN_VCE_V,
+    DEFAULT_PATIENCE_S,
     DEFAULT_PREFER,
     DEFAULT_TIME_LIMIT_S,
     DEFAULT_TOP,
@@ -104,6 +106,9 @@ def register(sub) -> None:
                    help=f"which of the trade-off set comes first (default {DEFAULT_PREFER})")
     p.add_argument("--time-limit", default=f"{DEFAULT_TIME_LIMIT_S:g}", metavar="SECONDS",
                    help=f"stop searching after this long and show the best so far (default {DEFAULT_TIME_LIMIT_S:g} s)")
+    p.add_argument("--patience", default=f"{DEFAULT_PATIENCE_S:g}", metavar="SECONDS",
+                   help="stop once the designs found have not changed for this long, unproven "
+                        f"(default {DEFAULT_PATIENCE_S:g} s; 0 = search to the proof or the time limit)")
     p.add_argument("--no-hints", action="store_true", help="skip the shopping hints when nothing fits")
     p.add_argument("--json", action="store_true", help="print the result document as JSON")
     p.add_argument("--save", metavar="FILE", help="also write the result (with spec and stock fingerprint) here")
@@ -143,15 +148,19 @@ def spec_from(args) -> Spec:
 
 
 def options_from(args) -> dict:
-    """Solver options other than the spec (top, yield, seed, preference, time limit)."""
+    """Solver options other than the spec (top, yield, seed, preference, time limit, patience)."""
     min_yield = value(args.min_yield, parse_fraction, "min-yield")
     if min_yield is not None and not 0 <= min_yield <= 1:
         raise InputError(f"--min-yield: {min_yield:g}; expected a share between 0 and 1 (e.g. 90% or 0.9)")
     limit = value(args.time_limit, parse_number, "time-limit")
     if not 0 < limit <= MAX_TIME_LIMIT_S:
         raise InputError(f"--time-limit: {args.time_limit!r}; expected seconds above 0 and at most a day")
+    patience = value(args.patience, parse_number, "patience")
+    if not 0 <= patience <= MAX_TIME_LIMIT_S:
+        raise InputError(f"--patience: {args.patience!r}; expected seconds, 0 (off) up to a day")
     return {"top": whole(args.top, "top", 1, 20), "min_yield": min_yield,
-            "seed": whole(args.seed, "seed", 0, 2**31 - 1), "prefer": args.prefer, "time_limit_s": limit}
+            "seed": whole(args.seed, "seed", 0, 2**31 - 1), "prefer": args.prefer, "time_limit_s": limit,
+            "patience_s": patience}
 
 
 def fingerprint(drawer, lines) -> dict:
@@ -220,7 +229,9 @@ def human(doc: dict, spec: Spec) -> str:
         out.append(sheet_text.table(doc))
         out += [f"  #{i}: {line}" for i, d in enumerate(doc["designs"], 1) if (line := _trade(d))]
         if not doc.get("optimal", True):
-            out.append("not proven optimal within the time limit"
+            settled = (doc.get("search") or {}).get("stopped_by") == "settled"
+            out.append(("not proven optimal (--patience 0 searches to the time limit)"
+                        if settled else "not proven optimal within the time limit")
                        + (f"; unexplored: {_short(doc['unexplored'])}" if doc.get("unexplored") else ""))
         spec_doc = dict(doc.get("spec") or {})
         spec_doc["min_rin_ohms"] = spec.rin_floor  # the sheet prints the floor actually applied

@@ -15,6 +15,7 @@ from dataclasses import dataclass, fields
 from inventory import values
 from optimizer.spec import (
     ANY_TOPOLOGY,
+    DEFAULT_PATIENCE_S,
     DEFAULT_PREFER,
     DEFAULT_TIME_LIMIT_S,
     DEFAULT_TOP,
@@ -25,6 +26,7 @@ from optimizer.spec import (
     default_rin_floor,
 )
 from optimizer import kinds
+from optimizer.chain.names import CHAINS
 from optimizer.physics.stage import TOPOLOGIES
 
 SPEC_DEFAULTS = Spec()
@@ -129,6 +131,18 @@ def parse_seconds(text: str) -> float:
     return v
 
 
+def parse_patience(text: str) -> float:
+    """Seconds the designs may go unchanged before the search stops; 0 = off."""
+    s = text.strip().removesuffix("s").strip()
+    try:
+        v = values.parse_number(s)
+    except values.ValueFormatError:
+        v = math.nan
+    if not 0 <= v <= 3600:
+        raise FieldError(f'"{text}" is not a patience (expected seconds, 0 = off … 3600, e.g. 2)')
+    return v
+
+
 def parse_count(text: str) -> int:
     s = text.strip()
     if not s.isdigit() or not 1 <= int(s) <= 20:
@@ -215,6 +229,8 @@ FIELDS: tuple[Field, ...] = (
     Field("top", "Designs", "--top", "top", parse_count, str(DEFAULT_TOP), "how many to show", "search"),
     Field("time_limit", "Time limit", "--time-limit", "time_limit_s", parse_seconds,
           f"{DEFAULT_TIME_LIMIT_S:g} s", "then the best found so far", "search"),
+    Field("patience", "Patience", "--patience", "patience_s", parse_patience, f"{DEFAULT_PATIENCE_S:g} s",
+          "stop once the designs stop changing this long; 0 = off", "search"),
 )
 BY_NAME = {f.name: f for f in FIELDS}
 SPEC_FIELDS = {f.name for f in fields(Spec)}
@@ -224,7 +240,8 @@ GROUPS = (("stage", "The stage"), ("limits", "Limits"), ("search", "Search"))
 # The choice fields (the form shows them as lists).
 # The two-stage chains (optimizer/chain) are not in the form yet: the Stage list is in the request
 # snapshots; a saved chain opens in the app all the same.
-TOPOLOGY_CHOICES = (("any kind that fits", ANY_TOPOLOGY),) + tuple((t, t) for t in TOPOLOGIES)
+TOPOLOGY_CHOICES = ((("any kind that fits", ANY_TOPOLOGY),) + tuple((t, t) for t in TOPOLOGIES)
+                    + tuple((f"{c} (two stages)", c) for c in CHAINS))
 DEPTH_CHOICES = (("1 part per position", 1), ("up to 2 in series/parallel", 2), ("up to 3 in series/parallel", 3))
 PREFER_CHOICES = tuple((f"{PREFER_WORDS.get(p, p)} first", p) for p in PREFERENCES)
 CHOICE_DEFAULTS = {"topology": _spec("topology"), "depth": _spec("max_parts_per_position"), "prefer": DEFAULT_PREFER}
@@ -272,7 +289,10 @@ def build_request(texts: dict[str, str], choices: dict[str, object]) -> tuple[Sp
         return None, search_kw, problems
     spec = Spec(**spec_kw)
     by_option = {f.option: f.name for f in FIELDS}
-    for problem in spec.problems():
+    found = spec.problems()
+    if spec.topology in CHAINS and search_kw.get("min_yield") is not None:
+        found.append("--min-yield: a chain has no Monte Carlo yield yet; leave Min yield empty for chains")
+    for problem in found:
         option, _, text = problem.partition(": ")
         name = by_option.get(option, "")
         if preset is not None and name == "gain":

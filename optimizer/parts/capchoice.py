@@ -253,3 +253,37 @@ def choose(topology, row, spec, options, stock_qty: np.ndarray) -> CapChoice | N
         if got is not None:
             return got
     return None
+
+
+def fewest_parts(topology, row, spec, options, stock_qty: np.ndarray) -> int | None:
+    """`choose(…).parts` (None when choose finds nothing), mostly without the full choice.
+
+    A part-count profile has a passing tuple exactly when its largest values pass (f_low falls as
+    any capacitance grows); when that tuple, or the greedy one, also fits the stock, the profile's
+    total is the fewest parts.  Only when stock rules out both is the full choice made.
+    """
+    cr = _Row(topology, row, spec, options, stock_qty)
+    if any(len(c) == 0 for c in cr.cand.values()):
+        return None
+    profiles = sorted(itertools.product((1, 2), repeat=len(cr.pos)), key=sum)
+    for total, group in itertools.groupby(profiles, key=sum):
+        undecided = False
+        for prof in group:
+            vals = [cr.values(p, k) for p, k in zip(cr.pos, prof, strict=True)]
+            if any(len(v) == 0 for v in vals):
+                continue
+            top = {p: v[-1] for p, v in zip(cr.pos, vals, strict=True)}
+            if not cr.passes(top).all():
+                continue
+            if _lines(cr, prof, [top[p] for p in cr.pos]) is not None:
+                return total
+            fixed = dict(top)
+            for i, p in enumerate(cr.pos):  # the greedy tuple: each in turn at its smallest passing value
+                fixed[p] = vals[i][cr.smallest(p, vals[i], fixed)]
+            if _lines(cr, prof, [fixed[p] for p in cr.pos]) is not None:
+                return total
+            undecided = True
+        if undecided:
+            got = choose(topology, row, spec, options, stock_qty)
+            return None if got is None else got.parts
+    return None

@@ -72,7 +72,10 @@ def meets_low_cut(topology, row, spec, cin, cout, ce):
 
 
 class LowCut:
-    """`meets_low_cut` for one row (dict of scalars), fast over arrays of CIN, COUT and CE (F)."""
+    """`meets_low_cut` for one row (dict of scalars), fast over arrays of CIN, COUT and CE (F).
+
+    The stage terms of each CE value (one solve per corner) are kept: a capacitor choice asks
+    about the same few CE values many times."""
 
     def __init__(self, topology, row, spec):
         self.topology = topology
@@ -83,19 +86,34 @@ class LowCut:
         r = self.r
         self.h_mid2 = [float(np.abs(transfer(topology, r, y, self.rs, self.rl, self.w, np.inf, np.inf, np.inf)) ** 2)
                        for y in self.y]
+        self.known = np.zeros(0)  # CE values (F, sorted) whose terms are kept
+        self.terms = [np.zeros((5, 0), dtype=complex) for _ in self.y]  # per corner: [5, len(known)]
+
+    def _terms_of(self, ce):
+        """Per corner, the stage terms [5, len(ce)] of sorted distinct CE values `ce`."""
+        missing = ce[~np.isin(ce, self.known)]
+        if len(missing):
+            g_bias, g_fb, g_coll, g_emit, out = _stage(self.topology, self.r, self.w, missing)
+            new = [np.array([np.broadcast_to(t, missing.shape) for t in
+                             smallsignal.source_load_terms(y, g_bias=g_bias, g_feedback=g_fb, g_collector=g_coll,
+                                                           g_emitter=g_emit, output=out)], dtype=complex)
+                   for y in self.y]
+            known = np.concatenate([self.known, missing])
+            order = np.argsort(known, kind="stable")
+            self.known = known[order]
+            self.terms = [np.concatenate([t, n], axis=1)[:, order] for t, n in zip(self.terms, new, strict=True)]
+        at = np.searchsorted(self.known, ce)
+        return [t[:, at] for t in self.terms]
 
     def __call__(self, cin, cout, ce=np.inf) -> np.ndarray:
         cin, cout, ce = np.broadcast_arrays(np.asarray(cin, float), np.asarray(cout, float), np.asarray(ce, float))
         gs = _inv(self.rs + _zc(cin, self.w))
         gl = 1.0 / (self.rl + _zc(cout, self.w))
         uce, inv = np.unique(ce, return_inverse=True)
-        g_bias, g_fb, g_coll, g_emit, out = _stage(self.topology, self.r, self.w, uce)
+        inv = inv.reshape(cin.shape)
         ok = np.ones(cin.shape, dtype=bool)
-        for y, hm2 in zip(self.y, self.h_mid2, strict=True):
-            det0, c_bb, c_oo, c_bo, a_kk = (np.broadcast_to(t, uce.shape)[inv].reshape(cin.shape) for t in
-                                            smallsignal.source_load_terms(y, g_bias=g_bias, g_feedback=g_fb,
-                                                                          g_collector=g_coll, g_emitter=g_emit,
-                                                                          output=out))
+        for terms, hm2 in zip(self._terms_of(uce), self.h_mid2, strict=True):
+            det0, c_bb, c_oo, c_bo, a_kk = terms[:, inv]
             h = gs * c_bo / (det0 + gs * c_bb + gl * c_oo + gs * gl * a_kk) * self.rl * gl
             ok &= h.real ** 2 + h.imag ** 2 >= HALF_POWER * hm2
         return ok

@@ -13,7 +13,8 @@ emitter follower  the emitter at about half the supply; IE so the emitter can fa
                   half-swing into RE‖RL with room; the same divider rule.
 collector feedback  as the common emitter, with RB from the collector feeding the base
                   current at the typical hFE.
-Every value is then replaced by the nearest values the drawer can make (below and above).
+Every value is then replaced by the nearest values the drawer can make and the nearest single
+parts (one below and one above each).
 """
 
 from __future__ import annotations
@@ -71,9 +72,10 @@ def seed_tuples(topology, spec, q, pool) -> dict[str, np.ndarray]:
     t = q.transistor
     ideal = ideal_values(topology, spec, float(t.hfe_min), math.sqrt(float(t.hfe_min) * float(t.hfe_max)))
     values = pool.distinct.value
+    single = pool.group(1)  # single parts too: a bench's first choice, and the fewest-parts designs
     choices = []
     for p in RESISTOR_POSITIONS[topology]:
-        near = neighbours(values, ideal.get(p, 0.0))
+        near = np.union1d(neighbours(values, ideal.get(p, 0.0), 1), neighbours(single, ideal.get(p, 0.0), 1))
         if p in kinds.get(topology).optional:
             near = np.append(near, 0.0)  # leaving it out is a neighbour too
         if not len(near):

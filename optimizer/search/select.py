@@ -8,10 +8,15 @@ Search (exact for the objective in objective.py over the space in candidates.py)
     let CP-SAT (assign.py) pick the top designs over all rows so far under shared stock;
     stop once the N-th best uses ≤ B + 2 + 1 parts: every unscreened tuple needs
     ≥ B + 1 resistor parts, ≥ 2 capacitors and Q1, so cannot tie or win.
+
+Anytime: the time limit, a cancel, or the settled rule (`patience`: the trade-off set has not
+changed for that many seconds of search, and no screened row waits to be folded in) end the
+search early with the set found so far, reported as not proven ("exhaustive" False).
 """
 
 from __future__ import annotations
 
+import importlib
 import sys
 import time
 from dataclasses import dataclass, field
@@ -27,7 +32,16 @@ from optimizer.search.candidates import POSITIONS, Pool, min_positions, profiles
 from optimizer.parts.capacitors import capacitor_options
 from optimizer.search.feasible import Near, check, concat
 from optimizer.search.seed import seed_tuples
-from optimizer.spec import ANY_TOPOLOGY, DEFAULT_DEPTH, DEFAULT_PREFER, DEFAULT_TIME_LIMIT_S, DEFAULT_TOP, PREFERENCES, Bounds  # noqa: F401
+from optimizer.spec import (  # noqa: F401
+    ANY_TOPOLOGY,
+    DEFAULT_DEPTH,
+    DEFAULT_PATIENCE_S,
+    DEFAULT_PREFER,
+    DEFAULT_TIME_LIMIT_S,
+    DEFAULT_TOP,
+    PREFERENCES,
+    Bounds,
+)
 
 MIN_CAPS = 2  # CIN and COUT are always fitted
 
@@ -43,6 +57,7 @@ SPARE_PARTS = 2
 SETTLE_ROWS = 4000  # pending rows folded into the trade-off set at a time
 SETTLE_GRACE_S = 0.2  # after a stop, for the rows screened just before it
 EXACT_BATCH = 16  # front rows made exact (capacitors chosen) at a time
+SETTLE_EVERY_MAX_S = 1.0  # under the settled rule, rows are folded in at least this often (and every half patience)
 
 Cancelled = stopwatch.Cancelled
 
@@ -61,6 +76,7 @@ class Solution:
     qlines: list = field(default_factory=list)
     cap_failures: list = field(default_factory=list)  # rows that met the rest but found no capacitors
     cap_cache: dict = field(default_factory=dict)  # (values, transistor model) → capchoice.CapChoice | None
+    cap_parts: dict = field(default_factory=dict)  # the same key → capchoice.fewest_parts (int | None)
     bounds: object = None  # spec.Bounds the search pruned with
     stock_bound: bool = False
     exhaustive: bool = True
@@ -69,9 +85,11 @@ class Solution:
     started: float = 0.0  # time.perf_counter() at the start of the search
     first_design_s: float | None = None  # seconds from the start until a design was first in hand
     searched: int | None = None  # the last resistor part budget screened in full
-    stopped_by: str | None = None  # "time limit", "cancelled" or "size" when the search stopped early
+    stopped_by: str | None = None  # "time limit", "cancelled", "settled" or "size" when it stopped early
     unexplored: str | None = None
     front_counts: object = None  # tradeoff.counts of the whole trade-off set (n, 4)
+    last_change_s: float | None = None  # seconds into the search when the trade-off set last changed
+    front_trace: list = field(default_factory=list)  # (seconds, counts (n, 4)) at every change of the set
 
 
 def _row_dict(rows, i):
@@ -106,14 +124,42 @@ def _add_caps(topology, rows, spec, options, cap_qty, positions, sol):
     return out
 
 
+def _add_cap_parts(topology, rows, spec, options, cap_qty, positions, sol):
+    """Rows with "pc" (the fewest capacitor parts, capchoice.fewest_parts) and no capacitors chosen
+    yet: all the trade-off counts need; `_add_caps` chooses them for the rows realised."""
+    keep, pc = [], []
+    for i in range(len(rows["ge"])):
+        stopwatch.poll()
+        row = _row_dict(rows, i)
+        q = sol.qlines[int(row["q"])]
+        key = (tuple(float(row[p]) for p in positions), q.transistor)
+        if key not in sol.cap_parts:
+            c = sol.cap_cache.get(key, False)
+            sol.cap_parts[key] = (c.parts if c else None) if c is not False else (
+                capchoice.fewest_parts(topology, row, spec, options, cap_qty) if len(options) else None)
+        n = sol.cap_parts[key]
+        if n is None:
+            if len(sol.cap_failures) < 50:
+                sol.cap_failures.append((row, q))
+            continue
+        keep.append(i)
+        pc.append(n)
+    out = {k: v[keep] for k, v in rows.items()}
+    out["pc"] = np.asarray(pc, dtype=np.int64)
+    return out
+
+
 def search(rstock, cstock, qlines, spec, *, top=3, depth=3, progress=None, cancel=None, accept=None,
-           prefer="balanced", deadline=None, spare_parts=SPARE_PARTS) -> Solution:
+           prefer="balanced", deadline=None, spare_parts=SPARE_PARTS, patience=None, empty_deadline=None) -> Solution:
     """The trade-off set for `spec` (see the module docstring) and the designs to show from it.
 
     accept(solution, choice, row) -> bool, if given, is one more constraint (e.g. the Monte Carlo yield):
     a design it rejects leaves the set and the set is taken again without it.
     deadline (time.perf_counter() value) and cancel (threading.Event) stop the screening; the
-    designs found so far are still returned, with `exhaustive` False.
+    designs found so far are still returned, with `exhaustive` False.  patience (seconds; None
+    or 0 = off) stops it too once the trade-off set is non-empty and has not changed for that long.
+    empty_deadline (later than deadline) is when the search stops while it has no design yet: the
+    time deadline keeps for analysing designs is not needed then.
     """
     t0 = time.perf_counter()
     topology = spec.topology
@@ -138,10 +184,13 @@ def search(rstock, cstock, qlines, spec, *, top=3, depth=3, progress=None, cance
     for qi, q in enumerate(qlines):
         models.setdefault(q.transistor, []).append(qi)
     front = _Front(positions, sol, lambda r: _add_caps(topology, r, spec, options, cap_qty, positions, sol),
-                   keep_dominated=accept is not None, spare=spare_parts)
+                   lambda r: _add_cap_parts(topology, r, spec, options, cap_qty, positions, sol),
+                   keep_dominated=accept is not None, spare=spare_parts, patience=patience, t0=t0)
+    if empty_deadline is not None and deadline is not None and empty_deadline > deadline:
+        front.deadline, deadline = deadline, empty_deadline  # the front enforces the earlier one once it has a design
     budget = n_min
     try:
-        with stopwatch.watch(cancel, deadline):
+        with stopwatch.watch(cancel, deadline, front.quiet):
             # Pools grow with the budget (a deep table on a large drawer takes seconds); a value's
             # fewest parts are the same in every pool that holds it, so rows keep their meaning.
             sol.pool = Pool(rstock, min(depth, 2))
@@ -159,7 +208,9 @@ def search(rstock, cstock, qlines, spec, *, top=3, depth=3, progress=None, cance
                         for chunk in tuples(topology, profile, sol.pool, bounds, q):
                             stopwatch.poll()
                             _add_rows(check(topology, chunk, q, spec, sol.near), members, positions, sol, front)
+                            front.stop_if_settled()
                     front.settle()
+                    front.stop_if_settled()
                     if sol.near.screened > MAX_SCREENED:
                         raise _Overrun()
                 front.settle()
@@ -170,18 +221,24 @@ def search(rstock, cstock, qlines, spec, *, top=3, depth=3, progress=None, cance
                              f"screened {sol.near.screened:,} value tuples (≤ {budget} resistor parts){found}")
     except stopwatch.Stopped as exc:
         sol.exhaustive = False
-        sol.stopped_by = "cancelled" if isinstance(exc, stopwatch.Cancelled) else "time limit"
+        sol.stopped_by = ("cancelled" if isinstance(exc, stopwatch.Cancelled)
+                          else "settled" if isinstance(exc, stopwatch.Settled) else "time limit")
         sol.unexplored = _unexplored(sol, budget, b_max, front)
+        if sol.stopped_by == "settled":
+            sol.unexplored = (f"settled: the trade-off set had not changed for {patience:g} s (--patience), "
+                              f"so the search stopped; left: {sol.unexplored}")
     except _Overrun:
         sol.exhaustive = False
         sol.stopped_by = "size"
         sol.unexplored = _unexplored(sol, budget, b_max, front)
         sol.notes.append(f"search stopped after {sol.near.screened:,} tuples (≤ {budget} resistor parts); "
                          "designs are the best found so far")
-    if sol.stopped_by in ("time limit", "cancelled"):
-        # Rows screened just before the stop are folded in only as far as a short grace allows.
+    if sol.stopped_by in ("time limit", "cancelled", "settled"):
+        # Rows screened just before the stop are folded in only as far as a short grace allows
+        # (after a settled stop, as far as the time limit allows).
+        grace = (front.deadline or deadline) if sol.stopped_by == "settled" else time.perf_counter() + SETTLE_GRACE_S
         try:
-            with stopwatch.watch(deadline=time.perf_counter() + SETTLE_GRACE_S):
+            with stopwatch.watch(cancel, deadline=grace):
                 front.settle()
         except stopwatch.Stopped:
             pass
@@ -189,6 +246,7 @@ def search(rstock, cstock, qlines, spec, *, top=3, depth=3, progress=None, cance
         front.settle()
     sol.designs = front.pick(prefer, top, accept)
     sol.seconds = time.perf_counter() - t0
+    sol.last_change_s, sol.front_trace = front.last_change_s, front.trace
     if not sol.designs:
         sol.stock_bound = front.stock_bound
     return sol
@@ -243,17 +301,30 @@ class _Front:
     the front; a row an exact row dominates can never come back (rows only ever add dominators),
     so it is dropped, which keeps memory to the front's size."""
 
-    def __init__(self, positions, sol, add_caps, keep_dominated=False, spare=SPARE_PARTS):
+    def __init__(self, positions, sol, add_caps, add_cap_parts=None, keep_dominated=False, spare=SPARE_PARTS,
+                 patience=None, t0=None):
         self.positions = positions
         self.spare = spare
         self.sol = sol
-        self.add_caps = add_caps
+        self.add_caps = add_caps  # rows → rows with their capacitors chosen (for realising)
+        self.add_cap_parts = add_cap_parts or add_caps  # rows → rows with "pc" (for the counts)
         self.keep_dominated = keep_dominated
         self.pending = []
         self.n_pending = 0
-        self.rows = None  # exact rows (dict of arrays), every one with "pc", "opt_*" and "parts"
+        self.rows = None  # exact rows (dict of arrays), every one with "pc" and "parts" (capacitors chosen at pick)
         self.fewest_parts = np.inf
         self.stock_bound = False
+        # The settled rule: the set as a user would see it (within `spare` parts of the fewest),
+        # when it last changed, and the time a settled stop is due (None while the set is empty).
+        self.patience = patience if patience and patience > 0 else None
+        self.t0 = time.perf_counter() if t0 is None else t0
+        self.signature = frozenset()
+        self.last_change_s = None
+        self.quiet_until = None
+        self.busy = False
+        self.deadline = None  # with a design in hand the search stops here (see search's empty_deadline)
+        self.settled_at = self.t0
+        self.trace = []
 
     def __len__(self):
         return 0 if self.rows is None else len(self.rows["ge"])
@@ -261,7 +332,11 @@ class _Front:
     def add(self, rows):
         self.pending.append(rows)
         self.n_pending += len(rows["ge"])
-        if self.n_pending >= SETTLE_ROWS:
+        # Under the settled rule rows are folded in at least every half patience, so a change is
+        # seen within it.
+        if self.n_pending >= SETTLE_ROWS or (
+                self.patience is not None
+                and time.perf_counter() - self.settled_at >= min(self.patience / 2, SETTLE_EVERY_MAX_S)):
             self.settle()
 
     def settle(self):
@@ -270,6 +345,33 @@ class _Front:
         Polls the stop watch; a stop part-way leaves the front as it was before the call."""
         if not self.pending:
             return
+        self.busy = True
+        try:
+            self._settle()
+        finally:
+            self.busy = False
+            self.settled_at = time.perf_counter()
+
+    def quiet_time_up(self) -> bool:
+        return self.quiet_until is not None and time.perf_counter() >= self.quiet_until
+
+    def quiet(self):
+        """For the stop watch: OutOfTime once a design is in hand and the deadline for that case has
+        passed; True when a settled stop is due (not while folding rows in: rows screened but not
+        yet folded in are folded in after the stop, so the set shown includes them)."""
+        if self.deadline is not None and self.fewest_parts < np.inf and time.perf_counter() >= self.deadline:
+            return stopwatch.OutOfTime
+        return not self.busy and self.quiet_time_up()
+
+    def stop_if_settled(self):
+        """Raise stopwatch.Settled when the patience has run out and folding in the rows screened
+        meanwhile does not change the set."""
+        if self.quiet_time_up():
+            self.settle()
+            if self.quiet_time_up():
+                raise stopwatch.Settled()
+
+    def _settle(self):
         new = concat(self.pending)
         self.pending, self.n_pending = [], 0
         new["parts"] = new["parts_lb"].astype(np.int64)
@@ -311,10 +413,32 @@ class _Front:
             if self.sol.first_design_s is None:
                 self.sol.first_design_s = time.perf_counter() - self.sol.started
         self.rows = rows
+        self._note_change()
+
+    def _note_change(self):
+        """Record a change of the set (the exact rows' counts within `spare` parts of the fewest,
+        as pick shows them) for the settled rule and the trace."""
+        rows = self.rows
+        exact = rows["exact"]
+        if not exact.any():
+            return
+        c = tradeoff.counts(rows["parts"][exact], rows["thd"][exact], rows["rob"][exact], rows["isup"][exact])
+        c = c[c[:, 0] <= c[:, 0].min() + self.spare]
+        c = np.unique(c[tradeoff.nondominated(c)], axis=0)
+        sig = frozenset(map(tuple, c.tolist()))
+        if sig == self.signature:
+            return
+        now = time.perf_counter()
+        self.signature = sig
+        self.last_change_s = now - self.t0
+        self.trace.append((self.last_change_s, c))
+        if self.patience is not None:
+            self.quiet_until = now + self.patience
 
     def _exact(self, rows):
-        """Rows with capacitors chosen and parts made exact; rows that cannot be built dropped."""
-        rows = self.add_caps(rows)
+        """Rows with parts made exact (the fewest capacitor parts, fewest-parts networks against
+        stock, CP-SAT when those do not fit); rows that cannot be built dropped."""
+        rows = self.add_cap_parts(rows)
         if not len(rows["ge"]):
             return rows
         has_ce = rows["RE2"] > 0 if "RE2" in rows else np.zeros(len(rows["ge"]), dtype=bool)
@@ -322,7 +446,8 @@ class _Front:
         parts = res_parts + rows["pc"] + 1
         ok = np.ones(len(parts), dtype=bool)
         for i in np.flatnonzero(~_greedy_fits(self.sol.pool, rows, self.positions)):
-            got = _realise(self.positions, {k: v[i:i + 1] for k, v in rows.items()}, self.sol)
+            one = self.add_caps({k: v[i:i + 1] for k, v in rows.items()})
+            got = _realise(self.positions, one, self.sol) if len(one["ge"]) else None
             if got is None:
                 ok[i] = False
                 self.stock_bound = True
@@ -346,8 +471,9 @@ class _Front:
             picks = tradeoff.shown(c[f], prefer, top)
             out, bad = [], None
             for i, labels in picks:
-                got = _realise(self.positions, {k: v[i:i + 1] for k, v in front.items()}, self.sol)
-                row = _row_dict(front, i)
+                one = self.add_caps({k: v[i:i + 1] for k, v in front.items()})
+                got = _realise(self.positions, one, self.sol) if len(one["ge"]) else None
+                row = _row_dict(one, 0) if len(one["ge"]) else None
                 if got is None:
                     bad = i
                     break
@@ -442,21 +568,26 @@ def _stock_qty(pool) -> np.ndarray:
 
 SEARCH_SHARE = 0.3  # of the time limit, at least, for the search itself
 POST_S_PER_DESIGN = 0.3  # analysing one design shown (measured about 0.2 s on this project's 2-core machines)
-# Modules loaded on first use after the search (CP-SAT to realise the designs, scipy's root finder for
-# the exact f_low) and what importing each costs on this project's machines, in seconds.
-LAZY_IMPORTS_S = {"ortools.sat.python.cp_model": 0.5, "scipy.optimize": 0.6}
+# Modules used after the search (CP-SAT to realise the designs): find_designs loads them before it
+# sets the search's deadline, so their import time (about 0.4 s, more on a loaded machine) is
+# charged to the limit as it is, not estimated.
+LAZY_IMPORTS = ("ortools.sat.python.cp_model",)
 OVERRUN_S = 1.0  # no command ends more than this past its time limit
+EMPTY_RESERVE_S = 0.5  # of the limit, kept for the reasons when the search has found nothing
 HINT_RESERVE_S = 0.3
 HINT_SHARE = 0.3  # of the time limit, at most, for shopping hints when nothing fits
 
 
 def find_designs(drawer, spec, *, top=DEFAULT_TOP, depth=DEFAULT_DEPTH, min_yield=None, progress=None, cancel=None,
-                 hints=True, seed=None, prefer=DEFAULT_PREFER, time_limit_s=DEFAULT_TIME_LIMIT_S) -> dict:
+                 hints=True, seed=None, prefer=DEFAULT_PREFER, time_limit_s=DEFAULT_TIME_LIMIT_S,
+                 patience_s=DEFAULT_PATIENCE_S) -> dict:
     """The design result document (DEVELOPERS.md) for `spec` from an inventory Drawer.
 
     The document's "status" is "found" (designs non-empty), "infeasible" (proven: nothing in
     the drawer meets the spec) or "unproven" (nothing found within `time_limit_s`, not proven
-    impossible); "optimal" says whether the trade-off set is proven complete.
+    impossible); "optimal" says whether the trade-off set is proven complete.  `patience_s`
+    (0 or None: off) is the settled rule: the search stops once the trade-off set has not changed
+    for that long ("search": "stopped_by": "settled"; not optimal).
     """
     from optimizer.chain.names import is_chain
     from optimizer.search import explain, result
@@ -466,7 +597,8 @@ def find_designs(drawer, spec, *, top=DEFAULT_TOP, depth=DEFAULT_DEPTH, min_yiel
         from optimizer.search.across import find_any
 
         return find_any(drawer, spec, top=top, time_limit_s=time_limit_s, progress=progress, cancel=cancel,
-                        depth=depth, min_yield=min_yield, hints=hints, seed=seed, prefer=prefer)
+                        depth=depth, min_yield=min_yield, hints=hints, seed=seed, prefer=prefer,
+                        patience_s=patience_s)
 
     if is_chain(spec.topology):  # two stages designed together: optimizer/chain
         from optimizer.chain.result import find_chain_designs
@@ -494,11 +626,14 @@ def find_designs(drawer, spec, *, top=DEFAULT_TOP, depth=DEFAULT_DEPTH, min_yiel
     yields = {}
     t0 = time.perf_counter()
     limit = float(time_limit_s) if time_limit_s is not None else None
+    for name in LAZY_IMPORTS:
+        if name not in sys.modules:
+            importlib.import_module(name)
     # The search gets what the limit leaves after analysing the designs shown (exact analysis at
-    # three hFE, Monte Carlo) and realising them (CP-SAT, loaded on first use), and at least
-    # SEARCH_SHARE of it; when nothing fits, the shopping hints get what is left.
-    post = POST_S_PER_DESIGN * max(1, top) + sum(s for m, s in LAZY_IMPORTS_S.items() if m not in sys.modules)
-    deadline = None if limit is None else t0 + max(SEARCH_SHARE * limit, limit - post)
+    # three hFE, Monte Carlo) and realising them (CP-SAT), and at least SEARCH_SHARE of it; when
+    # nothing fits, the shopping hints get what is left.
+    post = POST_S_PER_DESIGN * max(1, top)
+    deadline = None if limit is None else t0 + max(SEARCH_SHARE * limit, limit - post - (time.perf_counter() - t0))
 
     def accept(sol, choice, row):
         y, mc = result.yield_of(sol, choice, spec, seed=mc_seed)
@@ -506,19 +641,25 @@ def find_designs(drawer, spec, *, top=DEFAULT_TOP, depth=DEFAULT_DEPTH, min_yiel
         return y >= min_yield
 
     sol = search(rstock, cstock, qlines, spec, top=top, depth=depth, progress=progress, cancel=cancel,
-                 accept=accept if min_yield is not None else None, prefer=prefer, deadline=deadline)
+                 accept=accept if min_yield is not None else None, prefer=prefer, deadline=deadline,
+                 patience=patience_s, empty_deadline=None if limit is None else t0 + limit - EMPTY_RESERVE_S)
     doc["search"] = {"resistor_part_budget": sol.budget, "tuples_screened": sol.near.screened,
                      "seconds": round(sol.seconds, 3), "exhaustive": sol.exhaustive, "depth": depth,
                      "prefer": prefer, "time_limit_s": limit, "stopped_by": sol.stopped_by,
-                     "first_design_s": None if sol.first_design_s is None else round(sol.first_design_s, 3)}
+                     "first_design_s": None if sol.first_design_s is None else round(sol.first_design_s, 3),
+                     "patience_s": patience_s or 0.0,
+                     "last_change_s": None if sol.last_change_s is None else round(sol.last_change_s, 3)}
+    each = POST_S_PER_DESIGN  # the longest a design's analysis has taken so far, at least the estimate
     for k, (choice, row, labels) in enumerate(sol.designs):
-        if k and limit is not None and time.perf_counter() - t0 > limit + OVERRUN_S - POST_S_PER_DESIGN:
+        if k and limit is not None and time.perf_counter() + each > t0 + limit + OVERRUN_S:
             doc["why"].append(f"{len(sol.designs) - k} more design(s) of the trade-off set left out to keep the "
                               f"{limit:g} s limit")
             break
+        t_design = time.perf_counter()
         y, mc = yields.get(id(choice)) or result.yield_of(sol, choice, spec, seed=mc_seed)
         doc["designs"].append(result.design_json(sol, choice, row, spec, locations=locations, mc=mc, yld=y,
                                                  labels=labels))
+        each = max(each, time.perf_counter() - t_design)
     if sol.stopped_by == "cancelled":
         doc["cancelled"] = True
     doc["why"] = notes + (sol.notes if sol.designs else []) + doc["why"]

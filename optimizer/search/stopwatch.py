@@ -1,8 +1,8 @@
 """When a search must stop: the user's cancel event and the time limit, polled from deep loops.
 
-`watch(cancel, deadline)` installs a watch for the current thread (the app solves in a
-worker thread, the CLI in the main one); `poll()` raises `Cancelled` or `OutOfTime` when
-it is due.  The branch-and-bound loops poll once per round, so a stop lands within a few
+`watch(cancel, deadline, quiet)` installs a watch for the current thread (the app solves in a
+worker thread, the CLI in the main one); `poll()` raises `Cancelled`, `OutOfTime` or
+`Settled` (the caller's `quiet()` says its result has stopped changing) when it is due.  The branch-and-bound loops poll once per round, so a stop lands within a few
 tens of milliseconds wherever the search is.
 """
 
@@ -25,19 +25,28 @@ class OutOfTime(Stopped):
     pass
 
 
+class Settled(Stopped):
+    """The anytime search's result has not changed for its patience period (select.py's stop rule)."""
+
+
 _local = threading.local()
 
 
 class Watch:
-    def __init__(self, cancel=None, deadline=None):
+    def __init__(self, cancel=None, deadline=None, quiet=None):
         self.cancel = cancel
         self.deadline = deadline  # time.perf_counter() value, or None
+        self.quiet = quiet  # callable() -> True (a settled stop is due), a Stopped class, or falsy; or None
 
     def due(self) -> type[Stopped] | None:
         if self.cancel is not None and self.cancel.is_set():
             return Cancelled
         if self.deadline is not None and time.perf_counter() >= self.deadline:
             return OutOfTime
+        if self.quiet is not None:
+            due = self.quiet()
+            if due:
+                return due if isinstance(due, type) else Settled
         return None
 
     def left(self) -> float:
@@ -45,12 +54,13 @@ class Watch:
 
 
 @contextmanager
-def watch(cancel=None, deadline=None):
-    """Install a Watch for this thread (nesting keeps the earlier deadline if it is sooner)."""
+def watch(cancel=None, deadline=None, quiet=None):
+    """Install a Watch for this thread (nesting keeps the earlier deadline if it is sooner; a nested
+    watch does not inherit `quiet`: work it guards must not be cut off by a settled stop)."""
     outer = getattr(_local, "watch", None)
     if outer is not None and outer.deadline is not None:
         deadline = outer.deadline if deadline is None else min(deadline, outer.deadline)
-    w = Watch(cancel if cancel is not None else (outer.cancel if outer else None), deadline)
+    w = Watch(cancel if cancel is not None else (outer.cancel if outer else None), deadline, quiet)
     _local.watch = w
     try:
         yield w
@@ -63,7 +73,7 @@ def current() -> Watch | None:
 
 
 def poll() -> None:
-    """Raise Cancelled or OutOfTime if the current thread's watch is due."""
+    """Raise Cancelled, OutOfTime or Settled if the current thread's watch is due."""
     w = getattr(_local, "watch", None)
     if w is not None:
         due = w.due()
