@@ -1,4 +1,4 @@
-"""One row per kind of stage (read from the registry): how soon a design, how often proven.
+"""One row per kind of stage (read from the registry) and per two-stage chain: how soon a design, how often proven.
 
 `python -m tests.bench.kinds [--n 6] [--limit 10] [--proof-cap 60]`.  Prints figures, asserts nothing.
 
@@ -31,20 +31,23 @@ SWINGS = (1.0, 2.0, 3.0, 1.0, 2.0, 0.5)
 
 
 def requests(kind_name: str, n: int) -> list[dict]:
-    """Our own requests for one kind: the same spread for every kind, shaped by what it declares."""
+    """Our own requests for one kind (or chain): the same spread for every kind, shaped by what it declares."""
     from optimizer import kinds
+    from optimizer.chain.names import CHAINS
 
-    kind = kinds.get(kind_name)
+    stages = [kinds.get(s) for s in CHAINS[kind_name]] if kind_name in CHAINS else [kinds.get(kind_name)]
     out = []
     for i in range(n):
-        gain = GAINS[i % len(GAINS)]
-        if kind.preset_gain is not None:
-            gain = kind.preset_gain
-        elif kind.max_gain is not None:
-            gain = min(gain, kind.max_gain)
+        gain = GAINS[i % len(GAINS)] * (len(stages) if len(stages) > 1 else 1)
+        for kind in stages:
+            if len(stages) == 1 and kind.preset_gain is not None:
+                gain = kind.preset_gain
+            elif len(stages) == 1 and kind.max_gain is not None:
+                gain = min(gain, kind.max_gain)
         spec = dict(topology=kind_name, gain=gain, gain_tol=0.05, supply_v=12.0, load_ohms=LOADS[i % len(LOADS)],
                     source_ohms=1e3, swing_pp=SWINGS[i % len(SWINGS)], low_cut_hz=50.0)
-        spec.update(getattr(kind, "extra", {}).get("bench_spec", {}))  # e.g. a second rail
+        if any(kind.rails > 1 for kind in stages):
+            spec["negative_supply_v"] = -12.0
         out.append(spec)
     return out
 
@@ -90,7 +93,9 @@ def main(argv: list[str]) -> None:
         return type(default)(argv[argv.index(name) + 1]) if name in argv else default
 
     n, limit, proof_cap = opt("--n", 6), opt("--limit", 10.0), opt("--proof-cap", 60.0)
-    names = opt("--kinds", ",".join(kinds.names())).split(",")
+    from optimizer.chain.names import CHAINS
+
+    names = opt("--kinds", ",".join((*kinds.names(), *CHAINS))).split(",")
     print(f"kinds benchmark: {n} requests per kind on the demo drawer, limit {limit:g} s, proof cap {proof_cap:g} s")
     print(f"{'kind':24s} {'first design p50/max s':>24s} {'proven in limit':>16s} {'proof p50 s':>12s} {'found':>7s}")
     for name in names:
