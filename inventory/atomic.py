@@ -117,13 +117,29 @@ def interrupts_deferred() -> Iterator[None]:
 
     Two writes that belong together (the drawer and its journal entry) then cannot be split by
     Ctrl-C.  Elsewhere (another thread, Windows) this does nothing.
+
+    Blocking the main thread's mask is not enough: a process-wide signal (Ctrl-C at the terminal)
+    goes to any thread that does not block it (numpy's and the app's worker threads), and Python
+    then runs the handler in the main thread anyway.  So for the duration the handlers only note
+    the signal, and it is raised again, with the handlers as they were, once the block ends.
     """
     if not hasattr(signal, "pthread_sigmask") or threading.current_thread() is not threading.main_thread():
         yield
         return
-    held = {signal.SIGINT, signal.SIGTERM}
-    old = signal.pthread_sigmask(signal.SIG_BLOCK, held)
+    held = (signal.SIGINT, signal.SIGTERM)
+    caught: list[int] = []
+    handlers = {}
+    for sig in held:
+        previous = signal.getsignal(sig)
+        if previous is not None:  # None: a handler not installed from Python; leave it alone
+            handlers[sig] = previous
+            signal.signal(sig, lambda signum, frame: caught.append(signum))
+    old = signal.pthread_sigmask(signal.SIG_BLOCK, set(held))
     try:
         yield
     finally:
-        signal.pthread_sigmask(signal.SIG_SETMASK, old)
+        for sig, previous in handlers.items():
+            signal.signal(sig, previous)
+        signal.pthread_sigmask(signal.SIG_SETMASK, old)  # a signal held by the mask is delivered here
+        for sig in dict.fromkeys(caught):
+            signal.raise_signal(sig)

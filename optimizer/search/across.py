@@ -107,7 +107,7 @@ def find_any(drawer, spec, *, top, time_limit_s, progress=None, cancel=None, **k
            "hints": [], "why": list(notes), "kinds": {}}
     for name, d in docs.items():
         doc["kinds"][name] = {"status": d["status"], "optimal": d["optimal"], "found": len(d["designs"]),
-                              "seconds": (d.get("search") or {}).get("seconds")}
+                              "seconds": (d.get("search") or {}).get("seconds"), "unexplored": d.get("unexplored")}
         if not designs:
             doc["why"] += [f"{name}: {w}" for w in d.get("why", [])]
             doc["hints"] += [h for h in d.get("hints", []) if h not in doc["hints"]]
@@ -115,8 +115,11 @@ def find_any(drawer, spec, *, top, time_limit_s, progress=None, cancel=None, **k
             doc["cancelled"] = True
     searched_all = len(docs) == len(names)
     doc["optimal"] = bool(docs) and searched_all and all(d["optimal"] for d in docs.values())
-    left = [f"{n}: {d['unexplored']}" for n, d in docs.items() if d.get("unexplored")]
-    left += [f"{n}: not searched" for n in names if n not in docs]
+    # One line for the header; each kind's own account is in doc["kinds"][name]["unexplored"].
+    open_kinds = [n for n, d in docs.items() if not d["optimal"] and d["status"] != "infeasible"]
+    left = [f"not proven complete for {', '.join(open_kinds)}"] if open_kinds else []
+    unsearched = [n for n in names if n not in docs]
+    left += [f"not searched: {', '.join(unsearched)}"] if unsearched else []
     doc["unexplored"] = "; ".join(left) or None
     proven = searched_all and docs and all(d["status"] == "infeasible" for d in docs.values())
     doc["status"] = "found" if designs else ("infeasible" if proven else "unproven")
