@@ -44,11 +44,6 @@ from optimizer.spec import (  # noqa: F401
 )
 
 MIN_CAPS = 2  # CIN and COUT are always fitted
-
-
-def min_caps(spec) -> int:
-    """Capacitors every design fits: CIN and COUT, less CIN when the source is DC-coupled."""
-    return MIN_CAPS - bool(getattr(spec, "dc_input", False))
 MAX_SCREENED = 60_000_000  # a safety stop; reported in `why` when it ends the search
 MAX_REJECTED = 30  # designs the yield constraint may turn down before the search gives up
 # The trade-off set spans designs of up to this many parts more than the fewest that meet the
@@ -60,6 +55,11 @@ EXACT_BATCH = 16  # front rows made exact (capacitors chosen) at a time
 SETTLE_EVERY_MAX_S = 1.0  # under the settled rule, rows are folded in at least this often (and every half patience)
 
 Cancelled = stopwatch.Cancelled
+
+
+def min_caps(spec) -> int:
+    """Capacitors every design fits: CIN and COUT, less CIN when the source is DC-coupled."""
+    return MIN_CAPS - bool(getattr(spec, "dc_input", False))
 
 
 @dataclass
