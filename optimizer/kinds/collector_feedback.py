@@ -14,7 +14,7 @@ from optimizer.kinds import collector_feedback_bounds as feedback_boxes
 from optimizer.physics import swing as loadline
 from optimizer.search.seed import SWING_ROOM, VBE_V
 from optimizer.kinds import blocks as b
-from optimizer.kinds.registry import Kind, register
+from optimizer.kinds.registry import Kind, hooks, register
 
 NAME = "collector-feedback"
 
@@ -103,16 +103,7 @@ KIND = register(Kind(
     cap_nodes={"CIN": "vb", "COUT": "vc", "CE": "vn"},
     cap_sides={"CIN": ("the base", "the source"), "COUT": ("the collector", "the load"),
                "CE": ("the emitter resistors", "ground")},
-    wire=wire,
-    bias_network=bias_network,
-    ac_terms=ac_terms,
-    supply_current=supply_current,
-    swing=swing,
-    dissipation=dissipation,
-    textbook=textbook,
-    held_network=held_network,
-    ac_network=ac_network,
+    **hooks(globals()),
     boxes=feedback_boxes.feedback_chunks,
-    ideal_values=ideal_values,
     summary="gain with the bias steadied by feedback from the collector",
 ))

@@ -15,7 +15,7 @@ from optimizer.physics import swing as loadline
 from optimizer.search.seed import SWING_ROOM, VBE_V
 from optimizer.physics.transistor import thermal_voltage
 from optimizer.kinds import blocks as b
-from optimizer.kinds.registry import Kind, register
+from optimizer.kinds.registry import Kind, hooks, register
 
 NAME = "common-emitter"
 
@@ -119,17 +119,8 @@ KIND = register(Kind(
     cap_nodes={"CIN": "vb", "COUT": "vc", "CE": "vn"},
     cap_sides={"CIN": ("the base", "the source"), "COUT": ("the collector", "the load"),
                "CE": ("the emitter resistors", "ground")},
-    wire=wire,
-    bias_network=bias_network,
-    ac_terms=ac_terms,
-    supply_current=supply_current,
-    swing=swing,
-    dissipation=dissipation,
-    textbook=textbook,
-    held_network=held_network,
-    ac_network=ac_network,
+    **hooks(globals()),
     boxes=ce_boxes.ce_chunks,
-    ideal_values=ideal_values,
     spec_bounds=spec_bounds,
     summary="gain from a divider-biased stage with emitter degeneration",
 ))

@@ -15,7 +15,7 @@ from optimizer.kinds import emitter_follower_bounds as follower_boxes
 from optimizer.physics import swing as loadline
 from optimizer.search.seed import MIN_IC_A, SWING_ROOM, VBE_V
 from optimizer.kinds import blocks as b
-from optimizer.kinds.registry import Kind, register
+from optimizer.kinds.registry import Kind, hooks, register
 
 NAME = "emitter-follower"
 
@@ -95,16 +95,7 @@ KIND = register(Kind(
     emitter=("RE",),
     cap_nodes={"CIN": "vb", "COUT": "ve"},
     cap_sides={"CIN": ("the base", "the source"), "COUT": ("the emitter", "the load")},
-    wire=wire,
-    bias_network=bias_network,
-    ac_terms=ac_terms,
-    supply_current=supply_current,
-    swing=swing,
-    dissipation=dissipation,
-    textbook=textbook,
-    held_network=held_network,
-    ac_network=ac_network,
+    **hooks(globals()),
     boxes=follower_boxes.follower_chunks,
-    ideal_values=ideal_values,
     summary="a buffer: gain just under 1, high input and low output resistance",
 ))

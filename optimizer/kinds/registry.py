@@ -97,6 +97,16 @@ class Kind:
         return tuple(p for p in self.resistors if p not in self.optional)
 
 
+# The hooks every kind module defines under these names (see `Kind`); `hooks` collects them.
+HOOKS = ("wire", "bias_network", "ac_terms", "supply_current", "swing", "dissipation", "textbook", "held_network",
+         "ac_network", "ideal_values")
+
+
+def hooks(namespace: Mapping) -> dict[str, Callable]:
+    """The kind's hook functions from its module's namespace (`hooks(globals())`), by their `Kind` names."""
+    return {name: namespace[name] for name in HOOKS}
+
+
 _KINDS: dict[str, Kind] = {}
 _loaded = False
 

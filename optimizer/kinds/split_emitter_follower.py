@@ -17,7 +17,7 @@ import numpy as np
 from optimizer.physics import swing as loadline
 from optimizer.search.seed import MIN_IC_A, SWING_ROOM, VBE_V
 from optimizer.kinds import blocks as b
-from optimizer.kinds.registry import Kind, register
+from optimizer.kinds.registry import Kind, hooks, register
 from optimizer.kinds.split_bounds import split_follower_chunks
 from optimizer.kinds.split_common_emitter import base_return, held_base
 
@@ -100,17 +100,8 @@ KIND = register(Kind(
     emitter=("RE",),
     cap_nodes={"CIN": "vb", "COUT": "ve"},
     cap_sides={"CIN": ("the base", "the source"), "COUT": ("the emitter", "the load")},
-    wire=wire,
-    bias_network=bias_network,
-    ac_terms=ac_terms,
-    supply_current=supply_current,
-    swing=swing,
-    dissipation=dissipation,
-    textbook=textbook,
-    held_network=held_network,
-    ac_network=ac_network,
+    **hooks(globals()),
     boxes=split_follower_chunks,
-    ideal_values=ideal_values,
     summary="a buffer on split supplies: output resting near ground, gain just under 1",
     rails=2,
 ))
