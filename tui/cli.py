@@ -13,6 +13,10 @@ function; this file only wires them and holds the rules every command follows:
 
 from __future__ import annotations
 
+import time
+
+STARTED = time.perf_counter()  # a command's time limit counts from here (cmd_design)
+
 import argparse
 import os
 import sys

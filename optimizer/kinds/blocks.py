@@ -99,8 +99,8 @@ def collector_swing(r_ac, *, ic, ie, vce, vc, vcc, re_ac):
 
 # --- seeds (common practice, no source; see seed.py) --------------------------------------------
 
-def collector_seed(spec, swing_room):
-    """VE, the collector's room, IC, RC, RE, RE1 of the textbook collector-output stage."""
+def collector_seed(spec, swing_room, ic_floor=MIN_IC_A):
+    """VE, the collector's room, IC (at least ic_floor, A), RC, RE, RE1 of the textbook collector-output stage."""
     vcc, swing, rl = spec.supply_v, spec.swing_pp / 2.0 * swing_room, spec.load_ohms
     vt = float(thermal_voltage(27.0))
     ve = min(max(1.0, vcc / 10.0), vcc / 4.0)
@@ -109,7 +109,7 @@ def collector_seed(spec, swing_room):
     room = vcc - vc
     need = 1.2 * swing
     ic = need * room / (rl * (room - need)) if room > need and math.isfinite(rl) else MIN_IC_A
-    ic = capped(max(ic, MIN_IC_A), spec)
+    ic = capped(max(ic, ic_floor), spec)
     rac = room / ic if not math.isfinite(rl) else (room / ic) * rl / (room / ic + rl)
     re = ve / ic
     re1 = min(max(rac / spec.gain - vt / ic, 0.0), re)

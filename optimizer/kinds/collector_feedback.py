@@ -12,7 +12,7 @@ import numpy as np
 
 from optimizer.kinds import collector_feedback_bounds as feedback_boxes
 from optimizer.physics import swing as loadline
-from optimizer.search.seed import SWING_ROOM, VBE_V
+from optimizer.search.seed import MIN_IC_A, SWING_ROOM, VBE_V
 from optimizer.kinds import blocks as b
 from optimizer.kinds.registry import Kind, hooks, register
 
@@ -83,9 +83,9 @@ def ac_network(r, omega, ce):
     return 0.0, 1.0 / r["RB"], 1.0 / r["RC"], b.split_emitter_ac_network(r, omega, ce), "c"
 
 
-def ideal_values(spec, hfe_min, hfe_typ):
+def ideal_values(spec, hfe_min, hfe_typ, ic_floor=MIN_IC_A):
     """As the common emitter, with RB from the collector feeding the base current at the typical hFE."""
-    s = b.collector_seed(spec, SWING_ROOM)
+    s = b.collector_seed(spec, SWING_ROOM, ic_floor)
     ic = s["ic"]
     return {"RC": s["room"] / (ic * (1.0 + 1.0 / hfe_typ)), "RE1": s["re1"], "RE2": s["re"] - s["re1"],
             "RB": max(s["vc"] - s["ve"] - VBE_V, 0.1) / (ic / hfe_typ)}

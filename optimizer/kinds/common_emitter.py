@@ -12,7 +12,7 @@ from inventory.values import format_capacitance, format_resistance
 
 from optimizer.kinds import common_emitter_bounds as ce_boxes
 from optimizer.physics import swing as loadline
-from optimizer.search.seed import SWING_ROOM, VBE_V
+from optimizer.search.seed import MIN_IC_A, SWING_ROOM, VBE_V
 from optimizer.physics.transistor import thermal_voltage
 from optimizer.kinds import blocks as b
 from optimizer.kinds.registry import Kind, hooks, register
@@ -68,8 +68,8 @@ def ac_network(r, omega, ce):
     return b.divider_g(r), 0.0, 1.0 / r["RC"], b.split_emitter_ac_network(r, omega, ce), "c"
 
 
-def ideal_values(spec, hfe_min, hfe_typ):
-    s = b.collector_seed(spec, SWING_ROOM)
+def ideal_values(spec, hfe_min, hfe_typ, ic_floor=MIN_IC_A):
+    s = b.collector_seed(spec, SWING_ROOM, ic_floor)
     out = {"RC": s["room"] / s["ic"], "RE1": s["re1"], "RE2": s["re"] - s["re1"]}
     out["R1"], out["R2"] = b.divider(spec.supply_v, s["ve"] + VBE_V, s["ic"], hfe_min, hfe_typ,
                                      s["re1"] + s["vt"] / s["ic"], spec)

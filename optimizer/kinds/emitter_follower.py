@@ -71,12 +71,12 @@ def ac_network(r, omega, ce):
     return b.divider_g(r), 0.0, b.SHORT, 1.0 / r["RE"], "e"
 
 
-def ideal_values(spec, hfe_min, hfe_typ):
+def ideal_values(spec, hfe_min, hfe_typ, ic_floor=MIN_IC_A):
     """The emitter at about half the supply; IE so it can fall the asked half-swing into RE‖RL."""
     vcc, swing_pk, rl = spec.supply_v, spec.swing_pp / 2.0 * SWING_ROOM, spec.load_ohms
     ve = max(vcc / 2.0 - VBE_V / 2.0, 0.5)
     ie = swing_pk / (rl * (1.0 - swing_pk / ve)) if swing_pk < ve and math.isfinite(rl) else MIN_IC_A
-    ie = b.capped(max(ie, MIN_IC_A), spec)
+    ie = b.capped(max(ie, ic_floor), spec)
     r1, r2 = b.divider(vcc, ve + VBE_V, ie, hfe_min, hfe_typ, ve / ie, spec)
     return {"R1": r1, "R2": r2, "RE": ve / ie}
 

@@ -46,7 +46,8 @@ class Kind:
       held_network(r, ...)                     the large-signal network, capacitors held;
       ac_network(r, omega, ce)                 the low-frequency conductances (lowcut);
       boxes(groups, spec, transistor, betas)   the branch and bound over value boxes;
-      ideal_values(spec, hfe_min, hfe_typ)     textbook values the search is seeded with;
+      ideal_values(spec, hfe_min, hfe_typ, ic_floor)  textbook values the search is seeded with
+                                               (the operating current at least ic_floor, A);
       spec_bounds(spec)                        spec-level bounds in words (may be None).
     Node voltages are relative to ground (0 V); on split supplies (rails = 2) the bottom rail
     is r["vee"] < 0 and a source DC-coupled to the base (r["dc"], no CIN) is at 0 V DC.

@@ -103,7 +103,7 @@ def ac_network(r, omega, ce):
     return 1.0 / r["RB"], 0.0, 1.0 / r["RC"], b.split_emitter_ac_network(r, omega, ce), "c"
 
 
-def ideal_values(spec, hfe_min, hfe_typ):
+def ideal_values(spec, hfe_min, hfe_typ, ic_floor=MIN_IC_A):
     """Emitter one VBE below ground, the collector centred between it and the top rail for the
     swing, IC from the swing into RC‖RL, RE from |VEE| − VBE, RE1 from the gain, RB stiff
     (IB·RB ≤ a tenth of the RE drop) but above the Rin floor.  Common practice, no source."""
@@ -116,7 +116,7 @@ def ideal_values(spec, hfe_min, hfe_typ):
     room = vcc - vc
     need = 1.2 * swing_pk
     ic = need * room / (rl * (room - need)) if room > need and math.isfinite(rl) else MIN_IC_A
-    ic = b.capped(max(ic, MIN_IC_A), spec)
+    ic = b.capped(max(ic, ic_floor), spec)
     rac = room / ic if not math.isfinite(rl) else (room / ic) * rl / (room / ic + rl)
     re = max(ve - vee, 0.1) / ic
     re1 = min(max(rac / spec.gain - vt / ic, 0.0), re)

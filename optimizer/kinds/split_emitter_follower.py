@@ -75,13 +75,13 @@ def ac_network(r, omega, ce):
     return 1.0 / r["RB"], 0.0, b.SHORT, 1.0 / r["RE"], "e"
 
 
-def ideal_values(spec, hfe_min, hfe_typ):
+def ideal_values(spec, hfe_min, hfe_typ, ic_floor=MIN_IC_A):
     """Emitter one VBE below ground; IE so it can fall the asked half-swing into RE‖RL; RB stiff
     (IB·RB ≤ a tenth of the RE drop) but above the Rin floor.  Common practice, no source."""
     swing_pk, rl = spec.swing_pp / 2.0 * SWING_ROOM, spec.load_ohms
     drop = max(-VBE_V - spec.negative_supply_v, 0.1)
     ie = swing_pk / (rl * (1.0 - swing_pk / drop)) if swing_pk < drop and math.isfinite(rl) else MIN_IC_A
-    ie = b.capped(max(ie, MIN_IC_A), spec)
+    ie = b.capped(max(ie, ic_floor), spec)
     re = drop / ie
     return {"RB": max(0.1 * hfe_min * re, 2.0 * spec.rin_floor), "RE": re}
 

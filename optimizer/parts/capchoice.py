@@ -30,7 +30,7 @@ import numpy as np
 from optimizer import kinds
 from optimizer.search import objective
 from optimizer.search.feasible import corner_names
-from optimizer.physics.lowcut import LowCut
+from optimizer.physics.lowcut import LowCut, meets_low_cut
 from optimizer.physics import polarity
 
 CAP_VOLTAGE_MARGIN = 1.5  # rating ≥ 1.5 × the DC across the part (common practice, no source)
@@ -287,3 +287,88 @@ def fewest_parts(topology, row, spec, options, stock_qty: np.ndarray) -> int | N
             got = choose(topology, row, spec, options, stock_qty)
             return None if got is None else got.parts
     return None
+
+
+def fewest_parts_many(topology, rows: dict, spec, options, stock_qty: np.ndarray) -> np.ndarray:
+    """`fewest_parts` for many rows at once where it is plain, −1 where it is not decided here.
+
+    A row needs at least one part per capacitor position, so a single-part tuple that passes the
+    low cut-off test (lowcut.meets_low_cut) and that the stock holds proves the fewest parts are
+    the positions' number.  Two such witnesses are tried for all rows in one vectorised test each,
+    as `fewest_parts` tries them one row at a time: the largest value each position may use (rated
+    for the DC across it), then the greedy tuple (each position in turn at its smallest passing
+    value).  Positions sharing a value must find enough of it on lines rated for all of them.
+    Every other row is left (−1) to the per-row search.
+    """
+    n = len(rows["ge"])
+    out = np.full(n, -1, dtype=np.int64)
+    single = np.flatnonzero(options.parts == 1)
+    if n == 0 or not len(single):
+        return out
+    values, volts = options.value[single], options.voltage_v[single]
+    qty = np.asarray(stock_qty, dtype=np.int64)[options.members[single, 0]]
+    nodes = dict(kinds.get(topology).cap_nodes)
+    corners = corner_names(rows)
+    has_ce = rows["RE2"] > 0 if "RE2" in rows else np.zeros(n, dtype=bool)
+    mirror = np.asarray(rows.get("mirror_v", np.zeros(n)), dtype=float)
+    rated, needs, ok = {}, {}, np.ones(n, dtype=bool)  # rated[p]: (n, options) bool
+    for p in CAP_POSITIONS:
+        present = has_ce if p == "CE" else np.ones(n, dtype=bool)
+        if p not in nodes or (p == "CIN" and getattr(spec, "dc_input", False)) or not present.any():
+            continue
+        v = np.stack([np.asarray(rows[f"{c}_{nodes[p]}"], dtype=float) for c in corners])
+        if p != "CE":
+            v = np.where(mirror != 0, mirror - v, v)  # real polarity, as dc_across reads it
+        need = np.abs(v).max(axis=0) * CAP_VOLTAGE_MARGIN
+        rated[p] = ((volts[None, :] >= need[:, None]) | (need[:, None] <= 0)) & present[:, None]
+        needs[p] = need
+        ok &= ~present | rated[p].any(axis=1)
+    if not ok.any():
+        return out
+    cols = {k: (v[:, None] if np.ndim(v) else v) for k, v in rows.items()}
+
+    def passes(tup, p=None, grid=None):
+        """meets_low_cut per row for tuple `tup` ({position: (n,) F}), or over (n, options) with p varied."""
+        c = {q: (tup[q][:, None] if q in tup else np.inf) for q in CAP_POSITIONS}
+        if p is not None:
+            c[p] = grid
+        return meets_low_cut(topology, cols, spec, c["CIN"], c["COUT"], c["CE"])
+
+    def fits(tup):
+        held = np.ones(n, dtype=bool)
+        names = list(tup)
+        for a in range(len(names)):
+            for b in range(a + 1, len(names)):
+                same = tup[names[a]] == tup[names[b]]
+                held &= ~same | _enough(values, volts, qty, tup[names[a]],
+                                        np.maximum(needs[names[a]], needs[names[b]]), 2)
+        if len(names) == 3:
+            same = (tup[names[0]] == tup[names[1]]) & (tup[names[0]] == tup[names[2]])
+            held &= ~same | _enough(values, volts, qty, tup[names[0]], np.maximum.reduce(list(needs.values())), 3)
+        return held
+
+    def tuple_of(sel):  # the positions a row fits, as (n,) arrays; inf where the row has none
+        return {p: np.where(r.any(axis=1), sel[p], np.inf) for p, r in rated.items()}
+
+    top = tuple_of({p: np.where(r, values[None, :], -np.inf).max(axis=1) for p, r in rated.items()})
+    ok &= passes(top).reshape(n)
+    count = sum(np.isfinite(t).astype(np.int64) for t in top.values())
+    done = ok & fits(top)
+    out[done] = count[done]
+    if not (ok & ~done).any():
+        return out
+    greedy = dict(top)  # the greedy tuple; it passes wherever the top tuple passes
+    for p, r in rated.items():
+        grid = np.where(r, values[None, :], np.inf)
+        good = passes(greedy, p, grid) & r
+        smallest = np.where(good, values[None, :], np.inf).min(axis=1)
+        greedy[p] = np.where(np.isfinite(greedy[p]) & np.isfinite(smallest), smallest, greedy[p])
+    more = ok & ~done & passes(greedy).reshape(n) & fits(greedy)
+    out[more] = count[more]
+    return out
+
+
+def _enough(values, volts, qty, value, need, k) -> np.ndarray:
+    """Per row: ≥ k single parts of `value` (F) on lines rated for `need` (V)?"""
+    avail = (values[None, :] == value[:, None]) & ((volts[None, :] >= need[:, None]) | (need[:, None] <= 0))
+    return (avail * qty[None, :]).sum(axis=1) >= k

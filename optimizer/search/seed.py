@@ -14,7 +14,9 @@ emitter follower  the emitter at about half the supply; IE so the emitter can fa
 collector feedback  as the common emitter, with RB from the collector feeding the base
                   current at the typical hFE.
 Every value is then replaced by the nearest values the drawer can make and the nearest single
-parts (one below and one above each).
+parts (one below and one above each).  When none of those meets the spec, the same procedure is
+tried again at the usual small-signal operating currents of `IC_LADDER_A`: the least current the
+load needs is not always the one a drawer's values suit.
 """
 
 from __future__ import annotations
@@ -31,13 +33,14 @@ VBE_V = 0.65  # a small-signal silicon junction at about 1 mA (common practice, 
 DIVIDER_STIFFNESS = 10.0  # divider current / base current at hFE min (common practice, no source)
 SWING_ROOM = 1.25  # the load-line swing asked of a seed, over the swing asked of the stage
 MIN_IC_A = 0.2e-3
+IC_LADDER_A = (0.5e-3, 1e-3, 2e-3)  # second-round seed currents (common practice, no source)
 NEIGHBOURS = 2  # stocked values taken on each side of an ideal value
 
 
-def ideal_values(topology, spec, hfe_min, hfe_typ) -> dict[str, float]:
-    """Position → ideal ohms (0.0 = leave the position out) for `spec` with a transistor of that hFE
-    (each kind's own procedure, `Kind.ideal_values`)."""
-    return kinds.get(topology).ideal_values(spec, hfe_min, hfe_typ)
+def ideal_values(topology, spec, hfe_min, hfe_typ, ic_floor=MIN_IC_A) -> dict[str, float]:
+    """Position → ideal ohms (0.0 = leave the position out) for `spec` with a transistor of that hFE,
+    the operating current at least ic_floor (A) (each kind's own procedure, `Kind.ideal_values`)."""
+    return kinds.get(topology).ideal_values(spec, hfe_min, hfe_typ, ic_floor)
 
 
 def capped(i, spec):
@@ -67,10 +70,11 @@ def neighbours(values: np.ndarray, target: float, k: int = NEIGHBOURS) -> np.nda
     return values[max(0, i - k):i + k]
 
 
-def seed_tuples(topology, spec, q, pool) -> dict[str, np.ndarray]:
-    """A chunk (position → ohms arrays) of the stocked neighbours of the ideal values for line `q`."""
+def seed_tuples(topology, spec, q, pool, ic_floor=MIN_IC_A) -> dict[str, np.ndarray]:
+    """A chunk (position → ohms arrays) of the stocked neighbours of the ideal values for line `q`
+    at an operating current of at least ic_floor (A)."""
     t = q.transistor
-    ideal = ideal_values(topology, spec, float(t.hfe_min), math.sqrt(float(t.hfe_min) * float(t.hfe_max)))
+    ideal = ideal_values(topology, spec, float(t.hfe_min), math.sqrt(float(t.hfe_min) * float(t.hfe_max)), ic_floor)
     values = pool.distinct.value
     single = pool.group(1)  # single parts too: a bench's first choice, and the fewest-parts designs
     choices = []

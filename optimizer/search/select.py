@@ -30,8 +30,9 @@ from optimizer.search import objective, stopwatch, tradeoff
 from optimizer.parts.assign import Assignment, Choice
 from optimizer.search.candidates import POSITIONS, Pool, min_positions, profiles, tuples, usable_transistors
 from optimizer.parts.capacitors import capacitor_options
+from optimizer.parts.one_row import realise_row
 from optimizer.search.feasible import Near, check, concat
-from optimizer.search.seed import seed_tuples
+from optimizer.search.seed import IC_LADDER_A, MIN_IC_A, seed_tuples
 from optimizer.spec import (  # noqa: F401
     ANY_TOPOLOGY,
     DEFAULT_DEPTH,
@@ -128,11 +129,20 @@ def _add_cap_parts(topology, rows, spec, options, cap_qty, positions, sol):
     """Rows with "pc" (the fewest capacitor parts, capchoice.fewest_parts) and no capacitors chosen
     yet: all the trade-off counts need; `_add_caps` chooses them for the rows realised."""
     keep, pc = [], []
-    for i in range(len(rows["ge"])):
+    n = len(rows["ge"])
+    keys = [(tuple(float(rows[p][i]) for p in positions), sol.qlines[int(rows["q"][i])].transistor) for i in range(n)]
+    new = [i for i, key in enumerate(keys) if key not in sol.cap_parts and key not in sol.cap_cache]
+    if new and len(options):  # the plain rows in one vectorised test, the rest one by one below
+        idx = np.asarray(new)
+        fast = capchoice.fewest_parts_many(topology, {k: v[idx] for k, v in rows.items()}, spec, options, cap_qty)
+        for i, f in zip(new, fast.tolist(), strict=True):
+            if f >= 0:
+                sol.cap_parts[keys[i]] = f
+    for i in range(n):
         stopwatch.poll()
         row = _row_dict(rows, i)
         q = sol.qlines[int(row["q"])]
-        key = (tuple(float(row[p]) for p in positions), q.transistor)
+        key = keys[i]
         if key not in sol.cap_parts:
             c = sol.cap_cache.get(key, False)
             sol.cap_parts[key] = (c.parts if c else None) if c is not False else (
@@ -255,13 +265,16 @@ def search(rstock, cstock, qlines, spec, *, top=3, depth=3, progress=None, cance
 def _screen_seeds(topology, positions, spec, models, qlines, sol, front):
     """The stocked neighbours of the ideal values (seed.py), screened first: good designs early.
     The budget loop screens them again in their turn, so the set's completeness rests on it alone."""
-    for members in models.values():
-        q = qlines[members[0]]
-        chunk = seed_tuples(topology, spec, q, sol.pool)
-        if not len(chunk[positions[0]]):
-            continue
-        _add_rows(check(topology, {p: chunk[p] for p in positions}, q, spec), members, positions, sol, front)
-    front.settle()
+    for floor in (MIN_IC_A,) + IC_LADDER_A:  # the ladder only while nothing is in hand
+        for members in models.values():
+            q = qlines[members[0]]
+            chunk = seed_tuples(topology, spec, q, sol.pool, floor)
+            if not len(chunk[positions[0]]):
+                continue
+            _add_rows(check(topology, {p: chunk[p] for p in positions}, q, spec), members, positions, sol, front)
+        front.settle()
+        if front.fewest_parts < np.inf:
+            return
 
 
 def _add_rows(rows, members, positions, sol, front):
@@ -543,8 +556,16 @@ def _greedy_fits(pool, rows, positions) -> np.ndarray:
 
 
 def _realise(positions, rows, sol):
-    """The stock-best networks for a one-row table (assign.Assignment), or None when stock rules it out."""
+    """The stock-best networks for a one-row table, or None when stock rules it out: listed and
+    scored in numpy (one_row.py), or by CP-SAT (assign.Assignment) when the combinations are many."""
     with stopwatch.watch():  # realising a handful of rows is short and must not be cut off half-way
+        if len(rows["ge"]) == 1:
+            got = realise_row(positions, _row_dict(rows, 0), sol.pool, _stock_qty(sol.pool))
+            if got is None:
+                return None
+            if got is not NotImplemented:
+                networks, score = got
+                return Choice(networks, int(rows["q"][0]), 0, score)
         a = Assignment(positions, rows, sol.pool, _stock_qty(sol.pool), sol.qlines)
         return a.solve()
 
@@ -568,10 +589,11 @@ def _stock_qty(pool) -> np.ndarray:
 
 SEARCH_SHARE = 0.3  # of the time limit, at least, for the search itself
 POST_S_PER_DESIGN = 0.3  # analysing one design shown (measured about 0.2 s on this project's 2-core machines)
-# Modules used after the search (CP-SAT to realise the designs): find_designs loads them before it
-# sets the search's deadline, so their import time (about 0.4 s, more on a loaded machine) is
-# charged to the limit as it is, not estimated.
-LAZY_IMPORTS = ("ortools.sat.python.cp_model",)
+# Modules find_designs loads before it sets the search's deadline, so their import time is charged
+# to the limit as it is.  None now: designs are realised by enumeration (one_row.py), and CP-SAT
+# (about 0.5 s to import, with pandas) loads only for a row with too many combinations, which the
+# OVERRUN_S margin covers.
+LAZY_IMPORTS = ()
 OVERRUN_S = 1.0  # no command ends more than this past its time limit
 EMPTY_RESERVE_S = 0.5  # of the limit, kept for the reasons when the search has found nothing
 HINT_RESERVE_S = 0.3
