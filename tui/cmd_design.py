@@ -17,7 +17,6 @@ import hashlib
 import json
 import math
 import sys
-import time
 from pathlib import Path
 
 from inventory.atomic import atomic_write
@@ -193,18 +192,12 @@ def run_design(args) -> int:
         say(f"warning: {prob} (line left out)")
     from optimizer.search.select import find_designs  # OR-Tools and scipy load only for a design
 
-    # The limit counts from the command's start: what was spent loading modules and the drawer
-    # comes off the search's share (at least a tenth of the limit is left to it).
     from tui.cli import STARTED
 
-    limit = opts.get("time_limit_s")
-    if limit is not None:
-        opts["time_limit_s"] = max(0.1 * limit, limit - (time.perf_counter() - STARTED))
     with _progress_bar() as progress:
+        # The limit counts from the command's start: loading modules and the drawer spend it too.
         doc = find_designs(drawer, spec, depth=spec.max_parts_per_position, hints=not args.no_hints,
-                           progress=progress, **opts)
-    if limit is not None and isinstance(doc.get("search"), dict):
-        doc["search"]["time_limit_s"] = limit
+                           progress=progress, started=STARTED, **opts)
     doc["inventory"] = str(path)
     if args.save:
         saved = dict(doc)

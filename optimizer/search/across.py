@@ -69,8 +69,9 @@ def merge(docs: dict[str, dict], prefer: str, top: int) -> list[dict]:
     return out
 
 
-def find_any(drawer, spec, *, top, time_limit_s, progress=None, cancel=None, **kw) -> dict:
-    """The result document (select.find_designs' shape) over every usable kind."""
+def find_any(drawer, spec, *, top, time_limit_s, progress=None, cancel=None, started=None, **kw) -> dict:
+    """The result document (select.find_designs' shape) over every usable kind; the time limit counts
+    from `started` (a time.perf_counter() value; default: the call)."""
     from optimizer.search.result import spec_json
     from optimizer.search.select import find_designs
 
@@ -79,7 +80,7 @@ def find_any(drawer, spec, *, top, time_limit_s, progress=None, cancel=None, **k
         return {"designs": [], "why": problems, "hints": [], "spec": spec_json(spec), "error": "spec",
                 "status": "invalid", "optimal": False, "unexplored": None}
     names, notes = usable_kinds(spec, min_yield=kw.get("min_yield"))
-    t0 = time.perf_counter()
+    t0 = time.perf_counter() if started is None else started
     limit = None if time_limit_s is None else float(time_limit_s)
     singles = [n for n in names if n in kinds.names()]
     docs: dict[str, dict] = {}

@@ -602,14 +602,15 @@ HINT_SHARE = 0.3  # of the time limit, at most, for shopping hints when nothing 
 
 def find_designs(drawer, spec, *, top=DEFAULT_TOP, depth=DEFAULT_DEPTH, min_yield=None, progress=None, cancel=None,
                  hints=True, seed=None, prefer=DEFAULT_PREFER, time_limit_s=DEFAULT_TIME_LIMIT_S,
-                 patience_s=DEFAULT_PATIENCE_S) -> dict:
+                 patience_s=DEFAULT_PATIENCE_S, started=None) -> dict:
     """The design result document (DEVELOPERS.md) for `spec` from an inventory Drawer.
 
     The document's "status" is "found" (designs non-empty), "infeasible" (proven: nothing in
     the drawer meets the spec) or "unproven" (nothing found within `time_limit_s`, not proven
     impossible); "optimal" says whether the trade-off set is proven complete.  `patience_s`
     (0 or None: off) is the settled rule: the search stops once the trade-off set has not changed
-    for that long ("search": "stopped_by": "settled"; not optimal).
+    for that long ("search": "stopped_by": "settled"; not optimal).  `started` (a time.perf_counter()
+    value; default: the call) is when the time limit started counting.
     """
     from optimizer.chain.names import is_chain
     from optimizer.search import explain, result
@@ -620,11 +621,13 @@ def find_designs(drawer, spec, *, top=DEFAULT_TOP, depth=DEFAULT_DEPTH, min_yiel
 
         return find_any(drawer, spec, top=top, time_limit_s=time_limit_s, progress=progress, cancel=cancel,
                         depth=depth, min_yield=min_yield, hints=hints, seed=seed, prefer=prefer,
-                        patience_s=patience_s)
+                        patience_s=patience_s, started=started)
 
     if is_chain(spec.topology):  # two stages designed together: optimizer/chain
         from optimizer.chain.result import find_chain_designs
 
+        if started is not None and time_limit_s is not None:
+            time_limit_s = max(0.1 * time_limit_s, time_limit_s - (time.perf_counter() - started))
         return find_chain_designs(drawer, spec, top=top, depth=depth, progress=progress, cancel=cancel, hints=hints,
                                   prefer=prefer, time_limit_s=time_limit_s, min_yield=min_yield)
 
@@ -646,7 +649,7 @@ def find_designs(drawer, spec, *, top=DEFAULT_TOP, depth=DEFAULT_DEPTH, min_yiel
     locations = {p.line: p.location for p in drawer.parts}
     mc_seed = result.MC_SEED if seed is None else int(seed)
     yields = {}
-    t0 = time.perf_counter()
+    t0 = time.perf_counter() if started is None else started
     limit = float(time_limit_s) if time_limit_s is not None else None
     for name in LAZY_IMPORTS:
         if name not in sys.modules:
