@@ -20,7 +20,7 @@ OPEN_LOAD_OHMS = 1e12  # "no load": the exact solver's stand-in (circuit.OPEN_LO
 PREFERENCES = ("balanced", "parts", "clean", "robust", "frugal")
 DEFAULT_PREFER = "balanced"
 DEFAULT_TIME_LIMIT_S = 10.0
-# The anytime search stops once its trade-off set has not changed for this long (0: run to the
+# The anytime search stops once the designs it shows have not changed for this long (0: run to the
 # proof or the time limit).  Chosen by measurement: tests/bench/settle.py, DEVELOPERS.md.
 DEFAULT_PATIENCE_S = 2.0
 DEFAULT_TOP = 5  # room for each trade-off label's design

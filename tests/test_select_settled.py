@@ -38,7 +38,7 @@ def test_a_settled_stop_says_so(settled):
     _, doc = settled
     assert doc["search"]["stopped_by"] == "settled"
     assert doc["optimal"] is False and doc["search"]["exhaustive"] is False
-    assert doc["unexplored"].startswith("settled: the trade-off set had not changed for 1e-06 s (--patience)")
+    assert doc["unexplored"].startswith("settled: the designs shown had not changed for 1e-06 s (--patience)")
     assert "resistor parts" in doc["unexplored"]  # and what was left
     assert doc["status"] == "found"  # designs in hand: exit 0, as for any stop with designs
     assert doc["search"]["patience_s"] == 1e-6

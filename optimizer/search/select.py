@@ -9,8 +9,8 @@ Search (exact for the objective in objective.py over the space in candidates.py)
     stop once the N-th best uses ≤ B + 2 + 1 parts: every unscreened tuple needs
     ≥ B + 1 resistor parts, ≥ 2 capacitors and Q1, so cannot tie or win.
 
-Anytime: the time limit, a cancel, or the settled rule (`patience`: the trade-off set has not
-changed for that many seconds of search, and no screened row waits to be folded in) end the
+Anytime: the time limit, a cancel, or the settled rule (`patience`: the designs the trade-off set
+shows have not changed for that many seconds of search, and no screened row waits to be folded in) end the
 search early with the set found so far, reported as not proven ("exhaustive" False).
 """
 
@@ -89,7 +89,7 @@ class Solution:
     stopped_by: str | None = None  # "time limit", "cancelled", "settled" or "size" when it stopped early
     unexplored: str | None = None
     front_counts: object = None  # tradeoff.counts of the whole trade-off set (n, 4)
-    last_change_s: float | None = None  # seconds into the search when the trade-off set last changed
+    last_change_s: float | None = None  # seconds into the search when the designs shown last changed
     front_trace: list = field(default_factory=list)  # (seconds, counts (n, 4)) at every change of the set
 
 
@@ -167,7 +167,8 @@ def search(rstock, cstock, qlines, spec, *, top=3, depth=3, progress=None, cance
     a design it rejects leaves the set and the set is taken again without it.
     deadline (time.perf_counter() value) and cancel (threading.Event) stop the screening; the
     designs found so far are still returned, with `exhaustive` False.  patience (seconds; None
-    or 0 = off) stops it too once the trade-off set is non-empty and has not changed for that long.
+    or 0 = off) stops it too once the trade-off set is non-empty and the designs it shows have not
+    changed for that long.
     empty_deadline (later than deadline) is when the search stops while it has no design yet: the
     time deadline keeps for analysing designs is not needed then.
     """
@@ -195,7 +196,8 @@ def search(rstock, cstock, qlines, spec, *, top=3, depth=3, progress=None, cance
         models.setdefault(q.transistor, []).append(qi)
     front = _Front(positions, sol, lambda r: _add_caps(topology, r, spec, options, cap_qty, positions, sol),
                    lambda r: _add_cap_parts(topology, r, spec, options, cap_qty, positions, sol),
-                   keep_dominated=accept is not None, spare=spare_parts, patience=patience, t0=t0)
+                   keep_dominated=accept is not None, spare=spare_parts, patience=patience, t0=t0, prefer=prefer,
+                   top=top)
     if empty_deadline is not None and deadline is not None and empty_deadline > deadline:
         front.deadline, deadline = deadline, empty_deadline  # the front enforces the earlier one once it has a design
     budget = n_min
@@ -235,7 +237,7 @@ def search(rstock, cstock, qlines, spec, *, top=3, depth=3, progress=None, cance
                           else "settled" if isinstance(exc, stopwatch.Settled) else "time limit")
         sol.unexplored = _unexplored(sol, budget, b_max, front)
         if sol.stopped_by == "settled":
-            sol.unexplored = (f"settled: the trade-off set had not changed for {patience:g} s (--patience), "
+            sol.unexplored = (f"settled: the designs shown had not changed for {patience:g} s (--patience), "
                               f"so the search stopped; left: {sol.unexplored}")
     except _Overrun:
         sol.exhaustive = False
@@ -315,7 +317,7 @@ class _Front:
     so it is dropped, which keeps memory to the front's size."""
 
     def __init__(self, positions, sol, add_caps, add_cap_parts=None, keep_dominated=False, spare=SPARE_PARTS,
-                 patience=None, t0=None):
+                 patience=None, t0=None, prefer=DEFAULT_PREFER, top=DEFAULT_TOP):
         self.positions = positions
         self.spare = spare
         self.sol = sol
@@ -332,6 +334,8 @@ class _Front:
         self.patience = patience if patience and patience > 0 else None
         self.t0 = time.perf_counter() if t0 is None else t0
         self.signature = frozenset()
+        self.shown = frozenset()
+        self.prefer, self.top = prefer, top
         self.last_change_s = None
         self.quiet_until = None
         self.busy = False
@@ -443,8 +447,14 @@ class _Front:
             return
         now = time.perf_counter()
         self.signature = sig
+        self.trace.append((now - self.t0, c))
+        # The patience runs from the last change of what a user is shown (each label's design and
+        # the best next ones, tradeoff.shown): a new member no label picks changes no answer.
+        shown = frozenset(tuple(c[i].tolist()) for i, _ in tradeoff.shown(c, self.prefer, self.top))
+        if shown == self.shown:
+            return
+        self.shown = shown
         self.last_change_s = now - self.t0
-        self.trace.append((self.last_change_s, c))
         if self.patience is not None:
             self.quiet_until = now + self.patience
 
@@ -608,7 +618,7 @@ def find_designs(drawer, spec, *, top=DEFAULT_TOP, depth=DEFAULT_DEPTH, min_yiel
     The document's "status" is "found" (designs non-empty), "infeasible" (proven: nothing in
     the drawer meets the spec) or "unproven" (nothing found within `time_limit_s`, not proven
     impossible); "optimal" says whether the trade-off set is proven complete.  `patience_s`
-    (0 or None: off) is the settled rule: the search stops once the trade-off set has not changed
+    (0 or None: off) is the settled rule: the search stops once the designs shown have not changed
     for that long ("search": "stopped_by": "settled"; not optimal).  `started` (a time.perf_counter()
     value; default: the call) is when the time limit started counting.
     """
