@@ -14,6 +14,7 @@ from optimizer.kinds import collector_feedback_bounds as feedback_boxes
 from optimizer.physics import swing as loadline
 from optimizer.search.seed import MIN_IC_A, SWING_ROOM, VBE_V
 from optimizer.kinds import blocks as b
+from optimizer.kinds import spec_limits as lim
 from optimizer.kinds.registry import Kind, hooks, register
 
 NAME = "collector-feedback"
@@ -91,6 +92,13 @@ def ideal_values(spec, hfe_min, hfe_typ, ic_floor=MIN_IC_A):
             "RB": max(s["vc"] - s["ve"] - VBE_V, 0.1) / (ic / hfe_typ)}
 
 
+def spec_bounds(sol, spec) -> dict[str, str]:
+    """The spec-level bounds that rule out every collector-feedback stage at once, in words, by name."""
+    return lim.collect(
+        gain=lim.gain_bound(spec, spec.supply_v - loadline.VCE_SAT_V - spec.swing_pp / 2, "VCC − VCE(sat) − swing/2"),
+        current=lim.current_bound(spec), rin=lim.rin_bound(sol, spec, "feedback"))
+
+
 KIND = register(Kind(
     name=NAME,
     resistors=("RB", "RC", "RE1", "RE2"),
@@ -105,5 +113,6 @@ KIND = register(Kind(
                "CE": ("the emitter resistors", "ground")},
     **hooks(globals()),
     boxes=feedback_boxes.feedback_chunks,
+    spec_bounds=spec_bounds,
     summary="gain with the bias steadied by feedback from the collector",
 ))

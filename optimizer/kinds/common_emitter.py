@@ -13,8 +13,8 @@ from inventory.values import format_capacitance, format_resistance
 from optimizer.kinds import common_emitter_bounds as ce_boxes
 from optimizer.physics import swing as loadline
 from optimizer.search.seed import MIN_IC_A, SWING_ROOM, VBE_V
-from optimizer.physics.transistor import thermal_voltage
 from optimizer.kinds import blocks as b
+from optimizer.kinds import spec_limits as lim
 from optimizer.kinds.registry import Kind, hooks, register
 
 NAME = "common-emitter"
@@ -78,17 +78,10 @@ def ideal_values(spec, hfe_min, hfe_typ, ic_floor=MIN_IC_A):
 
 def spec_bounds(sol, spec) -> dict[str, str]:
     """The spec-level bounds that rule out every common-emitter value tuple at once, in words, by name."""
-    out = {}
-    vt = float(thermal_voltage(27.0))
-    headroom = spec.supply_v - loadline.VCE_SAT_V - spec.swing_pp / 2
-    g_min = spec.gain * (1 - spec.gain_tol)
-    if headroom <= g_min * vt:
-        out["gain"] = (f"gain binds: with {spec.swing_pp:g} V p-p on {spec.supply_v:g} V no common emitter "
-                       f"reaches {g_min:.3g}: |gain| < gm·RC ≤ (VCC − VCE(sat) − swing/2)/Vt = {headroom / vt:.3g}")
-    i_need = spec.swing_pp / (2 * spec.load_ohms)
-    if spec.max_supply_a is not None and spec.max_supply_a < i_need:
-        out["current"] = (f"supply current binds: {spec.swing_pp:g} V p-p into {format_resistance(spec.load_ohms)} "
-                          f"needs IC ≥ swing/(2·RL) = {i_need * 1e3:.3g} mA (asked ≤ {spec.max_supply_a * 1e3:.3g} mA)")
+    out = lim.collect(
+        gain=lim.gain_bound(spec, spec.supply_v - loadline.VCE_SAT_V - spec.swing_pp / 2,
+                            "VCC − VCE(sat) − swing/2"),
+        current=lim.current_bound(spec))
     b = sol.bounds
     if b is not None and sol.options is not None and len(sol.options):
         c_max = float(sol.options.value.max())
@@ -98,14 +91,9 @@ def spec_bounds(sol, spec) -> dict[str, str]:
                               f"meets {spec.low_cut_hz:g} Hz only where it sees ≥ {format_resistance(r)} (corner "
                               f"1/(2π·R·C)): CIN needs RS + Rin and COUT needs RC + RL at least that, which no stage "
                               f"here reaches")
-    pool = sol.pool
-    if pool is not None and len(pool.distinct):
-        top = float(pool.distinct.value[-1])
-        if spec.rin_floor > top / 2:
-            out["rin"] = (f"input resistance binds: Rin ≤ R1‖R2, at most {format_resistance(top / 2)} from the "
-                          f"resistors on hand (largest network {format_resistance(top)}; asked ≥ "
-                          f"{format_resistance(spec.rin_floor)})")
+    out.update(lim.collect(rin=lim.rin_bound(sol, spec, "divider")))
     return out
+
 
 KIND = register(Kind(
     name=NAME,

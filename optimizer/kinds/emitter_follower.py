@@ -15,6 +15,7 @@ from optimizer.kinds import emitter_follower_bounds as follower_boxes
 from optimizer.physics import swing as loadline
 from optimizer.search.seed import MIN_IC_A, SWING_ROOM, VBE_V
 from optimizer.kinds import blocks as b
+from optimizer.kinds import spec_limits as lim
 from optimizer.kinds.registry import Kind, hooks, register
 
 NAME = "emitter-follower"
@@ -81,6 +82,11 @@ def ideal_values(spec, hfe_min, hfe_typ, ic_floor=MIN_IC_A):
     return {"R1": r1, "R2": r2, "RE": ve / ie}
 
 
+def spec_bounds(sol, spec) -> dict[str, str]:
+    """The spec-level bounds that rule out every emitter follower at once, in words, by name."""
+    return lim.collect(current=lim.current_bound(spec), rin=lim.rin_bound(sol, spec, "divider"))
+
+
 KIND = register(Kind(
     name=NAME,
     resistors=("R1", "R2", "RE"),
@@ -97,5 +103,6 @@ KIND = register(Kind(
     cap_sides={"CIN": ("the base", "the source"), "COUT": ("the emitter", "the load")},
     **hooks(globals()),
     boxes=follower_boxes.follower_chunks,
+    spec_bounds=spec_bounds,
     summary="a buffer: gain just under 1, high input and low output resistance",
 ))

@@ -22,6 +22,7 @@ from optimizer.physics import swing as loadline
 from optimizer.search.seed import MIN_IC_A, SWING_ROOM, VBE_V
 from optimizer.physics.transistor import thermal_voltage
 from optimizer.kinds import blocks as b
+from optimizer.kinds import spec_limits as lim
 from optimizer.kinds.registry import Kind, hooks, register
 from optimizer.kinds.split_bounds import split_ce_chunks
 
@@ -124,6 +125,15 @@ def ideal_values(spec, hfe_min, hfe_typ, ic_floor=MIN_IC_A):
     return {"RB": rb, "RC": room / ic, "RE1": re1, "RE2": re - re1}
 
 
+def spec_bounds(sol, spec) -> dict[str, str]:
+    """The spec-level bounds that rule out every split-supply common emitter at once, in words, by name.
+    The emitter sits no lower than the negative rail, so the collector's room is at most the span less
+    VCE(sat) and half the swing."""
+    return lim.collect(
+        gain=lim.gain_bound(spec, spec.span_v - loadline.VCE_SAT_V - spec.swing_pp / 2, "VCC − VEE − VCE(sat) − swing/2"),
+        current=lim.current_bound(spec), rin=lim.rin_bound(sol, spec, "ground"))
+
+
 KIND = register(Kind(
     name=NAME,
     resistors=("RB", "RC", "RE1", "RE2"),
@@ -138,6 +148,7 @@ KIND = register(Kind(
                "CE": ("the emitter resistors", "ground")},
     **hooks(globals()),
     boxes=split_ce_chunks,
+    spec_bounds=spec_bounds,
     summary="gain on split supplies: base returned to ground, emitter to the negative rail",
     rails=2,
 ))

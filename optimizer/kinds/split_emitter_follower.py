@@ -17,6 +17,7 @@ import numpy as np
 from optimizer.physics import swing as loadline
 from optimizer.search.seed import MIN_IC_A, SWING_ROOM, VBE_V
 from optimizer.kinds import blocks as b
+from optimizer.kinds import spec_limits as lim
 from optimizer.kinds.registry import Kind, hooks, register
 from optimizer.kinds.split_bounds import split_follower_chunks
 from optimizer.kinds.split_common_emitter import base_return, held_base
@@ -86,6 +87,11 @@ def ideal_values(spec, hfe_min, hfe_typ, ic_floor=MIN_IC_A):
     return {"RB": max(0.1 * hfe_min * re, 2.0 * spec.rin_floor), "RE": re}
 
 
+def spec_bounds(sol, spec) -> dict[str, str]:
+    """The spec-level bounds that rule out every split-supply follower at once, in words, by name."""
+    return lim.collect(current=lim.current_bound(spec), rin=lim.rin_bound(sol, spec, "ground"))
+
+
 KIND = register(Kind(
     name=NAME,
     resistors=("RB", "RE"),
@@ -102,6 +108,7 @@ KIND = register(Kind(
     cap_sides={"CIN": ("the base", "the source"), "COUT": ("the emitter", "the load")},
     **hooks(globals()),
     boxes=split_follower_chunks,
+    spec_bounds=spec_bounds,
     summary="a buffer on split supplies: output resting near ground, gain just under 1",
     rails=2,
 ))

@@ -12,6 +12,7 @@ from inventory.values import format_capacitance, format_resistance, format_si
 
 from optimizer.parts import capchoice
 from optimizer import kinds
+from optimizer.kinds import spec_limits
 from optimizer.physics.analysis import analyze
 from optimizer.physics.stage import Stage
 
@@ -35,7 +36,7 @@ def reasons(sol, spec) -> list[str]:
             f"no combination of the resistors on hand passes the first checks for "
             f"{'an' if spec.topology[0] in 'aeiou' else 'a'} {spec.topology} "
             f"with Rin ≥ {rin_text(spec)}, gain {spec.gain:g} and {spec.swing_pp:g} V p-p on "
-            f"{spec.supply_v:g} V (the bias, gain, swing and headroom bounds rule every one out)"])
+            f"{spec_limits.supply_text(spec)} (the bias, gain, swing and headroom bounds rule every one out)"])
     b = near.best
     if "gain_low" in b:
         out.append(f"gain binds: meeting everything else, the highest gain reachable at every corner is "
@@ -75,9 +76,10 @@ def reasons(sol, spec) -> list[str]:
 def no_purchase_helps(sol, spec, hint_max_ohms: float) -> str | None:
     """A note when a spec-level bound no bought part can move rules the spec out (hints are skipped).
 
-    Gain against the supply and the current a swing needs are physics; Rin ≤ R1‖R2 ≤ half the largest
-    network, which a bought resistor of at most hint_max_ohms can raise only to 3 × the larger of it and
-    the largest part on hand (three in series).
+    Gain against the supply and the current a swing needs are physics; Rin is capped by the bias network
+    (spec_limits.rin_ceiling: R1‖R2 ≤ half the largest network, RB, or RB/(1 + |gain|)), which a bought
+    resistor of at most hint_max_ohms can raise only to 3 × the larger of it and the largest part on hand
+    (three in series).
     """
     if sol.near.screened or sol.why or kinds.get(spec.topology).spec_bounds is None:
         return None
@@ -86,9 +88,11 @@ def no_purchase_helps(sol, spec, hint_max_ohms: float) -> str | None:
     stock = sol.pool.stock if sol.pool is not None else None
     if stock is not None and len(stock.ohms):
         reach = 3 * max(float(max(stock.ohms)), hint_max_ohms)
-        if spec.rin_floor > reach / 2:
-            return (f"no resistor bought would help: even three of the largest in series give R1‖R2 ≤ "
-                    f"{format_resistance(reach / 2)}")
+        bias = kinds.get(spec.topology).bias
+        most = spec_limits.rin_ceiling(bias, reach, spec)
+        if spec.rin_floor > most:
+            return (f"no resistor bought would help: even three of the largest in series give "
+                    f"{spec_limits.RIN_WORDS[bias]} ≤ {format_resistance(most)}")
     return None
 
 

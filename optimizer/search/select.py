@@ -206,8 +206,12 @@ def search(rstock, cstock, qlines, spec, *, top=3, depth=3, progress=None, cance
             # Pools grow with the budget (a deep table on a large drawer takes seconds); a value's
             # fewest parts are the same in every pool that holds it, so rows keep their meaning.
             sol.pool = Pool(rstock, min(depth, 2))
-            _screen_seeds(topology, positions, spec, models, qlines, sol, front)
+            ruled_out = _ruled_out(topology, sol, spec, depth)
+            if not ruled_out:
+                _screen_seeds(topology, positions, spec, models, qlines, sol, front)
             for budget in range(n_min, b_max + 1):
+                if ruled_out:
+                    break  # proven at the spec level: every tuple of every budget breaks the same bound
                 if budget + min_caps(spec) + 1 > front.fewest_parts + spare_parts:
                     break  # every design left needs more parts than the set spans
                 sol.budget = budget
@@ -262,6 +266,20 @@ def search(rstock, cstock, qlines, spec, *, top=3, depth=3, progress=None, cance
     if not sol.designs:
         sol.stock_bound = front.stock_bound
     return sol
+
+
+# Spec-level bounds (Kind.spec_bounds) that are proofs: physics (gain against the supply, the current a
+# swing needs) and Rin against the largest network the pool makes (a proof only when the pool is as deep
+# as the search may go).
+PROOF_BOUNDS = ("gain", "current")
+
+
+def _ruled_out(topology, sol, spec, depth) -> bool:
+    hook = kinds.get(topology).spec_bounds
+    if hook is None:
+        return False
+    binding = set(hook(sol, spec))
+    return bool(binding & set(PROOF_BOUNDS)) or ("rin" in binding and sol.pool.depth >= depth)
 
 
 def _screen_seeds(topology, positions, spec, models, qlines, sol, front):
