@@ -33,11 +33,7 @@ def render(doc: dict, pick: int, fmt: str, source: str) -> str:
     """The text of one format (the app calls this too)."""
     from .export import bench_cir, content, html_sheet, md_sheet, pick_csv, schematic_svg
 
-    if (doc["designs"][pick - 1] or {}).get("stages"):  # a two-stage chain
-        from .export import chain_files
-
-        return chain_files.render(doc, pick, fmt, source)
-    sheet = content.build_sheet(doc, pick, source)
+    sheet = content.build_sheet(doc, pick, source)  # one stage or a two-stage chain: every format covers both
     if fmt == "html":
         return html_sheet.render(sheet)
     if fmt == "svg":
