@@ -4,8 +4,8 @@
 
 html: the whole sheet, one self-contained file for A4 or Letter (1–2 pages); svg: the
 schematic alone; md: the sheet as Markdown; csv: the pick list; cir: the design's SPICE
-netlist with a source, a load and analyses, runnable with `ngspice -b`.  Without -o the
-output goes to stdout.  Exit codes: 0 written, 2 bad input (file, --pick, -o).
+netlist with a source, a load and analyses, runnable with `ngspice -b`.  A two-stage chain's
+files cover both stages (html up to 3 pages).  Without -o the output goes to stdout.  Exit codes: 0 written, 2 bad input (file, --pick, -o).
 """
 
 from __future__ import annotations
