@@ -4,8 +4,8 @@
 
 html: the whole sheet, one self-contained file for A4 or Letter (1–2 pages); svg: the
 schematic alone; md: the sheet as Markdown; csv: the pick list; cir: the design's SPICE
-netlist with a source, a load and analyses, runnable with `ngspice -b`.  Without -o the
-output goes to stdout.  Exit codes: 0 written, 2 bad input (file, --pick, -o).
+netlist with a source, a load and analyses, runnable with `ngspice -b`.  A two-stage chain's
+files cover both stages (html up to 3 pages).  Without -o the output goes to stdout.  Exit codes: 0 written, 2 bad input (file, --pick, -o).
 """
 
 from __future__ import annotations
@@ -33,11 +33,7 @@ def render(doc: dict, pick: int, fmt: str, source: str) -> str:
     """The text of one format (the app calls this too)."""
     from .export import bench_cir, content, html_sheet, md_sheet, pick_csv, schematic_svg
 
-    if (doc["designs"][pick - 1] or {}).get("stages"):  # a two-stage chain
-        from .export import chain_files
-
-        return chain_files.render(doc, pick, fmt, source)
-    sheet = content.build_sheet(doc, pick, source)
+    sheet = content.build_sheet(doc, pick, source)  # one stage or a two-stage chain: every format covers both
     if fmt == "html":
         return html_sheet.render(sheet)
     if fmt == "svg":

@@ -81,13 +81,17 @@ def _label(name: str, value: str | None) -> tuple[str, bool]:
 
 def draw_stage(design: dict, *, supply_v: float | None = None, source_ohms: float | None = None,
                load_ohms: float | None = None, polarised: frozenset[str] = frozenset(),
-               negative_supply_v: float | None = None) -> str:
+               negative_supply_v: float | None = None, names: dict | None = None, q_name: str = "Q1",
+               in_label: str = "in", out_label: str = "out", open_output: bool = False) -> str:
     """The stage of one design (the JSON shape) as lines of box-drawing text.
 
     `polarised` names the capacitor positions filled with electrolytic/tantalum
     parts; their '+' plate is drawn toward the transistor, where the DC voltage is.
     A PNP stage (Q1's "polarity") is the same drawing with the rails swapped: 0 V on
     top (R1, RC, the load), +V below (R2, the emitter chain, CE with its + toward +V).
+    A chain's stage (tui/schematic_chain.py) labels its positions by `names` (position → the name on
+    the sheet, R1 → R1_B), its transistor `q_name` and its terminals `in_label`, `out_label`;
+    `open_output` draws the output as a bare node (no COUT, no load): the first stage of a chain.
     """
     topology = design.get("topology", "common-emitter")
     parts = design.get("parts", {})
@@ -97,10 +101,13 @@ def draw_stage(design: dict, *, supply_v: float | None = None, source_ohms: floa
     split = kind.rails == 2  # the emitter returns to a negative rail drawn under ground
     c = Canvas(78, GROUND_Y + (3 if split else 1))
 
+    names = names or {}
+
     def label(pos: str) -> str:
-        text, long = _label(pos, values.get(pos))
+        shown = names.get(pos, pos)
+        text, long = _label(shown, values.get(pos))
         if long:
-            legend.append(f"  * {pos} = {values[pos]}")
+            legend.append(f"  * {shown} = {values[pos]}")
         return text
 
     rail = f"+{supply_v:g} V " if supply_v is not None else "+V "
@@ -125,7 +132,7 @@ def draw_stage(design: dict, *, supply_v: float | None = None, source_ohms: floa
     c.put(X_BAR, BASE_Y - 1, "│╱")
     c.put(X_BAR, BASE_Y, "┤")
     c.put(X_BAR, BASE_Y + 1, "│↖" if pnp else "│↘")
-    name = "Q1 " + str(q1.get("part", "")) if q1.get("part") else "Q1"
+    name = f"{q_name} " + str(q1.get("part", "")) if q1.get("part") else q_name
     c.put(X_C + 2, BASE_Y - 1, "C")
     c.put(X_BAR + 3, BASE_Y, name + (f" (line {q1['line']})" if "line" in q1 else ""))
     c.put(X_C + 2, BASE_Y + 1, "E")
@@ -155,7 +162,7 @@ def draw_stage(design: dict, *, supply_v: float | None = None, source_ohms: floa
     c.hline(X_DIV + 1, X_BAR - 1, BASE_Y)
 
     # Input: source, CIN, to the base node.
-    c.put(0, BASE_Y, "in ○─")
+    c.put(0, BASE_Y, f"{in_label[:2]:<3}○─")
     c.hline(5, X_DIV - 1, BASE_Y)
     if "CIN" in parts or not split:
         cin = "+┤├" if "CIN" in polarised else "┤├"
@@ -212,6 +219,10 @@ def draw_stage(design: dict, *, supply_v: float | None = None, source_ohms: floa
 
     # Output: COUT to the load.
     c.hline(X_C + 1, X_LOAD - 1, out_y)
+    if open_output:  # a chain's first stage: its output node goes on to the next stage
+        c.put(X_LOAD, out_y, f"──○ {out_label}")
+        drawing = c.text()
+        return drawing + ("\n" + "\n".join(legend) if legend else "")
     # An output resting below ground (split supplies) has COUT's + lead toward the load.
     v_out = (design.get("predicted") or {}).get(kind.output_key)
     below = isinstance(v_out, (int, float)) and v_out < 0
@@ -219,12 +230,12 @@ def draw_stage(design: dict, *, supply_v: float | None = None, source_ohms: floa
     c.put(X_COUT - 2, out_y - 1, label("COUT"))
     load = f"load {figures.ohms(load_ohms)}" if load_ohms is not None else "load"
     if pnp:  # the load goes up to the 0 V rail on top
-        c.put(X_LOAD, out_y, "┴─○ out")
+        c.put(X_LOAD, out_y, f"┴─○ {out_label}")
         c.resistor(X_LOAD, out_y - 3, load)
         c.vline(X_LOAD, 1, out_y - 4)
         c.put(X_LOAD, 0, "┐")
     else:
-        c.put(X_LOAD, out_y, "┬─○ out")
+        c.put(X_LOAD, out_y, f"┬─○ {out_label}")
         c.resistor(X_LOAD, out_y + 1, load)
         c.vline(X_LOAD, out_y + 4, GROUND_Y - 1)
         c.put(X_LOAD, GROUND_Y, "┘")

@@ -1,39 +1,43 @@
 """The text drawing of a two-stage chain: each stage drawn as one stage (tui/schematic.py), one
-above the other, the first stage's output capacitor slot holding the interstage CIN_B.  Text only."""
+above the other, with the names of the chain's sheet (R1_B …, Q2, CIN_B): stage 1's output is the
+node x, which stage 2 takes through CIN_B.  Text only."""
 
 from __future__ import annotations
 
 from .schematic import draw_stage
 
 
+def own_name(pos: str) -> str:
+    """A chain position's name within its stage: "R1_B" → "R1", "Q2" → "Q1"."""
+    return "Q1" if pos == "Q2" else (pos[:-2] if pos.endswith("_B") else pos)
+
+
 def stage_designs(design: dict) -> list[dict]:
-    """Each stage of a chain design as a one-stage design (positions without the suffix)."""
+    """Each stage of a chain design as a one-stage design (positions without the suffix), with
+    "names": each own position → its name on the chain's sheet."""
     parts = design.get("parts", {})
-    stages = design.get("stages") or []
     out = []
-    for k, stage in enumerate(stages):
-        sub = {}
+    for stage in design.get("stages") or []:
+        sub, names = {}, {}
         for pos in stage.get("positions") or []:
-            if pos not in parts:
-                continue
-            own = "Q1" if pos == "Q2" else (pos[:-2] if pos.endswith("_B") else pos)
-            sub[own] = parts[pos]
-        if k == 0 and "CIN_B" in parts:
-            sub["COUT"] = parts["CIN_B"]  # drawn where the first stage's output capacitor would be
-        out.append({"topology": stage.get("kind", "common-emitter"), "parts": sub})
+            if pos in parts:
+                sub[own_name(pos)] = parts[pos]
+                names[own_name(pos)] = pos
+        out.append({"topology": stage.get("kind", "common-emitter"), "parts": sub, "names": names,
+                    "predicted": stage.get("predicted") or {}})
     return out
 
 
 def draw_chain(design: dict, *, supply_v=None, source_ohms=None, load_ohms=None, polarised=frozenset()) -> str:
-    """Both stages of a chain design as text; stage 2's positions carry the suffix _B in the parts list."""
+    """Both stages of a chain design as text, labelled with the chain's position names."""
     one, two = stage_designs(design)
-    first = draw_stage(one, supply_v=supply_v, source_ohms=source_ohms, load_ohms=None,
-                       polarised=frozenset(p for p in polarised if not p.endswith("_B")) | (
-                           {"COUT"} if "CIN_B" in polarised else set()))
-    first = first.replace("COUT", "CIN_B").replace("○ out", "○ x").replace("load", "to stage 2")
-    second = draw_stage(two, supply_v=supply_v, source_ohms=None, load_ohms=load_ohms,
-                        polarised=frozenset(p[:-2] for p in polarised if p.endswith("_B")) - {"CIN"})
-    second = second.replace("in ○", "x  ○")
-    return ("Stage 1 (" + one["topology"] + "); its output x feeds stage 2 through CIN_B\n" + first
-            + "\n\nStage 2 (" + two["topology"] + "); every position here carries _B in the parts list, Q1 is Q2, "
-            "its input is x\n" + second)
+    drawings = []
+    for k, stage in enumerate((one, two)):
+        own_polarised = frozenset(own for own, pos in stage["names"].items() if pos in polarised)
+        drawings.append(draw_stage(stage, supply_v=supply_v, source_ohms=source_ohms if k == 0 else None,
+                                   load_ohms=load_ohms if k == 1 else None, polarised=own_polarised,
+                                   names=stage["names"], q_name="Q1" if k == 0 else "Q2",
+                                   in_label="in" if k == 0 else "x", out_label="x" if k == 0 else "out",
+                                   open_output=k == 0))
+    return ("Stage 1 (" + one["topology"] + "); its output x feeds stage 2 through CIN_B\n" + drawings[0]
+            + "\n\nStage 2 (" + two["topology"] + "); its positions end in _B, its input is x\n" + drawings[1])

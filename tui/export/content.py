@@ -19,6 +19,8 @@ from optimizer.physics.meter import meter_checks
 from optimizer.physics.stage import Stage
 
 ORDER = ("R1", "R2", "RB", "RC", "RE", "RE1", "RE2", "CIN", "COUT", "CE", "Q1")
+# A chain's second stage: its positions with the suffix _B (CIN_B the interstage capacitor), Q2.
+ORDER = ORDER + tuple(p + "_B" for p in ORDER[:-1]) + ("Q2",)
 SAFETY = (
     "Build with the supply off; set the bench supply's current limit low for the first power-up.",
     "Read the meter checks before connecting a source or a load.",
@@ -51,11 +53,21 @@ class Sheet:
     networks: dict  # position → network node with Part leaves (series/parallel dicts)
     positive: dict  # capacitor position → circuit node of its + lead
     picks: list  # pick-list rows
-    meters: list  # optimizer.physics.meter.meter_checks rows
+    meters: list  # optimizer.physics.meter.meter_checks rows (a chain's: optimizer.chain.meter, per transistor)
+    chain: object = None  # a two-stage chain's optimizer.chain.circuit.Chain (then `stage` is its first stage)
+    views: tuple = ()  # a chain's stages as drawable one-stage sheets (chain_content.StageView)
+    q_name: str = "Q1"  # the drawing's transistor label
+    in_label: str = "in"  # the drawing's input and output terminals
+    out_label: str = "out"
+
+    @property
+    def what(self) -> str:
+        """"common-emitter stage", "common-emitter+emitter-follower chain"."""
+        return f"{self.design['topology']} " + ("chain" if self.chain is not None else "stage")
 
     @property
     def title(self) -> str:
-        return f"{self.design['topology']} stage, design {self.pick} of {self.source}"
+        return f"{self.what}, design {self.pick} of {self.source}"
 
     def positions(self) -> list[str]:
         return [p for p in ORDER if p in self.design["parts"]] + sorted(
@@ -134,7 +146,7 @@ def pick_list(design: dict, networks: dict) -> list[dict]:
         walk(node, pos, kind)
     for pos, part in design["parts"].items():
         if pos.startswith("Q"):
-            hfe = design.get("hfe") or {}
+            hfe = design.get("hfe_b" if pos == "Q2" else "hfe") or {}  # a chain's Q2 has its own line's spread
             what = f"transistor {part.get('part', '?')}"
             value = f"hFE {hfe['min']:g}–{hfe['max']:g}" if hfe.get("min") and hfe.get("max") else ""
             add(int(part["line"]), what, value, pos)
@@ -148,9 +160,10 @@ def pick_list(design: dict, networks: dict) -> list[dict]:
 def build_sheet(doc: dict, pick: int, source: str) -> Sheet:
     design = doc["designs"][pick - 1]
     spec = doc.get("spec") or {}
-    if design.get("stages"):
-        raise SheetInputError(f"{source}: design {pick} is a two-stage chain; only its csv and cir "
-                              "files are written so far (`drawerfit design` without --json prints its build sheet)")
+    if design.get("stages"):  # a two-stage chain
+        from .chain_content import build_chain_sheet
+
+        return build_chain_sheet(design, spec, pick, source)
     try:
         stage = stage_of_design(design, spec)
         networks = {}

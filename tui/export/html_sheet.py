@@ -13,8 +13,9 @@ from html import escape
 from inventory.values import format_si
 
 from . import plots
+from .chain_content import hfe_text, stage_rows
 from .content import SAFETY, Sheet, figures, spec_line, yield_text
-from .schematic_svg import schematic_svg
+from .schematic_svg import schematic_svg, stage_svgs
 
 CSS = """
 @page { margin: 12mm; }
@@ -26,6 +27,8 @@ header h1 { font-size: 14pt; margin: 0; letter-spacing: 0.02em; }
 header p { margin: 0.5mm 0 0; color: #4a5563; }
 h2 { font-size: 10.5pt; margin: 3mm 0 1.5mm; color: #1d3557; border-bottom: 0.3mm solid #c8553d; }
 .schematic svg { display: block; width: 100%; height: auto; max-height: 120mm; }
+.chain .schematic svg { max-height: 100mm; }
+.schematic h3 { font-size: 9.5pt; margin: 2mm 0 1mm; color: #4a5563; }
 table { border-collapse: collapse; width: 100%; }
 th, td { text-align: left; padding: 0.6mm 1.5mm; border-bottom: 0.2mm solid #d5dae1; vertical-align: top; }
 th { font-weight: 600; background: #eef1f5; }
@@ -38,6 +41,8 @@ ul { margin: 0; padding-left: 4.5mm; }
 li { margin: 0.4mm 0; }
 .warn li { color: #8a2c14; }
 section { break-inside: avoid; }
+.chain section.long { break-inside: auto; }
+tr { break-inside: avoid; }
 """
 
 
@@ -56,12 +61,44 @@ def _inline_svg(svg: str) -> str:
     return re.sub(r'<svg([^>]*?)\s(width|height)="[^"]*"([^>]*?)\s(width|height)="[^"]*"', r"<svg\1\3", svg, count=1)
 
 
+def point_text(m: dict) -> str:
+    """"VB (base)", a chain's "Q2 VB (base2)" (the netlist's node)."""
+    q = f"{m['transistor']} " if m.get("transistor") else ""
+    return f"{q}{m['point']} ({m['node']})"
+
+
 def meter_rows(sheet: Sheet) -> list[list[str]]:
     rows = []
     for m in sheet.meters:
-        rows.append([f"{m['point']} ({escape(m['node'])})", f"{m['typical']:.2f} V",
+        rows.append([escape(point_text(m)), f"{m['typical']:.2f} V",
                      f"{m['low']:.2f} V … {m['high']:.2f} V", '<span class="tick"></span>'])
     return rows
+
+
+def _schematic(sheet: Sheet) -> list[str]:
+    if sheet.chain is None:
+        return ["<section><h2>Schematic</h2><div class=\"schematic\">" + _inline_svg(schematic_svg(sheet)) + "</div>",
+                '<p class="note">Part names match the pick list and the SPICE netlist; R1_2 is the second part of '
+                "R1's network. + marks the positive lead of a polarised capacitor.</p></section>"]
+    out = ["<section><h2>Schematic</h2><div class=\"schematic cols\">"]
+    for view, svg in zip(sheet.views, stage_svgs(sheet), strict=True):
+        what = (f"Stage 1, {view.design['topology']}: its output x feeds stage 2 through CIN_B" if view.index == 0 else
+                f"Stage 2, {view.design['topology']}: its input is x; its positions end in _B")
+        out.append(f"<div><h3>{escape(what)}</h3>" + _inline_svg(svg) + "</div>")
+    out.append('</div><p class="note">Join the two drawings at x. Both stages share the supply and 0 V. Part names '
+               "match the pick list and the SPICE netlist; R1_B_2 is the second part of R1_B's network. + marks the "
+               "positive lead of a polarised capacitor.</p></section>")
+    return out
+
+
+def _stages(sheet: Sheet) -> list[str]:
+    if sheet.chain is None:
+        return []
+    return ["<section><h2>Stages</h2>",
+            _table(["stage", "kind", "gain", "Rin", "Rout", "IC", "clip-free swing", "positions"],
+                   [[escape(c) for c in r] for r in stage_rows(sheet)], numeric=(2, 3, 4, 5, 6)),
+            '<p class="note">At typical hFE. Each stage\'s gain is as the chain sees it (stage 1 from the source\'s '
+            "EMF to x, stage 2 from x to the load); their product is the chain's gain.</p></section>"]
 
 
 def render(sheet: Sheet) -> str:
@@ -71,49 +108,75 @@ def render(sheet: Sheet) -> str:
         "<!DOCTYPE html>",
         '<html lang="en"><head><meta charset="utf-8">',
         f"<title>drawerfit build sheet: {escape(sheet.title)}</title>",
-        f"<style>{CSS}</style></head><body><div class=\"sheet\">",
-        "<header><h1>Build sheet: " + escape(d["topology"]) + " stage</h1>",
+        f"<style>{CSS}</style></head><body><div class=\"sheet{' chain' if sheet.chain is not None else ''}\">",
+        "<header><h1>Build sheet: " + escape(sheet.what) + "</h1>",
         f"<p>design {sheet.pick} of {escape(sheet.source)} · for {escape(spec_line(spec))}</p></header>",
-        "<section><h2>Schematic</h2><div class=\"schematic\">" + _inline_svg(schematic_svg(sheet)) + "</div>",
-        '<p class="note">Part names match the pick list and the SPICE netlist; R1_2 is the second part of '
-        "R1's network. + marks the positive lead of a polarised capacitor.</p></section>",
-        "<section><h2>Pick list (by drawer location)</h2>",
+        *_schematic(sheet),
+        *_stages(sheet),
+        '<section class="long"><h2>Pick list (by drawer location)</h2>',
         _table(["location", "line", "part", "value", "qty", "for", "taken"],
                [[escape(r["location"] or "–"), str(r["line"]), escape(r["part"]), escape(r["value"]), str(r["qty"]),
                  escape(r["positions"]), '<span class="tick"></span>'] for r in sheet.picks], numeric=(1, 4)),
         "</section>",
         "<section><h2>Meter checks</h2>",
-        '<p class="note">DC volts to ground, supply on, no signal. The range covers the transistor line\'s hFE '
-        f"({_hfe(d)}) and {_temps(spec)} with nominal part values.</p>",
+        f'<p class="note">DC volts to ground, supply on, no signal. {escape(meter_note(sheet))}</p>',
         _table(["test point", "expect", "range", "read"], meter_rows(sheet)),
         "</section>",
-        "<section><h2>Predicted figures</h2>",
-        _table(["figure", "at hFE min", "typical", "at hFE max"], [[escape(c) for c in r] for r in figures(sheet)],
-               numeric=(1, 2, 3)),
-        f'<p class="note">Monte Carlo yield (part tolerances, hFE, VBE spread, temperature): {yield_text(d)}.</p>',
+        "<section><h2>Predicted figures" + (" of the whole chain" if sheet.chain is not None else "") + "</h2>",
+        _table(figure_head(sheet), [[escape(c) for c in r] for r in figures(sheet)], numeric=(1, 2, 3)),
+        f'<p class="note">{escape(yield_note(sheet))}</p>',
         "</section>",
     ]
     resp = plots.response_svg(d, spec.get("low_cut_hz"))
     hist = plots.histogram_svg(d, spec)
-    if resp or hist:
-        parts.append('<section><h2>Response and spread</h2><div class="cols">')
-        if resp:
-            parts.append('<div class="plot">' + resp + "<p>Gain from the source's EMF to the load.</p></div>")
+    warnings = list(d.get("warnings") or [])
+    tail = []
+    if warnings:
+        tail.append('<section><h2>Warnings</h2><ul class="warn">' +
+                    "".join(f"<li>{escape(w)}</li>" for w in warnings) + "</ul></section>")
+    tail.append("<section><h2>Safety</h2><ul>" + "".join(f"<li>{escape(c)}</li>" for c in cautions(sheet)) +
+                "</ul></section>")
+    resp_div = ('<div class="plot">' + resp + "<p>Gain from the source's EMF to the load.</p></div>") if resp else ""
+    if resp and not hist:  # a chain (no Monte Carlo yet): the warnings and cautions beside the response
+        parts.append('<div class="cols"><section><h2>Response</h2>' + resp_div + "</section><div>" + "".join(tail) +
+                     "</div></div>")
+        tail = []
+    elif resp or hist:
+        parts.append('<section><h2>Response and spread</h2><div class="cols">' + resp_div)
         if hist:
             mc = d.get("mc") or {}
             parts.append('<div class="plot">' + hist + f"<p>Gain of {len(mc.get('gain', []))} of the "
                          f"{mc.get('n', '?')} builds the yield counts; each build draws every part within its "
                          "tolerance, hFE, VBE and the temperature.</p></div>")
         parts.append("</div></section>")
-    warnings = list(d.get("warnings") or [])
-    if warnings:
-        parts.append('<section><h2>Warnings</h2><ul class="warn">' +
-                     "".join(f"<li>{escape(w)}</li>" for w in warnings) + "</ul></section>")
-    parts.append("<section><h2>Safety</h2><ul>" + "".join(f"<li>{escape(c)}</li>" for c in cautions(sheet)) +
-                 "</ul></section>")
+    parts += tail
     parts.append('<p class="note">Made by drawerfit. A design aid, not a substitute for your own checks.</p>')
     parts.append("</div></body></html>")
     return "\n".join(parts) + "\n"
+
+
+def meter_note(sheet: Sheet) -> str:
+    """What the meter ranges span."""
+    if sheet.chain is not None:
+        return (f"The range covers each transistor line's hFE ({hfe_text(sheet.design)}, each end of one with each "
+                f"end of the other) and {_temps(sheet.spec)} with nominal part values; the node names are the "
+                "SPICE netlist's (1: stage 1, 2: stage 2).")
+    return (f"The range covers the transistor line's hFE ({_hfe(sheet.design)}) and {_temps(sheet.spec)} "
+            "with nominal part values.")
+
+
+def figure_head(sheet: Sheet) -> list[str]:
+    if sheet.chain is not None:
+        return ["figure", "both at hFE min", "typical", "both at hFE max"]
+    return ["figure", "at hFE min", "typical", "at hFE max"]
+
+
+def yield_note(sheet: Sheet) -> str:
+    if sheet.chain is not None:
+        return ("Gain from the source's EMF to the load, Rin at the chain's input, Rout and the swing at the load, "
+                "THD of the whole chain; IC is Q1's. A chain has no Monte Carlo yield yet; every figure was checked "
+                "at each transistor's hFE ends and the temperature range.")
+    return f"Monte Carlo yield (part tolerances, hFE, VBE spread, temperature): {yield_text(sheet.design)}."
 
 
 def cautions(sheet: Sheet) -> list[str]:

@@ -3,8 +3,9 @@ the SPICE netlist in a code block)."""
 
 from __future__ import annotations
 
-from .content import Sheet, figures, spec_line, value_text, yield_text
-from .html_sheet import cautions
+from .chain_content import stage_rows
+from .content import Sheet, figures, spec_line, value_text
+from .html_sheet import cautions, figure_head, meter_note, point_text, yield_note
 
 
 def _cell(text) -> str:
@@ -28,8 +29,14 @@ def network_text(node: dict) -> str:
 
 def render(sheet: Sheet) -> str:
     d = sheet.design
-    out = [f"# Build sheet: {d['topology']} stage", "", f"Design {sheet.pick} of `{sheet.source}`, "
-           f"for {spec_line(sheet.spec)}.", "", "## Positions", ""]
+    out = [f"# Build sheet: {sheet.what}", "", f"Design {sheet.pick} of `{sheet.source}`, "
+           f"for {spec_line(sheet.spec)}.", ""]
+    if sheet.chain is not None:
+        out += ["## Stages", "", "At typical hFE. Stage 1's output x feeds stage 2 through CIN_B; stage 2's positions "
+                "end in _B. Each stage's gain is as the chain sees it (their product is the chain's gain).", ""]
+        out += _table(["stage", "kind", "gain", "Rin", "Rout", "IC", "clip-free swing", "positions"], stage_rows(sheet))
+        out += ["", "## Schematic", "", "```text", _text_drawing(sheet), "```", ""]
+    out += ["## Positions", ""]
     rows = []
     for pos in sheet.positions():
         part = d["parts"][pos]
@@ -41,17 +48,25 @@ def render(sheet: Sheet) -> str:
     out += _table(["location", "line", "part", "value", "qty", "for", "taken"],
                   [[r["location"] or "–", r["line"], r["part"], r["value"], r["qty"], r["positions"], "[ ]"]
                    for r in sheet.picks])
-    out += ["", "## Meter checks", "", "DC volts to ground, supply on, no signal; the range covers hFE and "
-            "temperature with nominal parts.", ""]
+    out += ["", "## Meter checks", "", f"DC volts to ground, supply on, no signal. {meter_note(sheet)}", ""]
     out += _table(["test point", "expect", "range", "read"],
-                  [[f"{m['point']} ({m['node']})", f"{m['typical']:.2f} V", f"{m['low']:.2f} V … {m['high']:.2f} V",
+                  [[point_text(m), f"{m['typical']:.2f} V", f"{m['low']:.2f} V … {m['high']:.2f} V",
                     "[ ]"] for m in sheet.meters])
-    out += ["", "## Predicted figures", ""]
-    out += _table(["figure", "at hFE min", "typical", "at hFE max"], figures(sheet))
-    out += ["", f"Monte Carlo yield (part tolerances, hFE, VBE spread, temperature): {yield_text(d)}."]
+    out += ["", "## Predicted figures" + (" of the whole chain" if sheet.chain is not None else ""), ""]
+    out += _table(figure_head(sheet), figures(sheet))
+    out += ["", yield_note(sheet)]
     if d.get("warnings"):
         out += ["", "## Warnings", ""] + [f"- {w}" for w in d["warnings"]]
     out += ["", "## Safety", ""] + [f"- {c}" for c in cautions(sheet)]
-    out += ["", "## SPICE netlist", "", "The stage's own parts and supply; add a source, a load and analyses to "
+    out += ["", "## SPICE netlist", "", f"The {'chain' if sheet.chain is not None else 'stage'}'s own parts and supply; add a source, a load and analyses to "
             "simulate it (see drawerfit's README).", "", "```spice", sheet.netlist.rstrip(), "```", ""]
     return "\n".join(out)
+
+
+def _text_drawing(sheet: Sheet) -> str:
+    """A chain's two stages as text (tui/schematic_chain.py, the app's drawing)."""
+    from ..schematic_chain import draw_chain
+
+    polarised = frozenset(p for p, part in sheet.design["parts"].items() if part.get("polarised"))
+    return draw_chain(sheet.design, supply_v=sheet.spec.get("supply_v"), source_ohms=sheet.spec.get("source_ohms"),
+                      load_ohms=sheet.spec.get("load_ohms"), polarised=polarised)

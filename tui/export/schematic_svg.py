@@ -117,8 +117,11 @@ def side_room(node: dict | None, gap: float) -> float:
     return 0.0 if node is None else (width(node) - 1) * gap
 
 
-def schematic(sheet: Sheet) -> schemdraw.Drawing:
-    """The schemdraw Drawing of the design (common emitter, emitter follower or collector feedback)."""
+def schematic(sheet: Sheet, joined: str | None = None) -> schemdraw.Drawing:
+    """The schemdraw Drawing of the design (common emitter, emitter follower or collector feedback).
+
+    joined: "out" (a chain's first stage: its output is a node wired on, not a terminal) or "in" (the
+    second stage: its input is that wire's end)."""
     schemdraw.use("svg")
     d = schemdraw.Drawing(show=False, fontsize=FONT, lw=1.4)
     dr = Drawer(d, sheet)
@@ -157,8 +160,9 @@ def schematic(sheet: Sheet) -> schemdraw.Drawing:
     top += 0.6
     # A PNP stage is drawn with the rails swapped: 0 V on top, +V below, the PNP's emitter down.
     pnp = str(sheet.design["parts"]["Q1"].get("polarity", "")).upper() == "PNP"
-    q = d.add((elm.BjtPnp().flip() if pnp else elm.BjtNpn()).anchor("base").at((xq, yb)).label("Q1\n" + str(sheet.design["parts"]["Q1"].get("part", "")),
-                                                             loc="right", fontsize=FONT))
+    q_label = f"{sheet.q_name}\n" + str(sheet.design["parts"]["Q1"].get("part", ""))
+    q = d.add((elm.BjtPnp().flip() if pnp else elm.BjtNpn()).anchor("base").at((xq, yb)).label(
+        q_label, loc="right", fontsize=FONT))
     xe = q.absanchors["emitter"][0]
     xc = q.absanchors["collector"][0]
     # The top rail and its supply mark, the bottom rail and ground.
@@ -170,9 +174,10 @@ def schematic(sheet: Sheet) -> schemdraw.Drawing:
     if split:  # the negative rail under the emitter chain; ground marks on RB, CE (and the load)
         d.add(elm.Line().endpoints((xe - 1.2, 0.0), (xe, 0.0)))
         d.add(elm.Vss().at((xe - 1.2, 0.0)).label(f"{sheet.stage.negative_supply_v:g} V (VEE)", fontsize=FONT))
+        ground = None
     else:
-        d.add(elm.Line().endpoints((xb, 0.0), (max(xe, xc) + 2.0 + side_room(n.get("RE2"), GAP_V)
-                                                 + side_room(n.get("CE"), GAP_V) + GAP_V, 0.0)))
+        ground = (xb, max(xe, xc) + 2.0 + side_room(n.get("RE2"), GAP_V) + side_room(n.get("CE"), GAP_V) + GAP_V)
+        d.add(elm.Line().endpoints((ground[0], 0.0), (ground[1], 0.0)))
         d.add(elm.Vss().at((xb, 0.0)).label(supply, loc="bottom", fontsize=FONT) if pnp
               else elm.Ground().at((xb, 0.0)))
 
@@ -180,7 +185,8 @@ def schematic(sheet: Sheet) -> schemdraw.Drawing:
     cin_plus_at_in = plus.get("CIN") == "in"
     x_in = left
     dr.net("CIN", (x_in, yb), (xb, yb), side=1, plus_at_a=cin_plus_at_in) if "CIN" in n else dr.wire((x_in, yb), (xb, yb))
-    d.add(elm.Dot(open=True).at((x_in, yb)).label("in", loc="left", fontsize=FONT))
+    if joined != "in":
+        d.add(elm.Dot(open=True).at((x_in, yb)).label(sheet.in_label, loc="left", fontsize=FONT))
     d.add(elm.Dot().at((xb, yb)))
     d.add(elm.Line().endpoints((xb, yb), (xq, yb)))
     if grounded:
@@ -241,11 +247,42 @@ def schematic(sheet: Sheet) -> schemdraw.Drawing:
                plus_at_a=cout_plus_at_node)
     else:
         dr.wire((x_out0, out_from[1]), (x_out, out_from[1]))
-    d.add(elm.Dot(open=True).at((x_out, out_from[1])).label("out", loc="right", fontsize=FONT))
+    if joined == "out":
+        d.add(elm.Dot().at((x_out, out_from[1])).label(sheet.out_label, loc="top", fontsize=FONT))
+    else:
+        d.add(elm.Dot(open=True).at((x_out, out_from[1])).label(sheet.out_label, loc="right", fontsize=FONT))
+    # Where a chain joins its stages: the signal terminals and the ends of the 0 V line.
+    d.drawerfit_ports = {"in": (x_in, yb), "out": (x_out, out_from[1]), "ground": ground}
+    return d
+
+
+def chain_schematic(sheet: Sheet) -> schemdraw.Drawing:
+    """A chain joined in one drawing: stage 1 on the left, its output x wired to stage 2's input x
+    (CIN_B), both on the same ground line (y = 0 in each stage's drawing)."""
+    first, second = (schematic(view, joined) for view, joined in zip(sheet.views, ("out", "in"), strict=True))
+    out1, in2 = first.drawerfit_ports["out"], second.drawerfit_ports["in"]
+    x0 = out1[0] + 1.5 - in2[0]  # stage 2's origin: its input 1.5 units right of stage 1's output
+    schemdraw.use("svg")
+    d = schemdraw.Drawing(show=False, fontsize=FONT, lw=1.4)
+    d.add(elm.ElementDrawing(first).at((0.0, 0.0)))
+    d.add(elm.ElementDrawing(second).at((x0, 0.0)))
+    bend = out1[0] + 0.75
+    pts = [out1, (bend, out1[1]), (bend, in2[1]), (x0 + in2[0], in2[1])]
+    for a, b in zip(pts, pts[1:]):
+        if a != b:
+            d.add(elm.Line().endpoints(a, b))
+    g1, g2 = first.drawerfit_ports["ground"], second.drawerfit_ports["ground"]
+    if g1 and g2 and g1[1] < x0 + g2[0]:  # one 0 V line under both stages
+        d.add(elm.Line().endpoints((g1[1], 0.0), (x0 + g2[0], 0.0)))
     return d
 
 
 def schematic_svg(sheet: Sheet) -> str:
     """The schematic as a standalone SVG document (text kept as text, so it prints and searches)."""
-    svg = schematic(sheet).get_imagedata("svg").decode("utf-8")
-    return svg
+    drawing = chain_schematic(sheet) if sheet.chain is not None else schematic(sheet)
+    return drawing.get_imagedata("svg").decode("utf-8")
+
+
+def stage_svgs(sheet: Sheet) -> list[str]:
+    """A chain's stages, one SVG document each (the html sheet stacks them at a readable size)."""
+    return [schematic(view).get_imagedata("svg").decode("utf-8") for view in sheet.views]

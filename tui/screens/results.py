@@ -91,7 +91,8 @@ class ResultsScreen(Screen):
             status = status_text(self.result)
             if self.designs:
                 n = len(self.designs)
-                yield Label(f"{n} stage{'s' * (n != 1)} from your drawer, preferred first; "
+                what = "two-stage chain" if all(d.get("stages") for d in self.designs) else "stage"
+                yield Label(f"{n} {what}{'s' * (n != 1)} from your drawer, preferred first; "
                             "↑/↓ choose, Enter: build sheet", classes="section-title")
                 if status:
                     yield Static(status, id="status", classes="caption")

@@ -25,7 +25,7 @@ from optimizer.parts import network_tree
 from ..builds import build_record, last_build, record_problem, sheet_document, tag_of
 from ..schematic import draw_stage, position_text
 from ..schematic_chain import draw_chain
-from ..sheet_text import best_for_text, cautions, chain_meter_lines
+from ..sheet_text import best_for_text, cautions, chain_meter_lines, stage_lines
 from ..widgets import figures
 from ..widgets.chart import Chart, draw_histogram, draw_response
 from ..widgets.crosscheck_panel import BAD_DESIGN, CrossCheckPanel
@@ -41,12 +41,15 @@ def line_text(part) -> str:
     return " ".join(b for b in bits if b)
 
 
+TRANSISTORS = ("Q1", "Q2")  # a chain's second transistor is Q2
+
+
 def part_rows(design: dict, drawer) -> list[tuple[str, str, str, str, str]]:
-    """(position, value, line, location, drawer part) per physical part, Q1 last."""
+    """(position, value, line, location, drawer part) per physical part, the transistors last."""
     locations = design.get("locations") or {}
     rows = []
     for pos, entry in design.get("parts", {}).items():
-        if pos == "Q1":
+        if pos in TRANSISTORS:
             continue
         unit_key = "farads" if "farads" in entry else "ohms"
         node = entry.get("network")
@@ -55,11 +58,12 @@ def part_rows(design: dict, drawer) -> list[tuple[str, str, str, str, str]]:
             part = drawer.part_at(leaf.line) if drawer else None
             rows.append((pos, position_text({unit_key: leaf.value}), str(leaf.line),
                          locations.get(str(leaf.line), ""), line_text(part)))
-    q1 = design.get("parts", {}).get("Q1")
-    if q1:
-        line = q1.get("line")
-        part = drawer.part_at(line) if drawer and line is not None else None
-        rows.append(("Q1", str(q1.get("part", "")), str(line), locations.get(str(line), ""), line_text(part)))
+    for q in TRANSISTORS:
+        entry = design.get("parts", {}).get(q)
+        if entry:
+            line = entry.get("line")
+            part = drawer.part_at(line) if drawer and line is not None else None
+            rows.append((q, str(entry.get("part", "")), str(line), locations.get(str(line), ""), line_text(part)))
     return rows
 
 
@@ -114,7 +118,28 @@ def gain_window(design: dict, spec: dict) -> tuple[float, float] | None:
     return (min(a, b), max(a, b))
 
 
+def transistor_title(design: dict) -> str:
+    """"Q1 BC547B (hFE 200…450)", and a chain's Q2 with its own line's spread."""
+    bits = []
+    for q, key in (("Q1", "hfe"), ("Q2", "hfe_b")):
+        part = design.get("parts", {}).get(q)
+        if part is None:
+            continue
+        hfe = design.get(key) or {}
+        spread = f" (hFE {hfe['min']:g}…{hfe['max']:g})" if "min" in hfe and "max" in hfe else ""
+        bits.append(f"{q} {part.get('part', '')}{spread}")
+    return ", ".join(bits)
+
+
 def figures_text(design: dict) -> str:
+    if design.get("stages"):  # a chain: the whole chain's figures, then each stage's as the chain sees it
+        return ("  The whole chain (IC is Q1's):\n" + _figure_lines(design) + "\n  Each stage (typical hFE; "
+                "stage 1's gain from the source's EMF to x, stage 2's from x to the load):\n"
+                + "\n".join(stage_lines(design)))
+    return _figure_lines(design)
+
+
+def _figure_lines(design: dict) -> str:
     rows = figures.predicted_rows(design.get("predicted", {}))
     score = design.get("score") or {}
     if score.get("robustness") is not None:
@@ -122,7 +147,8 @@ def figures_text(design: dict) -> str:
     if score.get("supply_a") is not None:
         rows.append(("Supply current (max)", figures.amps(score.get("supply_a"))))
     rows += [("Swing margin", figures.volts(score.get("swing_margin_v"))),
-             ("Yield (Monte Carlo)", figures.percent(design.get("yield"))),
+             ("Yield (Monte Carlo)", figures.percent(design.get("yield")) if not design.get("stages")
+             else "none for chains yet"),
              ("Parts", str(score.get("parts", figures.DASH)))]
     return "\n".join(f"  {label:<20} {text}" for label, text in rows)
 
@@ -157,14 +183,11 @@ class SheetScreen(Screen):
     def compose(self) -> ComposeResult:
         design, spec = self.design, self.result.get("spec", {})
         drawer = self.app.drawer
-        q1 = design.get("parts", {}).get("Q1", {})
         yield Masthead()
         with VerticalScroll(id="sheet"):
-            hfe = design.get("hfe") or {}
-            spread = f" (hFE {hfe['min']:g}…{hfe['max']:g})" if "min" in hfe and "max" in hfe else ""
             best = best_for_text(design)
             yield Label(f"Build sheet: design #{self.rank}, {design.get('topology', '')}, "
-                        f"Q1 {q1.get('part', '')}{spread}" + (f"\nBest for: {best}" if best else ""),
+                        f"{transistor_title(design)}" + (f"\nBest for: {best}" if best else ""),
                         classes="section-title")
             # A chain draws both its stages; a split-supply stage also its negative rail.
             draw = draw_chain if design.get("stages") else \

@@ -20,6 +20,7 @@ from textual.containers import Vertical
 from textual.widgets import DataTable, Label, Static
 from textual.worker import Worker, WorkerState, get_current_worker
 
+from optimizer.chain.crosscheck import crosscheck_chain
 from optimizer.physics.crosscheck import CrossCheck, crosscheck
 
 from .. import crosscheck_text
@@ -52,7 +53,8 @@ class CrossCheckPanel(Vertical):
         if self.running:
             return False
         self.running = True
-        self.query_one("#xcheck-status", Static).update("Simulating in ngspice at hFE min, typical and max …")
+        which = "both transistors' hFE" if self.design.get("stages") else "hFE"
+        self.query_one("#xcheck-status", Static).update(f"Simulating in ngspice at {which} min, typical and max …")
         self.query_one("#xcheck", DataTable).clear(columns=True)
         self.simulate()
         return True
@@ -64,7 +66,8 @@ class CrossCheckPanel(Vertical):
 
         def run() -> None:
             try:
-                box["check"] = crosscheck(self.design, self.spec, timeout_s=TIMEOUT_S)
+                check = crosscheck_chain if self.design.get("stages") else crosscheck  # a chain: both transistors
+                box["check"] = check(self.design, self.spec, timeout_s=TIMEOUT_S)
             except BAD_DESIGN as exc:  # the engine reports ngspice's own troubles; this is a damaged design
                 box["check"] = CrossCheck(True, False, f"this design cannot be simulated ({exc!r})")
             except Exception as exc:  # handed to the worker, which reports it (on_worker_state_changed)
