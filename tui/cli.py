@@ -13,13 +13,10 @@ function; this file only wires them and holds the rules every command follows:
 
 from __future__ import annotations
 
-import time
-
-STARTED = time.perf_counter()  # a command's time limit counts from here (cmd_design)
-
 import argparse
 import os
 import sys
+import time
 
 import importlib
 
@@ -74,7 +71,12 @@ def _command_of(argv: list[str]) -> str | None:
     return None
 
 
+STARTED = time.perf_counter()  # when the running command began: its time limit counts from here (cmd_design)
+
+
 def main(argv: list[str] | None = None) -> int:
+    global STARTED
+    STARTED = time.perf_counter()
     try:
         code = _run(argv)
         sys.stdout.flush()  # a closed pipe shows here, not in the interpreter's exit

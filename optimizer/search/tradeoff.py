@@ -14,8 +14,9 @@ The steps are what a bench can tell apart; finer ones only multiply near-equal d
 A design is in the set when no other is at least as good on all four and better on one.
 Labels: "parts" (fewest parts), "clean" (least THD), "robust" (largest margin), "frugal"
 (least current) and "balanced" (least balanced score); ties go to fewer parts, then to the
-balanced score.  The balanced score sums the four counts, each scaled over the set to 0 (the
-best in the set) … 1 (the worst), with equal weights; it is the default preference.
+balanced score, then to the counts in order (parts, THD, fragility, current).  The balanced
+score sums the four counts, each scaled over the set to 0 (the best in the set) … 1 (the
+worst), with equal weights; it is the default preference.
 """
 
 from __future__ import annotations
@@ -102,6 +103,9 @@ def preference_order(c: np.ndarray, prefer: str) -> np.ndarray:
         "robust": (frag, parts, bal),
         "frugal": (cur, parts, bal),
     }[prefer]
+    # Full ties (equal balanced scores can come from different counts) go to the counts in order, so
+    # the order never depends on the order the rows came in.
+    keys = keys + (parts, thd, frag, cur)
     return np.lexsort(tuple(reversed(keys)))
 
 
