@@ -118,7 +118,9 @@ def find_chain_designs(drawer, spec, *, top=5, depth=2, progress=None, cancel=No
     sol = search_chain(drawer.resistor_stock(), drawer.capacitor_stock(), qlines, spec, depth=depth,
                        deadline=deadline, cancel=cancel, progress=progress, prefer=prefer, top=top)
     doc["search"] = {"seconds": round(sol.seconds, 3), "exhaustive": False, "depth": depth, "prefer": prefer,
-                     "time_limit_s": limit, "stopped_by": sol.stopped_by, "stage_searches": sol.stage_searches,
+                     "time_limit_s": limit, "stopped_by": sol.stopped_by,
+                     "first_design_s": None if sol.first_design_s is None else round(sol.first_design_s, 3),
+                     "stage_searches": sol.stage_searches,
                      "chains_checked": sol.pairs, "chains_meeting": len(sol.found)}
     for k, (cand, labels) in enumerate(sol.shown):
         if k and limit is not None and time.perf_counter() - t0 > limit + OVERRUN_S - POST_S_PER_DESIGN:
