@@ -124,8 +124,11 @@ def _join(kind, spec, h1: Half, h2: Half, index) -> Candidate:
 
 
 def search_chain(rstock, cstock, qlines, spec, *, depth=2, deadline=None, cancel=None, progress=None,
-                 prefer="balanced", top=5) -> ChainSolution:
-    """The chains found for `spec` (spec.topology a chain kind) within `deadline` (perf_counter)."""
+                 prefer="balanced", top=5, empty_deadline=None) -> ChainSolution:
+    """The chains found for `spec` (spec.topology a chain kind) within `deadline` (perf_counter).
+
+    empty_deadline (later than deadline): when the search stops while no chain has met the spec yet;
+    the time `deadline` keeps for analysing the chains shown is not needed for them then."""
     t0 = time.perf_counter()
     kind = spec.topology
     sol = ChainSolution(spec, started=t0)
@@ -134,28 +137,33 @@ def search_chain(rstock, cstock, qlines, spec, *, depth=2, deadline=None, cancel
         return sol
     floor2 = rin2_floor(spec, qlines, kind)
     splits = CE_SPLITS if CHAINS[kind] == (CE, CE) else (None,)
-    end = deadline if deadline is not None else t0 + 60.0
+    found_end = deadline if deadline is not None else t0 + 60.0
+    ends = (found_end, max(found_end, empty_deadline if empty_deadline is not None else found_end))
+
+    def end_now():
+        return ends[0] if sol.found else ends[1]
+
     seen = set()
     # Round 1 is quick (stage searches stop soon after their first designs): a chain in hand early.
     # Round 2, while time is left, searches each stage until its trade-off set settles, for better pairs.
     for patience in (QUICK_PATIENCE_S, STAGE_PATIENCE_S):
-        if patience == STAGE_PATIENCE_S and end - time.perf_counter() < DEEP_ROUND_MIN_S:
+        if patience == STAGE_PATIENCE_S and end_now() - time.perf_counter() < DEEP_ROUND_MIN_S:
             break
         for k, split in enumerate(splits):
-            if _stop(cancel, end, sol):
+            if _stop(cancel, end_now(), sol):
                 break
             # The first split gets most of the time; later ones what is left, while a design is still missing.
-            if k and (sol.found or end - time.perf_counter() < 3.0):
+            if k and (sol.found or end_now() - time.perf_counter() < 3.0):
                 break
             # A single-stage search needs seconds to get going: more than one split only on a long limit.
-            left = end - time.perf_counter()
+            left = end_now() - time.perf_counter()
             share = 0.6 if k + 1 < len(splits) and left > SPLIT_MIN_S else 1.0
             slot_end = time.perf_counter() + left * share
             _one_split(kind, spec, split, floor2, rstock, cstock, qlines, depth, slot_end, cancel, sol, seen, progress,
-                       patience)
+                       patience, end_now)
         if sol.stopped_by == "cancelled":
             break
-    if sol.stopped_by is None and deadline is not None and time.perf_counter() >= deadline:
+    if sol.stopped_by is None and deadline is not None and time.perf_counter() >= end_now():
         sol.stopped_by = "time limit"
     sol.shown = _shown(sol.found, prefer, top)
     sol.seconds = time.perf_counter() - t0
@@ -247,7 +255,7 @@ def _run_stage(rstock, cstock, qlines, spec, depth, end, cancel, sol, patience=S
 
 
 def _one_split(kind, spec, split, floor2, rstock, cstock, qlines, depth, end, cancel, sol, seen, progress,
-               patience=STAGE_PATIENCE_S):
+               patience=STAGE_PATIENCE_S, end_now=None):
     index, spec_a = first_plan(spec, kind, split, floor2)
     start = time.perf_counter()
     span = max(end - start, 0.0)
@@ -256,7 +264,7 @@ def _one_split(kind, spec, split, floor2, rstock, cstock, qlines, depth, end, ca
     if progress:
         progress(0.3, f"{len(firsts)} design(s) of the {'first' if index == 0 else 'second'} stage")
     for j, h in enumerate(firsts):
-        if _stop(cancel, end, sol):
+        if _stop(cancel, end if end_now is None else min(end, end_now()), sol):
             return
         spec_b = second_plan(spec, kind, h, index, floor2)
         if spec_b is None:
@@ -271,8 +279,10 @@ def _one_split(kind, spec, split, floor2, rstock, cstock, qlines, depth, end, ca
             continue
         # Anytime: the most promising first design may take all that is left (its search stops once
         # its set settles, handing the rest on); once a chain is in hand, half of it, the next half of the rest, …
-        left = start + span - SECONDS * CHECK_S - time.perf_counter()
+        left = start + span - (SECONDS if sol.found else 1) * CHECK_S - time.perf_counter()
         slice_end = time.perf_counter() + left * (0.5 if sol.found and j + 1 < len(firsts) else 1.0)
+        if end_now is not None:  # with no chain in hand yet, one pair's check is all that must follow
+            slice_end = min(slice_end, end_now() - (SECONDS if sol.found else 1) * CHECK_S)
         seconds = _run_stage(r_left, c_left, q_left, spec_b, depth, slice_end, cancel, sol, patience)
         for h2 in seconds[:SECONDS]:
             pair = (h, h2) if index == 0 else (h2, h)
