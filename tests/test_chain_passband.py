@@ -140,3 +140,20 @@ def test_the_chain_search_records_its_first_design():
     first = doc["search"]["first_design_s"]
     assert first is not None and 0 < first <= doc["search"]["seconds"]
     assert doc["optimal"] is False and doc["unexplored"]
+
+
+def test_the_likeliest_chain_goes_first_in_any():
+    # Rules of the trade (common practice, no source): a follower in front keeps a high-resistance
+    # source, a follower behind drives a low load, two common emitters otherwise.
+    from optimizer.chain.names import CHAINS
+    from optimizer.chain.plan import likely_order
+
+    kinds = list(CHAINS)
+    high = Spec(topology="any", gain=100, source_ohms=100e3)  # default floor 1 MΩ
+    low_load = Spec(topology="any", gain=30, source_ohms=1e3, load_ohms=1e3)
+    plain = Spec(topology="any", gain=30, source_ohms=1e3, load_ohms=22e3)
+    assert likely_order(high, kinds)[0] == "emitter-follower+common-emitter"
+    assert likely_order(low_load, kinds)[0] == "common-emitter+emitter-follower"
+    assert likely_order(plain, kinds)[0] == "common-emitter+common-emitter"
+    for s in (high, low_load, plain):
+        assert sorted(likely_order(s, kinds)) == sorted(kinds)
