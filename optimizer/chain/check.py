@@ -4,8 +4,8 @@ Corners: hFE min and max of Q1 × hFE min and max of Q2 × the spec's temperatur
 transistors at the same temperature), nominal part values.  At each: both transistors biased
 (neither cut off, VCE ≥ --min-vce), the chain's gain with its sign and within the tolerance,
 Rin ≥ the floor, the supply current, f_low ≤ the low cut-off and the passband a decade above it
-within 1 % of midband (optimizer/physics/lowcut.py's rule for one stage, here on the whole chain), the asked swing reached at the load
-without either transistor saturating or cutting off, THD ≤ --max-thd (large-signal solve of the
+within 1 % of midband (optimizer/physics/lowcut.py's rule for one stage, here on the whole chain),
+the asked swing reached at the load without either transistor saturating or cutting off, THD ≤ --max-thd (large-signal solve of the
 whole chain), each capacitor rated for ≥ 1.5 × its DC voltage with a polarised one never reversed,
 and each transistor within its ratings (PD ≤ 50 % of PD(max), IC ≤ IC(max), VCEO ≥ the supply).
 Resistor dissipation is the stages' own (the stages are AC-coupled, so each stage's DC is its
