@@ -3,8 +3,9 @@
 Corners: hFE min and max of Q1 × hFE min and max of Q2 × the spec's temperature corners (both
 transistors at the same temperature), nominal part values.  At each: both transistors biased
 (neither cut off, VCE ≥ --min-vce), the chain's gain with its sign and within the tolerance,
-Rin ≥ the floor, the supply current, f_low ≤ the low cut-off, the asked swing reached at the load
-without either transistor saturating or cutting off, THD ≤ --max-thd (large-signal solve of the
+Rin ≥ the floor, the supply current, f_low ≤ the low cut-off and the passband a decade above it
+within 1 % of midband (optimizer/physics/lowcut.py's rule for one stage, here on the whole chain),
+the asked swing reached at the load without either transistor saturating or cutting off, THD ≤ --max-thd (large-signal solve of the
 whole chain), each capacitor rated for ≥ 1.5 × its DC voltage with a polarised one never reversed,
 and each transistor within its ratings (PD ≤ 50 % of PD(max), IC ≤ IC(max), VCEO ≥ the supply).
 Resistor dissipation is the stages' own (the stages are AC-coupled, so each stage's DC is its
@@ -18,11 +19,12 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from optimizer.chain.circuit import Chain
-from optimizer.chain.figures import Figures, figures
+from optimizer.chain.figures import Figures, figures, transfer
 from optimizer.parts.capchoice import (
     CAP_VOLTAGE_MARGIN as RATING_FACTOR,  # rating ≥ 1.5 × the DC across, as for one stage
 )
 from optimizer.physics.analysis import CUTOFF_A
+from optimizer.physics.lowcut import CHECKS
 from optimizer.search.feasible import TRANSISTOR_PD_DERATING
 
 SIGN = {"emitter-follower+common-emitter": -1, "common-emitter+common-emitter": 1,
@@ -49,6 +51,16 @@ class Verdict:
     thd: float = float("inf")  # worst corner
     robustness: float = 0.0
     supply_a: float = float("inf")
+
+
+def passband_holds(f: Figures, low_cut_hz: float) -> np.ndarray:
+    """Per corner: |H(m·f_cut)|² ≥ p·|H_mid|² for every (m, p) of lowcut.CHECKS (the −3 dB point at
+    f_cut and the passband a decade above it within 1 % of midband), on the whole chain."""
+    ok = np.ones(len(f.gain), dtype=bool)
+    for factor, power in CHECKS:
+        h = transfer(f.net, f.op, [factor * low_cut_hz])[:, 0]
+        ok &= np.abs(h) ** 2 >= power * f.gain ** 2 * (1 - 1e-12)
+    return ok
 
 
 def check_chain(chain: Chain, spec, q1, q2, ratings: dict, *, points: int = 64) -> Verdict:
@@ -86,6 +98,7 @@ def check_chain(chain: Chain, spec, q1, q2, ratings: dict, *, points: int = 64) 
     if spec.max_supply_a is not None:
         fails["current"] = f.i_supply > spec.max_supply_a
     fails["low_cut"] = f.f_low > spec.low_cut_hz
+    fails["low_cut"] |= ~passband_holds(f, spec.low_cut_hz)
     i = f.net.nodes.index
     for p in f.net.parts:
         if p.kind != "C" or p.name not in ratings:

@@ -111,3 +111,22 @@ def rin2_floor(spec, qlines, kind) -> float:
         hfe = max((q.transistor.hfe_min for q in qlines), default=100.0)
         return float(np.clip(3.0 * spec.rin_floor / hfe, 2.2e3, 100e3))
     return 10e3 if k2 == EF else 2.2e3
+
+
+HIGH_RIN_OHMS = 100e3  # beyond a common emitter's usual input resistance (common practice, no source)
+LOW_LOAD_OHMS = 2.2e3  # a load a collector cannot drive cleanly on its own (common practice, no source)
+
+
+def likely_order(spec, kinds) -> list[str]:
+    """The chain kinds of `kinds`, the one most likely to meet `spec` first: a follower in front when
+    the input must stay high (Rin floor ≥ 100 kΩ), a follower behind for a low load (≤ 2.2 kΩ), else two
+    common emitters; the rest keep their order (common practice, no source)."""
+    if spec.rin_floor >= HIGH_RIN_OHMS:
+        best = f"{EF}+{CE}"
+    elif spec.load_ohms <= LOW_LOAD_OHMS:
+        best = f"{CE}+{EF}"
+    else:
+        best = f"{CE}+{CE}"
+    kinds = list(kinds)
+    return ([best] if best in kinds else []) + [k for k in kinds if k != best]
+

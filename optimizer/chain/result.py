@@ -16,7 +16,7 @@ from dataclasses import replace
 from optimizer.chain.analysis import analyze_chain
 from optimizer.chain.check import corners as chain_corners
 from optimizer.chain.deck import chain_netlist
-from optimizer.chain.search import search_chain
+from optimizer.chain.search import CHECK_S, search_chain
 from optimizer.physics.analysis import _plain
 from optimizer.physics.polarity import is_pnp
 from optimizer.search.candidates import usable_transistors
@@ -115,10 +115,15 @@ def find_chain_designs(drawer, spec, *, top=5, depth=2, progress=None, cancel=No
         qlines = [q for q in qlines if not is_pnp(q.transistor)]
         notes = notes + [f"{len(pnp)} PNP line(s) left out: chains are NPN-only for now"]
     locations = {p.line: p.location for p in drawer.parts}
+    # While no chain is in hand, the search may go on until one chain's analysis is all the limit has left.
+    empty = None if limit is None else t0 + limit - POST_S_PER_DESIGN - SEARCH_WIND_UP_S - CHECK_S
     sol = search_chain(drawer.resistor_stock(), drawer.capacitor_stock(), qlines, spec, depth=depth,
-                       deadline=deadline, cancel=cancel, progress=progress, prefer=prefer, top=top)
+                       deadline=deadline, cancel=cancel, progress=progress, prefer=prefer, top=top,
+                       empty_deadline=empty)
     doc["search"] = {"seconds": round(sol.seconds, 3), "exhaustive": False, "depth": depth, "prefer": prefer,
-                     "time_limit_s": limit, "stopped_by": sol.stopped_by, "stage_searches": sol.stage_searches,
+                     "time_limit_s": limit, "stopped_by": sol.stopped_by,
+                     "first_design_s": None if sol.first_design_s is None else round(sol.first_design_s, 3),
+                     "stage_searches": sol.stage_searches,
                      "chains_checked": sol.pairs, "chains_meeting": len(sol.found)}
     for k, (cand, labels) in enumerate(sol.shown):
         if k and limit is not None and time.perf_counter() - t0 > limit + OVERRUN_S - POST_S_PER_DESIGN:

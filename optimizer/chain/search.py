@@ -17,8 +17,19 @@ one transistor fewer), so every chain is buildable from the counts on hand.  The
 split so the product of the two stages' corner spreads stays within the chain's; THD, low cut-off
 and ratings get shares too; the whole chain is then checked exactly, so the shares only steer.
 
+Anytime: each stage search stops once its own trade-off set has settled (select.search's
+patience, STAGE_PATIENCE_S) rather than running to its slice's end, so the first pair is checked
+within seconds and the time left goes to the next first-stage designs and gain splits; the moment
+the first chain met the spec is kept (first_design_s).  Every stage search screens the stocked
+neighbours of its kind's ideal values first (search/seed.py), so a bench's textbook stage is tried
+before anything else.
+
 This is a heuristic over gain splits and stage pairs: the chain's trade-off set is never proven
-complete, and the document says "optimal": false with what was left unexplored.
+complete, and the document says "optimal": false with what was left unexplored.  One thing is
+proven before any search: the chain's input resistance is below its first stage's bias divider,
+R1‖R2 ≤ (the largest network the stock makes)/2, so a Rin floor at or above that is out of reach
+(status "infeasible"; e.g. the default floor of 1 MΩ for a 100 kΩ source on a drawer whose
+largest resistor is 1 MΩ, two per position).
 """
 
 from __future__ import annotations
@@ -26,6 +37,8 @@ from __future__ import annotations
 import time
 from collections import Counter
 from dataclasses import dataclass, field, replace
+
+import numpy as np
 
 from optimizer.chain.check import Verdict, check_chain, corners
 from optimizer.chain.circuit import Chain
@@ -45,6 +58,11 @@ FIRST_SHARE = {f"{EF}+{CE}": 0.3, f"{CE}+{CE}": 0.4, f"{CE}+{EF}": 0.3}
 STAGE_RESERVE_S = 0.8
 SPLIT_MIN_S = 30.0  # time left below which the first gain split gets all of it
 CHECK_S = 0.4  # one chain checked at every corner (measured 0.35 s for 12 corners)
+# A stage search stops once its trade-off set has not changed for this long (select.search's settled
+# rule): the stage's first designs are what the chain needs; the time saved goes to more pairs.
+STAGE_PATIENCE_S = 1.0
+QUICK_PATIENCE_S = 0.3  # the same, until the first chain is in hand: its stages' first designs, soon
+DEEP_ROUND_MIN_S = 10.0  # time left below which no second, deeper round over the gain splits starts
 
 
 @dataclass
@@ -75,6 +93,8 @@ class ChainSolution:
     proven_none: bool = False
     stopped_by: str | None = None
     seconds: float = 0.0
+    started: float = 0.0  # time.perf_counter() at the start
+    first_design_s: float | None = None  # seconds from the start until a chain met the spec
     unexplored: str = ("other gain splits and other pairs of stages: the chain search designs the stages one "
                        "after the other from a few designs of each stage's trade-off set, so its set is not "
                        "proven complete")
@@ -104,30 +124,46 @@ def _join(kind, spec, h1: Half, h2: Half, index) -> Candidate:
 
 
 def search_chain(rstock, cstock, qlines, spec, *, depth=2, deadline=None, cancel=None, progress=None,
-                 prefer="balanced", top=5) -> ChainSolution:
-    """The chains found for `spec` (spec.topology a chain kind) within `deadline` (perf_counter)."""
+                 prefer="balanced", top=5, empty_deadline=None) -> ChainSolution:
+    """The chains found for `spec` (spec.topology a chain kind) within `deadline` (perf_counter).
+
+    empty_deadline (later than deadline): when the search stops while no chain has met the spec yet;
+    the time `deadline` keeps for analysing the chains shown is not needed for them then."""
     t0 = time.perf_counter()
     kind = spec.topology
-    sol = ChainSolution(spec)
-    if not _stocked(rstock, cstock, qlines, sol):
+    sol = ChainSolution(spec, started=t0)
+    if not _stocked(rstock, cstock, qlines, sol) or not _rin_reachable(rstock, spec, depth, sol):
         sol.seconds = time.perf_counter() - t0
         return sol
     floor2 = rin2_floor(spec, qlines, kind)
     splits = CE_SPLITS if CHAINS[kind] == (CE, CE) else (None,)
-    end = deadline if deadline is not None else t0 + 60.0
+    found_end = deadline if deadline is not None else t0 + 60.0
+    ends = (found_end, max(found_end, empty_deadline if empty_deadline is not None else found_end))
+
+    def end_now():
+        return ends[0] if sol.found else ends[1]
+
     seen = set()
-    for k, split in enumerate(splits):
-        if _stop(cancel, end, sol):
+    # Round 1 is quick (stage searches stop soon after their first designs): a chain in hand early.
+    # Round 2, while time is left, searches each stage until its trade-off set settles, for better pairs.
+    for patience in (QUICK_PATIENCE_S, STAGE_PATIENCE_S):
+        if patience == STAGE_PATIENCE_S and end_now() - time.perf_counter() < DEEP_ROUND_MIN_S:
             break
-        # The first split gets most of the time; later ones what is left, while a design is still missing.
-        if k and (sol.found or end - time.perf_counter() < 3.0):
+        for k, split in enumerate(splits):
+            if _stop(cancel, end_now(), sol):
+                break
+            # The first split gets most of the time; later ones what is left, while a design is still missing.
+            if k and (sol.found or end_now() - time.perf_counter() < 3.0):
+                break
+            # A single-stage search needs seconds to get going: more than one split only on a long limit.
+            left = end_now() - time.perf_counter()
+            share = 0.6 if k + 1 < len(splits) and left > SPLIT_MIN_S else 1.0
+            slot_end = time.perf_counter() + left * share
+            _one_split(kind, spec, split, floor2, rstock, cstock, qlines, depth, slot_end, cancel, sol, seen, progress,
+                       patience, end_now)
+        if sol.stopped_by == "cancelled":
             break
-        # A single-stage search needs seconds to get going: more than one split only on a long limit.
-        left = end - time.perf_counter()
-        share = 0.6 if k + 1 < len(splits) and left > SPLIT_MIN_S else 1.0
-        slot_end = time.perf_counter() + left * share
-        _one_split(kind, spec, split, floor2, rstock, cstock, qlines, depth, slot_end, cancel, sol, seen, progress)
-    if sol.stopped_by is None and deadline is not None and time.perf_counter() >= deadline:
+    if sol.stopped_by is None and deadline is not None and time.perf_counter() >= end_now():
         sol.stopped_by = "time limit"
     sol.shown = _shown(sol.found, prefer, top)
     sol.seconds = time.perf_counter() - t0
@@ -155,6 +191,41 @@ def _stocked(rstock, cstock, qlines, sol) -> bool:
     return True
 
 
+def largest_network_ohms(rstock, depth: int) -> float:
+    """Ω: the largest value any network of at most `depth` resistor parts from the stock makes
+    (the largest parts in series; any parallel pair is smaller than its larger part)."""
+    values = np.repeat(np.asarray(rstock.ohms, dtype=float), np.asarray(rstock.qty, dtype=np.int64))
+    return float(np.sort(values)[::-1][:max(1, int(depth))].sum()) if len(values) else 0.0
+
+
+def _ohms(x: float) -> str:
+    """SI with a space and the unit, three significant digits (README: how figures are spelled)."""
+    for scale, prefix in ((1e9, "G"), (1e6, "M"), (1e3, "k"), (1.0, "")):
+        if abs(x) >= scale:
+            return f"{x / scale:.3g} {prefix}Ω"
+    return f"{x:.3g} Ω"
+
+
+def _rin_reachable(rstock, spec, depth, sol) -> bool:
+    """False (with the reason, proven) when the Rin floor is beyond every chain the stock can make.
+
+    The chain's Rin is its first stage's: R1‖R2 in parallel with the base's own input resistance
+    (positive and finite), so Rin < R1‖R2 ≤ M/2 with M the largest network the stock makes
+    (R1‖R2 grows with both and is M/2 at R1 = R2 = M).  Both chain kinds' first stages are
+    divider-biased (a common emitter or an emitter follower, R1 and R2 always fitted)."""
+    top = largest_network_ohms(rstock, depth)
+    floor = spec.rin_floor
+    if top / 2 > floor:
+        return True
+    whose = "the default floor, 10 × the source" if spec.rin_floor_is_default else "--min-rin"
+    sol.why.append(f"the chain's input resistance cannot reach {_ohms(floor)} ({whose}): it is below the "
+                   f"first stage's bias divider R1‖R2, at most {_ohms(top / 2)} with the largest network "
+                   f"of ≤ {depth} part(s) the drawer's resistors make ({_ohms(top)}); ask a lower "
+                   f"--min-rin, or stock resistors above {_ohms(2 * floor)}")
+    sol.proven_none = True
+    return False
+
+
 def _stop(cancel, end, sol) -> bool:
     if cancel is not None and cancel.is_set():
         sol.stopped_by = "cancelled"
@@ -165,13 +236,13 @@ def _stop(cancel, end, sol) -> bool:
     return False
 
 
-def _run_stage(rstock, cstock, qlines, spec, depth, end, cancel, sol):
+def _run_stage(rstock, cstock, qlines, spec, depth, end, cancel, sol, patience=STAGE_PATIENCE_S):
     left = end - time.perf_counter() - STAGE_RESERVE_S
     if left <= 0.05:
         sol.stage_empty.append((spec, ["no time was left for this stage's search"]))
         return []
     sub = stage_search(rstock, cstock, qlines, spec, top=FIRSTS, depth=depth, cancel=cancel,
-                       deadline=time.perf_counter() + left)
+                       deadline=time.perf_counter() + left, patience=patience)
     sol.stage_searches += 1
     if not sub.designs:
         from optimizer.search.explain import reasons
@@ -183,15 +254,17 @@ def _run_stage(rstock, cstock, qlines, spec, depth, end, cancel, sol):
     return [half_of(sub, choice, row, spec.topology) for choice, row, _ in sub.designs]
 
 
-def _one_split(kind, spec, split, floor2, rstock, cstock, qlines, depth, end, cancel, sol, seen, progress):
+def _one_split(kind, spec, split, floor2, rstock, cstock, qlines, depth, end, cancel, sol, seen, progress,
+               patience=STAGE_PATIENCE_S, end_now=None):
     index, spec_a = first_plan(spec, kind, split, floor2)
     start = time.perf_counter()
     span = max(end - start, 0.0)
-    firsts = _run_stage(rstock, cstock, qlines, spec_a, depth, start + FIRST_SHARE[kind] * span, cancel, sol)
+    firsts = _run_stage(rstock, cstock, qlines, spec_a, depth, start + FIRST_SHARE[kind] * span, cancel, sol,
+                        patience)
     if progress:
         progress(0.3, f"{len(firsts)} design(s) of the {'first' if index == 0 else 'second'} stage")
     for j, h in enumerate(firsts):
-        if _stop(cancel, end, sol):
+        if _stop(cancel, end if end_now is None else min(end, end_now()), sol):
             return
         spec_b = second_plan(spec, kind, h, index, floor2)
         if spec_b is None:
@@ -204,10 +277,13 @@ def _one_split(kind, spec, split, floor2, rstock, cstock, qlines, depth, end, ca
         if not q_left:
             sol.why.append("the drawer lacks a second NPN: the first stage takes the last one in stock")
             continue
-        # Anytime: the most promising first design gets half of what is left, the next half of the rest, …
-        left = start + span - SECONDS * CHECK_S - time.perf_counter()
-        slice_end = time.perf_counter() + left * (0.5 if j + 1 < len(firsts) else 1.0)
-        seconds = _run_stage(r_left, c_left, q_left, spec_b, depth, slice_end, cancel, sol)
+        # Anytime: the most promising first design may take all that is left (its search stops once
+        # its set settles, handing the rest on); once a chain is in hand, half of it, the next half of the rest, …
+        left = start + span - (SECONDS if sol.found else 1) * CHECK_S - time.perf_counter()
+        slice_end = time.perf_counter() + left * (0.5 if sol.found and j + 1 < len(firsts) else 1.0)
+        if end_now is not None:  # with no chain in hand yet, one pair's check is all that must follow
+            slice_end = min(slice_end, end_now() - (SECONDS if sol.found else 1) * CHECK_S)
+        seconds = _run_stage(r_left, c_left, q_left, spec_b, depth, slice_end, cancel, sol, patience)
         for h2 in seconds[:SECONDS]:
             pair = (h, h2) if index == 0 else (h2, h)
             key = (tuple(sorted(pair[0].resistors.items())), tuple(sorted(pair[1].resistors.items())),
@@ -220,6 +296,8 @@ def _one_split(kind, spec, split, floor2, rstock, cstock, qlines, depth, end, ca
             sol.pairs += 1
             if cand.verdict.ok:
                 sol.found.append(cand)
+                if sol.first_design_s is None:
+                    sol.first_design_s = time.perf_counter() - sol.started
             else:
                 sol.failed.update(cand.verdict.failed)
         if progress:

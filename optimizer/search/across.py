@@ -3,8 +3,10 @@
 Each kind is searched by `select.find_designs` with a share of the time limit: the single-stage
 kinds first, splitting half the limit between them, then the two-stage chains (optimizer/chain)
 with the rest; within each group the kinds still to go split what is left equally, so a kind that
-finishes early (proven, or nothing to build) hands its time on.  The designs found are pooled and the trade-off set is taken again over the pool
-with the same four counts (tradeoff.py), so a design of one kind that another kind's design beats
+finishes early (proven, or nothing to build) hands its time on.  The chain most likely to fit
+(chain/plan.likely_order: a follower in front for a high Rin floor, behind for a low load) goes
+first and gets half of the chains' time: a chain's stage searches need seconds each.  The designs
+found are pooled and the trade-off set is taken again over the pool with the same four counts (tradeoff.py), so a design of one kind that another kind's design beats
 on every count drops out.  Kinds whose own gain limit rules the request out are skipped and
 named.
 
@@ -79,10 +81,13 @@ def find_any(drawer, spec, *, top, time_limit_s, progress=None, cancel=None, sta
     if problems:
         return {"designs": [], "why": problems, "hints": [], "spec": spec_json(spec), "error": "spec",
                 "status": "invalid", "optimal": False, "unexplored": None}
+    from optimizer.chain.plan import likely_order
+
     names, notes = usable_kinds(spec, min_yield=kw.get("min_yield"))
+    singles = [n for n in names if n in kinds.names()]
+    names = singles + likely_order(spec, [n for n in names if n not in singles])
     t0 = time.perf_counter() if started is None else started
     limit = None if time_limit_s is None else float(time_limit_s)
-    singles = [n for n in names if n in kinds.names()]
     docs: dict[str, dict] = {}
     for k, name in enumerate(names):
         if cancel is not None and cancel.is_set():
@@ -95,6 +100,8 @@ def find_any(drawer, spec, *, top, time_limit_s, progress=None, cancel=None, sta
         if left is not None and k < len(singles) < len(names):
             # Single stages first, with half the limit between them: the chains get the rest.
             share = max(0.0, left - limit / 2) / (len(singles) - k) if left > limit / 2 else left / (len(names) - k)
+        elif left is not None and k == len(singles) and len(names) - k > 1:
+            share = left / 2  # the likeliest chain first, with half of the chains' time
 
         def part(frac, text, k=k, name=name):
             if progress:

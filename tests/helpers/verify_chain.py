@@ -92,7 +92,7 @@ def cascade(design, spec, drawer, bf1, bf2, temp_c, freq_hz=None):
 
 
 def chain_failures(design: dict, spec, drawer) -> list[str]:
-    """Reasons the chain fails `spec` ([] = passes): gain, Rin, f_low, VCE and cut-off at every corner,
+    """Reasons the chain fails `spec` ([] = passes): gain, Rin, f_low, the passband, VCE and cut-off at every corner,
     the supply current, and the stock."""
     out = []
     (k1, r1, c1, q1), (k2, r2, c2, q2) = stages_of(design, spec, drawer)
@@ -112,6 +112,12 @@ def chain_failures(design: dict, spec, drawer) -> list[str]:
                 f_low = 0.0 if not len(below) else SCAN_HZ[min(below[-1] + 1, len(SCAN_HZ) - 1)]
                 if f_low > spec.low_cut_hz * 1.01:  # the scan's step (1 %) is the resolution here
                     out.append(f"{corner}: f_low about {f_low:.3g} Hz above {spec.low_cut_hz:g} Hz")
+                # The passband a decade above the low cut-off holds the midband gain within 1 %
+                # (optimizer/physics/lowcut.py's rule; common practice, no source), from the cascade.
+                h10 = abs(complex(cascade(design, spec, drawer, b1, b2, t, [10.0 * spec.low_cut_hz])[0][0]))
+                if h10 < 0.99 * abs(g) * (1 - 1e-9):
+                    out.append(f"{corner}: gain a decade above the low cut-off {h10:.4g}, "
+                               f"{1 - h10 / abs(g):.1%} below midband")
                 supply = 0.0
                 for cir, op in zip(cirs, ops, strict=True):
                     ic = float(q_currents(cir, op)[0])
