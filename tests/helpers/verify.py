@@ -269,6 +269,10 @@ def _ratings(stage: Stage, report, trees) -> list[str]:
                     out.append(f"{pos}: line {leaf.line} dissipates {w * 1e3:.3g} mW > "
                                f"{RESISTOR_DERATING:.0%} of its {leaf.power_w:g} W")
     volts = capacitor_voltages(stage.topology, {"vb": op["vb"], "vc": op["vc"], "ve": op["ve"], "vn": op["vmid"]})
+    if "CE" in volts and str(getattr(stage.transistor, "polarity", "NPN")).upper() == "PNP":
+        # The operating point is in real polarity; a PNP stage's CE returns to +V, not to ground
+        # (the PNP circuit is the NPN one with ground and the supply swapped), so it holds VCC − V(vn).
+        volts["CE"] = stage.supply_v - op["vmid"]
     for pos, tree in trees.items():
         if pos in volts and pos in stage.capacitors:
             for leaf, v in _cap_share(tree, abs(float(volts[pos]))):
