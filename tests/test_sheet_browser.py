@@ -66,19 +66,24 @@ def pdf_words(pdf: Path) -> tuple[list[str], float, float, list[tuple[float, flo
     return words, float(page.group(1)), float(page.group(2)), boxes
 
 
+def print_on(folder: Path, html: Path, paper: str) -> tuple[Path, int]:
+    """(the PDF chromium prints of `html` on `paper`, its page count from pdfinfo)."""
+    sized = html.with_name(f"{html.stem}-{paper}.html")
+    sized.write_text(html.read_text().replace("</style>", f"@page {{ size: {paper}; }}</style>", 1))
+    pdf = sized.with_suffix(".pdf")
+    done = subprocess.run([*chromium_args(folder / "profile"), f"--print-to-pdf={pdf}", sized.as_uri()],
+                          capture_output=True, text=True, timeout=120)
+    assert pdf.exists(), done.stderr[-2000:]
+    info = subprocess.run([need_program("pdfinfo"), str(pdf)], capture_output=True, text=True, timeout=60).stdout
+    return pdf, int(re.search(r"Pages:\s+(\d+)", info).group(1))
+
+
 @pytest.mark.parametrize("paper", sorted(PAPERS))
 def test_prints_on_one_or_two_pages_with_every_label(sheets, paper):
     folder, items = sheets
     need_program("pdfinfo")
     for html, names in items:
-        sized = html.with_name(f"{html.stem}-{paper}.html")
-        sized.write_text(html.read_text().replace("</style>", f"@page {{ size: {paper}; }}</style>", 1))
-        pdf = sized.with_suffix(".pdf")
-        done = subprocess.run([*chromium_args(folder / "profile"), f"--print-to-pdf={pdf}", sized.as_uri()],
-                              capture_output=True, text=True, timeout=120)
-        assert pdf.exists(), done.stderr[-2000:]
-        info = subprocess.run([need_program("pdfinfo"), str(pdf)], capture_output=True, text=True, timeout=60).stdout
-        pages = int(re.search(r"Pages:\s+(\d+)", info).group(1))
+        pdf, pages = print_on(folder, html, paper)
         assert 1 <= pages <= 2, (html.name, paper, pages)
         words, width, height, boxes = pdf_words(pdf)
         assert (width, height) == pytest.approx(PAPERS[paper], abs=1.0)

@@ -6,14 +6,13 @@ list in the PDF's text; nothing past the paper's edge, nor past A4's printable w
 from __future__ import annotations
 
 import json
-import subprocess
 
 import pytest
 
 from tests.chain_designs import KINDS
 from tests.chain_sheet_files import save_chains
 from tests.conftest import need_program
-from tests.test_sheet_browser import A4_PRINTABLE_PX, PAPERS, chromium_args, overflow, pdf_words
+from tests.test_sheet_browser import A4_PRINTABLE_PX, PAPERS, overflow, pdf_words, print_on
 from tui.cli import main
 
 pytestmark = [pytest.mark.browser, pytest.mark.tui]
@@ -39,14 +38,7 @@ def test_chain_prints_with_every_part_and_place(sheets, paper):
     folder, items = sheets
     need_program("pdfinfo")
     for kind, html, names, places in items:
-        sized = html.with_name(f"{html.stem}-{paper}.html")
-        sized.write_text(html.read_text().replace("</style>", f"@page {{ size: {paper}; }}</style>", 1))
-        pdf = sized.with_suffix(".pdf")
-        done = subprocess.run([*chromium_args(folder / "profile"), f"--print-to-pdf={pdf}", sized.as_uri()],
-                              capture_output=True, text=True, timeout=120)
-        assert pdf.exists(), done.stderr[-2000:]
-        info = subprocess.run([need_program("pdfinfo"), str(pdf)], capture_output=True, text=True, timeout=60).stdout
-        pages = int(info.split("Pages:", 1)[1].split()[0])
+        pdf, pages = print_on(folder, html, paper)
         assert 1 <= pages <= MAX_PAGES, (kind, paper, pages)
         words, width, height, boxes = pdf_words(pdf)
         assert (width, height) == pytest.approx(PAPERS[paper], abs=1.0)

@@ -15,27 +15,14 @@ import math
 import re
 import shutil
 import subprocess
-import tempfile
 from dataclasses import asdict, is_dataclass, replace
-from pathlib import Path
 
 from optimizer.chain.circuit import build_net
 from optimizer.chain.deck import chain_of_design, deck_nodes
 from optimizer.chain.figures import figures
-from optimizer.physics.crosscheck import (
-    ANALYSED,
-    CORNERS,
-    NOT_INSTALLED,
-    STEPS,
-    CrossCheck,
-    _corner_hz,
-    _read,
-    bench,
-    thd_of_wave,
-)
+from optimizer.physics.crosscheck import CORNERS, NOT_INSTALLED, CrossCheck, simulate
 from optimizer.physics.deck import model_name
 
-PERIODS = 40  # transient length in signal periods; the last ANALYSED are analysed
 # (figure key, unit, transistor): each transistor's DC points, then the chain's own figures.
 FIGURES = (("vb", "V", "Q1"), ("ve", "V", "Q1"), ("vc", "V", "Q1"), ("vb_b", "V", "Q2"), ("ve_b", "V", "Q2"),
            ("vc_b", "V", "Q2"), ("gain", "", None), ("rin", "Ω", None), ("f_low", "Hz", None), ("thd", "", None))
@@ -90,43 +77,9 @@ def _corner(ngspice: str, deck: str, chain, spec: dict, timeout_s: float) -> dic
         f = figures(chain, [(chain.first.transistor.bf, chain.second.transistor.bf, chain.first.temp_c)], swing,
                     low_cut=False)
         amp = float(f.amplitude[0]) if f.reached[0] else 0.0
-    f_sig = 1e4
-    per = 1.0 / f_sig
-    with tempfile.TemporaryDirectory(prefix="drawerfit-xcheck-") as tmp:
-        folder = Path(tmp)
-        text = bench(deck, source_ohms=float(spec.get("source_ohms") or 0.0), load_ohms=chain.second.load_ohms,
-                     amplitude_v=amp, signal_hz=f_sig, analyses=())
-        nodes = [n for n in dict.fromkeys(probes.values()) if n != "0"]
-        control = [OPTIONS, ".control", "set wr_singlescale", "op"]
-        if nodes:
-            control.append(f"wrdata {folder / 'op.txt'} " + " ".join(f"v({n})" for n in nodes))
-        control += ["ac lin 1 1e5 1e5", f"wrdata {folder / 'mid.txt'} v(out) v(in) i(vs)",
-                    "ac dec 200 0.01 1e5", f"wrdata {folder / 'sweep.txt'} v(out)"]
-        if amp > 0:
-            control += [f"tran {per / STEPS:.6g} {PERIODS * per:.6g} 0 {per / STEPS:.6g}",
-                        "linearize v(out)", f"wrdata {folder / 'tran.txt'} v(out)"]
-        control += ["quit", ".endc", ".end"]
-        (folder / "bench.cir").write_text(text.replace("\n.end\n", "\n" + "\n".join(control) + "\n"))
-        done = subprocess.run([ngspice, "-b", "bench.cir"], capture_output=True, text=True, timeout=timeout_s,
-                              cwd=tmp)
-        if not (folder / "mid.txt").exists():
-            tail = (done.stdout + done.stderr).strip().splitlines()[-3:]
-            raise RuntimeError("ngspice did not finish: " + " / ".join(tail))
-        out = {}
-        op = _read(folder / "op.txt")[0] if nodes else []
-        for k, n in probes.items():
-            out[k] = 0.0 if n == "0" else float(op[1 + nodes.index(n)])
-        mid = _read(folder / "mid.txt")[0]
-        gain = complex(mid[1], mid[2])
-        out["gain"] = gain.real
-        out["rin"] = (complex(mid[3], mid[4]) / -complex(mid[5], mid[6])).real
-        sweep = _read(folder / "sweep.txt")
-        mag = abs(sweep[:, 1] + 1j * sweep[:, 2])
-        out["f_low"] = _corner_hz(sweep[:, 0], mag, abs(gain))
-        out["thd"] = None
-        if amp > 0 and (folder / "tran.txt").exists():
-            out["thd"] = thd_of_wave(_read(folder / "tran.txt")[:, 1], STEPS, ANALYSED)
-        return out
+    return simulate(ngspice, deck, source_ohms=float(spec.get("source_ohms") or 0.0),
+                    load_ohms=chain.second.load_ohms, amplitude_v=amp, probes=probes, timeout_s=timeout_s,
+                    options=OPTIONS)
 
 
 def crosscheck_chain(design: dict, spec, *, timeout_s: float = 60.0, ngspice: str | None = None) -> CrossCheck:

@@ -111,14 +111,24 @@ def _corner(ngspice: str, deck: str, stage, spec: dict, timeout_s: float) -> dic
     probes = {k: names[n] for k, n in (("vb", "base"), ("ve", "emit"), ("vc", "coll"))}
     swing = float(spec.get("swing_pp") or 0.0)
     amp = drive_for_swing(stage, swing) if swing > 0 else 0.0
+    return simulate(ngspice, deck, source_ohms=float(spec.get("source_ohms") or 0.0), load_ohms=stage.load_ohms,
+                    amplitude_v=amp, probes=probes, timeout_s=timeout_s)
+
+
+def simulate(ngspice: str, deck: str, *, source_ohms: float, load_ohms: float, amplitude_v: float, probes: dict,
+             timeout_s: float, options: str = ".options reltol=1e-6 abstol=1e-12 vntol=1e-9") -> dict:
+    """ngspice's figures for a design deck with a source and load added: the DC voltage at each probe
+    (key → node), midband gain and Rin at 100 kHz, f_low from a sweep, and THD at `amplitude_v` (V
+    peak at the source; 0 = none) from a transient of PERIODS periods at 10 kHz."""
     f_sig = 1e4
     per = 1.0 / f_sig
+    amp = amplitude_v
     with tempfile.TemporaryDirectory(prefix="drawerfit-xcheck-") as tmp:
         folder = Path(tmp)
-        text = bench(deck, source_ohms=float(spec.get("source_ohms") or 0.0), load_ohms=stage.load_ohms,
-                     amplitude_v=amp, signal_hz=f_sig, analyses=())
-        nodes = [n for n in probes.values() if n != "0"]
-        control = [".options reltol=1e-6 abstol=1e-12 vntol=1e-9", ".control", "set wr_singlescale", "op"]
+        text = bench(deck, source_ohms=source_ohms, load_ohms=load_ohms, amplitude_v=amp, signal_hz=f_sig,
+                     analyses=())
+        nodes = [n for n in dict.fromkeys(probes.values()) if n != "0"]
+        control = [options, ".control", "set wr_singlescale", "op"]
         if nodes:
             control.append(f"wrdata {folder / 'op.txt'} " + " ".join(f"v({n})" for n in nodes))
         control += ["ac lin 1 1e5 1e5", f"wrdata {folder / 'mid.txt'} v(out) v(in) i(vs)",
@@ -134,8 +144,7 @@ def _corner(ngspice: str, deck: str, stage, spec: dict, timeout_s: float) -> dic
             tail = (done.stdout + done.stderr).strip().splitlines()[-3:]
             raise RuntimeError("ngspice did not finish: " + " / ".join(tail))
         out = {}
-        if nodes:
-            op = _read(folder / "op.txt")[0]
+        op = _read(folder / "op.txt")[0] if nodes else []
         for k, n in probes.items():
             out[k] = 0.0 if n == "0" else float(op[1 + nodes.index(n)])
         mid = _read(folder / "mid.txt")[0]
@@ -147,8 +156,7 @@ def _corner(ngspice: str, deck: str, stage, spec: dict, timeout_s: float) -> dic
         out["f_low"] = _corner_hz(sweep[:, 0], mag, abs(gain))
         out["thd"] = None
         if amp > 0 and (folder / "tran.txt").exists():
-            wave = _read(folder / "tran.txt")[:, 1]
-            out["thd"] = thd_of_wave(wave, STEPS, ANALYSED)
+            out["thd"] = thd_of_wave(_read(folder / "tran.txt")[:, 1], STEPS, ANALYSED)
         return out
 
 
