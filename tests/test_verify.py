@@ -163,6 +163,26 @@ def test_capacitor_rating_checked_per_part():
     assert found and all("CIN" in f.text or "COUT" in f.text for f in found)
 
 
+def test_pnp_bypass_capacitor_holds_the_supply_less_its_junction():
+    # A PNP stage is the NPN one with ground and the supply swapped, so CE (across RE2) returns to +V and
+    # holds VCC − V(vn): what the NPN twin's CE holds to ground, about 0.7 V here, not V(vn) ≈ 11 V.  On
+    # a 1 V line (80 % = 0.8 V) it must fail as a rating, on a 6.3 V line pass.
+    pnp = Drawer.parse(drawer_text().replace("BC547B,NPN,200,450", "BC557B,PNP,220,475"), "verify-pnp.csv")
+    assert verify_design(GOOD, SPEC, pnp) == []  # the 16/25 V parts of GOOD see under 1 V
+    twin = stage_at(GOOD, SPEC, DRAWER, "min", 0.0)
+    from optimizer.physics.analysis import analyze
+
+    vn_twin = analyze(twin).operating_point["vmid"]
+    for rating, fails in (("1V", True), ("6.3V", False)):
+        low = Drawer.parse(drawer_text().replace("BC547B,NPN,200,450", "BC557B,PNP,220,475")
+                           .replace("capacitor,10u,4,20%,,25V", f"capacitor,10u,4,20%,,{rating}"), "verify-pnp.csv")
+        found = [f for f in failures(GOOD, SPEC, low) if f.check == "rating" and f.text.startswith("CE")]
+        assert bool(found) is fails, (rating, found)
+        for f in found:
+            volts = float(re.search(r"sees ([\d.]+) V DC", f.text).group(1))
+            assert volts == pytest.approx(vn_twin, abs=0.15), (f.text, vn_twin)
+
+
 def test_temperature_corners_are_checked():
     # A spec whose range is 27 °C only has 2 corners; the default range has 6.
     wide = failures(GOOD, replace(SPEC, min_rin_ohms=1e9), DRAWER)
