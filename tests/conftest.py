@@ -7,8 +7,11 @@ a green CI must mean the comparisons really ran.
 
 from __future__ import annotations
 
+import json
 import os
 import shutil
+import subprocess
+import sys
 
 import pytest
 from ortools.sat.python import cp_model
@@ -52,3 +55,17 @@ def drawer_at(tmp_path, monkeypatch):
         return path
 
     return make
+
+
+@pytest.fixture(scope="session")
+def chain_saved(tmp_path_factory):
+    """(JSON document, saved file) of `drawerfit design` run once a session on the chain drawer's CE+EF
+    job (tests/chain_job.py), through the real command line in its own process; shared by
+    tests/test_cli_chain.py and tests/test_app_chain.py, so the chain search runs once for both."""
+    from tests.chain_job import CLI_JOB, DRAWER, LIMIT_S
+
+    path = tmp_path_factory.mktemp("chain") / "chain.json"
+    done = subprocess.run([sys.executable, "-m", "tui", "--inventory", str(DRAWER), *CLI_JOB, "--time-limit",
+                           f"{LIMIT_S:g}", "--json", "--save", str(path)], capture_output=True, text=True, timeout=300)
+    assert done.returncode == 0, done.stderr + done.stdout[-2000:]
+    return json.loads(done.stdout), path

@@ -8,21 +8,22 @@ import shutil
 import pytest
 from textual.widgets import Static
 
-from tests.test_cli_chain import DRAWER, JOB
+from tests.chain_job import DRAWER
 from tui.app import make_app
-from tui.cli import main
 
 pytestmark = pytest.mark.tui
 
 
 @pytest.fixture(scope="module")
-def saved(tmp_path_factory):
+def saved(tmp_path_factory, chain_saved):
+    # The chain `drawerfit design --save` wrote once this session (tests/conftest.py), opened on a
+    # private copy of its drawer.
     folder = tmp_path_factory.mktemp("chain")
     drawer = folder / "drawer.csv"
     shutil.copy(DRAWER, drawer)
-    assert main(["--inventory", str(drawer), *JOB, "--time-limit", "20", "--top", "2", "--save",
-                 str(folder / "chain.json")]) == 0
-    return drawer, folder / "chain.json"
+    path = folder / "chain.json"
+    shutil.copy(chain_saved[1], path)
+    return drawer, path
 
 
 async def test_chain_sheet_shows_both_stages(saved):

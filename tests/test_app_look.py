@@ -113,7 +113,7 @@ def test_saved_file_round_trip_keeps_the_document(tmp_path):
     assert load_saved(save(doc, tmp_path / "d.json")) == json.loads(json.dumps(doc))
 
 
-async def test_open_saved_designs_from_inside_the_app(demo_drawer, tmp_path):
+async def test_open_saved_designs_from_inside_the_app(demo_drawer, tmp_path, monkeypatch):
     from textual.widgets import Label
 
     from tui.screens.open_saved import OpenSavedDialog
@@ -124,6 +124,9 @@ async def test_open_saved_designs_from_inside_the_app(demo_drawer, tmp_path):
     bad.write_text("{}", encoding="utf-8")
     saved = save(trade_doc(), tmp_path / "gain10.json")
     app = make_app(demo_drawer)
+    # The second path is typed relative to the working folder: a path is typed key by key, most of
+    # this test's time, and a relative path is as much a user's as the full one typed first.
+    monkeypatch.chdir(tmp_path)
     async with app.run_test(size=(80, 24)) as pilot:
         await pilot.press("ctrl+o")
         await pilot.pause()
@@ -133,7 +136,7 @@ async def test_open_saved_designs_from_inside_the_app(demo_drawer, tmp_path):
         await pilot.pause()
         assert isinstance(app.screen, OpenSavedDialog)  # refused, the reason shown, the dialog stays
         assert "not a saved design file" in str(app.screen.query_one("#path-error", Label).render())
-        await type_into(pilot, "#path", str(saved))
+        await type_into(pilot, "#path", saved.name)
         await pilot.press("enter")
         await pilot.pause()
         assert isinstance(app.screen, ResultsScreen) and len(app.screen.designs) == 3

@@ -68,15 +68,18 @@ async def write_as(pilot, steps: int, path) -> None:
     await settle(pilot)
 
 
-async def test_md_and_csv_written_from_the_sheet(demo_drawer, tmp_path):
+async def test_md_and_csv_written_from_the_sheet(demo_drawer, tmp_path, monkeypatch):
     doc = trade_doc()
     design = doc["designs"][1]
     app = make_app(demo_drawer)
+    # One path typed in full; the others relative to the working folder (a path is typed key by key,
+    # which is most of these tests' time, and a relative path is as much a user's as a full one).
+    monkeypatch.chdir(tmp_path)
     async with app.run_test(size=(100, 32)) as pilot:
         await open_sheet(pilot, doc, rank=2)
         await write_as(pilot, 2, tmp_path / "sheet.md")
-        await write_as(pilot, 3, tmp_path / "picks.csv")
-        await write_as(pilot, 0, tmp_path / "sheet.html")  # plots drawn with matplotlib in the worker thread
+        await write_as(pilot, 3, "picks.csv")
+        await write_as(pilot, 0, "sheet.html")  # plots drawn with matplotlib in the worker thread
         assert isinstance(app.screen, SheetScreen) and app.is_running
     html = (tmp_path / "sheet.html").read_text(encoding="utf-8")
     assert html.lstrip().lower().startswith("<!doctype html") and "<svg" in html
@@ -91,6 +94,7 @@ async def test_md_and_csv_written_from_the_sheet(demo_drawer, tmp_path):
 
 async def test_the_export_is_in_the_palette_and_a_bad_place_is_said_not_raised(demo_drawer, tmp_path, monkeypatch):
     app = make_app(demo_drawer)
+    monkeypatch.chdir(tmp_path)  # paths typed relative to it: fewer keys (tests/app_fixtures.type_into)
     async with app.run_test(size=(100, 32)) as pilot:
         await open_sheet(pilot, trade_doc())
         await pilot.press("ctrl+p", *"Write out")
@@ -98,7 +102,7 @@ async def test_the_export_is_in_the_palette_and_a_bad_place_is_said_not_raised(d
         await pilot.press("enter")
         await pilot.pause()
         assert isinstance(app.screen, ExportDialog)
-        await type_into(pilot, "#path", str(tmp_path / "no-such-folder" / "s.html"))
+        await type_into(pilot, "#path", "no-such-folder/s.html")
         await pilot.press("enter")
         await pilot.pause()
         assert isinstance(app.screen, ExportDialog)  # stays open, saying why
@@ -109,7 +113,7 @@ async def test_the_export_is_in_the_palette_and_a_bad_place_is_said_not_raised(d
             raise OSError(errno.ENOSPC, "No space left on device")
 
         monkeypatch.setattr(sheet_screen, "atomic_write", full)
-        await type_into(pilot, "#path", str(tmp_path / "s.html"))
+        await type_into(pilot, "#path", "s.html")
         await pilot.press("enter")
         await settle(pilot)
         assert isinstance(app.screen, SheetScreen) and app.is_running
@@ -117,15 +121,16 @@ async def test_the_export_is_in_the_palette_and_a_bad_place_is_said_not_raised(d
     assert list(tmp_path.iterdir()) == [demo_drawer]
 
 
-async def test_a_file_that_exists_is_replaced_only_when_asked_twice(demo_drawer, tmp_path):
+async def test_a_file_that_exists_is_replaced_only_when_asked_twice(demo_drawer, tmp_path, monkeypatch):
     mine = tmp_path / "notes.md"
     mine.write_text("my own notes\n")
     app = make_app(demo_drawer)
+    monkeypatch.chdir(tmp_path)  # paths typed relative to it: fewer keys (tests/app_fixtures.type_into)
     async with app.run_test(size=(100, 32)) as pilot:
         await open_sheet(pilot, trade_doc())
         await pilot.press("w")
         await pilot.pause()
-        await type_into(pilot, "#path", str(mine))
+        await type_into(pilot, "#path", mine.name)
         await pilot.press("enter")
         await pilot.pause()
         assert isinstance(app.screen, ExportDialog)
@@ -133,7 +138,7 @@ async def test_a_file_that_exists_is_replaced_only_when_asked_twice(demo_drawer,
         assert mine.read_text() == "my own notes\n"
         await pilot.press("escape")
         await pilot.pause()
-        await write_as(pilot, 2, mine)  # md; asked once more below
+        await write_as(pilot, 2, mine.name)  # md; asked once more below
         assert isinstance(app.screen, ExportDialog)
         await pilot.press("enter")
         await settle(pilot)

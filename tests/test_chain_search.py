@@ -7,26 +7,14 @@ proven optimal.  A drawer with a single NPN is proven unable to hold a chain."""
 from __future__ import annotations
 
 from collections import Counter
-from pathlib import Path
 
 import pytest
 
 from inventory.drawer import Drawer
 from optimizer.search.select import find_designs
-from optimizer.spec import Spec
+from tests.chain_job import DRAWER, JOBS, solved as solved_job
 from tests.deck_lint import lint
 from tests.helpers.verify_chain import chain_failures
-
-DRAWER = Path(__file__).parent / "data" / "chain_drawer.csv"  # E6-like values, four of each, two 2N3904
-LIMIT_S = 20.0  # a chain needs seconds per stage search; room for a machine shared with other work
-JOBS = {
-    # A follower behind a gain stage drives a 1 kΩ load (common practice: a low-resistance load).
-    "common-emitter+emitter-follower": Spec(topology="common-emitter+emitter-follower", gain=10, source_ohms=1e3,
-                                            load_ohms=1e3, swing_pp=1.0),
-    # A follower in front keeps a 10 kΩ source from losing most of its signal.
-    "emitter-follower+common-emitter": Spec(topology="emitter-follower+common-emitter", gain=10, source_ohms=10e3,
-                                            load_ohms=22e3, swing_pp=1.0),
-}
 
 
 @pytest.fixture(scope="module")
@@ -35,9 +23,9 @@ def drawer():
 
 
 @pytest.fixture(scope="module", params=sorted(JOBS))
-def solved(request, drawer):
-    spec = JOBS[request.param]
-    return spec, find_designs(drawer, spec, time_limit_s=LIMIT_S)
+def solved(request):
+    # Shared with tests/test_chain_search_ngspice.py (tests/chain_job.py): one search per job a session.
+    return JOBS[request.param], solved_job(request.param)
 
 
 def test_every_chain_meets_the_spec_by_an_independent_check(solved, drawer):

@@ -8,19 +8,18 @@ from __future__ import annotations
 import pytest
 
 from inventory.drawer import Drawer
-from optimizer.search.select import find_designs
-from optimizer.spec import Spec
+from tests.chain_job import DRAWER, JOBS, solved
 from tests.helpers.verify_chain import chain_at
 from tests.test_chain_ngspice import DEVIATIONS, simulate, summary  # noqa: F401  (the module's summary fixture)
-from tests.test_cli_chain import DRAWER
 
 pytestmark = pytest.mark.ngspice
-SPEC = Spec(topology="common-emitter+emitter-follower", gain=10, source_ohms=1e3, load_ohms=1e3, swing_pp=1.0)
+SPEC = JOBS["common-emitter+emitter-follower"]
 
 
 @pytest.fixture(scope="module")
 def doc():
-    return find_designs(Drawer.load(DRAWER), SPEC, time_limit_s=20)
+    # The search tests/test_chain_search.py checks too (tests/chain_job.py): one search a session.
+    return solved(SPEC.topology)
 
 
 def test_found_chains_agree_with_ngspice(doc):

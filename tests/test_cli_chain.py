@@ -8,15 +8,12 @@ import json
 import subprocess
 import sys
 import time
-from pathlib import Path
 
 import pytest
 
+from tests.chain_job import CLI_JOB as JOB
+from tests.chain_job import DRAWER
 from tests.deck_lint import lint
-
-DRAWER = Path(__file__).parent / "data" / "chain_drawer.csv"
-JOB = ["design", "--topology", "common-emitter+emitter-follower", "--gain", "10", "--source", "1k", "--load", "1k",
-       "--swing", "1"]
 
 
 def drawerfit(*args):
@@ -24,11 +21,9 @@ def drawerfit(*args):
 
 
 @pytest.fixture(scope="module")
-def saved(tmp_path_factory):
-    path = tmp_path_factory.mktemp("chain") / "chain.json"
-    done = drawerfit("--inventory", str(DRAWER), *JOB, "--time-limit", "20", "--json", "--save", str(path))
-    assert done.returncode == 0, done.stderr + done.stdout[-2000:]
-    return json.loads(done.stdout), path
+def saved(chain_saved):
+    # `design --json --save` run once a session through the real command line (tests/conftest.py).
+    return chain_saved
 
 
 @pytest.fixture(scope="module")

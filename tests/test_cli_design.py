@@ -27,6 +27,20 @@ def drawer(tmp_path):
     return path
 
 
+@pytest.fixture(scope="module")
+def designed(tmp_path_factory):
+    """`design JOB --json --save FILE` run once for the module on its own copy of the demo drawer:
+    (the JSON it printed, the text of the file it saved).  The saved file names its drawer lines by
+    content (the fingerprint), so each test builds it on its own fresh copy of the same drawer."""
+    folder = tmp_path_factory.mktemp("designed")
+    path = folder / "drawer.csv"
+    shutil.copy(DEMO, path)
+    saved = folder / "design.json"
+    done = drawerfit("--inventory", str(path), *JOB, "--save", str(saved), "--json")
+    assert done.returncode == 0, done.stderr
+    return json.loads(done.stdout), saved.read_text()
+
+
 def _node_ok(node, unit):
     if "series" in node or "parallel" in node:
         kids = node.get("series", node.get("parallel"))
@@ -34,10 +48,8 @@ def _node_ok(node, unit):
     return set(node) == {"line", unit} and isinstance(node["line"], int)
 
 
-def test_json_shape_and_exit_0(drawer):
-    done = drawerfit("--inventory", str(drawer), *JOB, "--json")
-    assert done.returncode == 0, done.stderr
-    doc = json.loads(done.stdout)
+def test_json_shape_and_exit_0(designed):
+    doc = designed[0]  # exit 0 checked where it is made
     assert set(doc) >= {"designs", "why", "hints"}
     assert 1 <= len(doc["designs"]) <= 3
     for d in doc["designs"]:
@@ -89,11 +101,10 @@ def test_infeasible_exit_3(drawer):
     assert doc["designs"] == [] and doc["why"]
 
 
-def test_save_build_undo_restores_the_file(drawer, tmp_path):
+def test_save_build_undo_restores_the_file(drawer, tmp_path, designed):
     before = drawer.read_bytes()
     saved = tmp_path / "design.json"
-    done = drawerfit("--inventory", str(drawer), *JOB, "--save", str(saved), "--json")
-    assert done.returncode == 0, done.stderr
+    saved.write_text(designed[1])  # what `design --save` wrote (the module's one run)
     doc = json.loads(saved.read_text())
     assert doc["spec"]["gain"] == 10 and doc["fingerprint"]["sha256"]
     done = drawerfit("--inventory", str(drawer), "build", str(saved), "--pick", "1")
@@ -105,9 +116,9 @@ def test_save_build_undo_restores_the_file(drawer, tmp_path):
     assert drawer.read_bytes() == before
 
 
-def test_build_refuses_when_stock_changed(drawer, tmp_path):
+def test_build_refuses_when_stock_changed(drawer, tmp_path, designed):
     saved = tmp_path / "design.json"
-    assert drawerfit("--inventory", str(drawer), *JOB, "--save", str(saved), "--json").returncode == 0
+    saved.write_text(designed[1])  # what `design --save` wrote (the module's one run)
     line = json.loads(saved.read_text())["designs"][0]["uses"][0]["line"]
     assert drawerfit("--inventory", str(drawer), "count", str(line), "0").returncode == 0
     done = drawerfit("--inventory", str(drawer), "build", str(saved))

@@ -14,15 +14,13 @@ import subprocess
 
 import pytest
 
-from inventory.drawer import Drawer
 from optimizer.physics.analysis import analyze
 from optimizer.physics.deck import deck_nodes, design_netlist, stage_of_design
 from optimizer.search.result import spec_json
-from optimizer.search.select import find_designs
 from tests import spice
 from tests.deck_designs import DESIGNS, SPEC
 from tests.deck_lint import lint
-from tests.demo_job import DEMO, JOB
+from tests.demo_job import JOB, solved_top2_depth2
 
 pytestmark = pytest.mark.ngspice
 MIDBAND_HZ = 1e5  # far above every corner of these stages, and the model has no junction capacitance
@@ -70,7 +68,7 @@ def test_hand_made_decks_match_the_analysis(name):
 
 @pytest.fixture(scope="module")
 def demo_doc():
-    return find_designs(Drawer.load(DEMO), JOB, top=2, depth=2, hints=False)
+    return solved_top2_depth2()  # shared with tests/test_design_ngspice.py: one search a session
 
 
 def test_demo_designs_decks_match_the_analysis(demo_doc):

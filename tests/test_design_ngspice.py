@@ -13,18 +13,17 @@ import pytest
 
 from inventory.drawer import Drawer
 from optimizer.physics.netlist import node_names, to_netlist
-from optimizer.search.select import find_designs
 from optimizer.physics.stage import Stage
 from optimizer.physics.transistor import Transistor
 from tests import spice
-from tests.demo_job import DEMO, JOB
+from tests.demo_job import DEMO, JOB, solved_top2_depth2
 
 
 
 @pytest.fixture(scope="module")
 def designs():
-    drawer = Drawer.load(DEMO)
-    return drawer, find_designs(drawer, JOB, top=2, depth=2, hints=False)["designs"]
+    # Shared with tests/test_deck_ngspice.py (tests/demo_job.py): one search a session.
+    return Drawer.load(DEMO), solved_top2_depth2()["designs"]
 
 
 @pytest.mark.ngspice
