@@ -190,7 +190,7 @@ def run_design(args) -> int:
         return 2
     for prob in drawer.errors:
         say(f"warning: {prob} (line left out)")
-    from optimizer.search.select import find_designs  # OR-Tools and scipy load only for a design
+    from optimizer.search.select import find_designs  # the solver's modules load only for a design
 
     from tui.cli import STARTED
 

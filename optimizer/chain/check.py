@@ -5,8 +5,8 @@ transistors at the same temperature), nominal part values.  At each: both transi
 (neither cut off, VCE ≥ --min-vce), the chain's gain with its sign and within the tolerance,
 Rin ≥ the floor, the supply current, f_low ≤ the low cut-off and the passband a decade above it
 within 1 % of midband (optimizer/physics/lowcut.py's rule for one stage, here on the whole chain),
-the asked swing reached at the load without either transistor saturating or cutting off, THD ≤ --max-thd (large-signal solve of the
-whole chain), each capacitor rated for ≥ 1.5 × its DC voltage with a polarised one never reversed,
+the asked swing reached at the load without either transistor saturating or cutting off,
+THD ≤ --max-thd (large-signal solve of the whole chain), each capacitor rated for ≥ 1.5 × its DC voltage with a polarised one never reversed,
 and each transistor within its ratings (PD ≤ 50 % of PD(max), IC ≤ IC(max), VCEO ≥ the supply).
 Resistor dissipation is the stages' own (the stages are AC-coupled, so each stage's DC is its
 own) and was checked by the single-stage search at the same corners.

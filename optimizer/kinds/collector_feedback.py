@@ -95,7 +95,8 @@ def ideal_values(spec, hfe_min, hfe_typ, ic_floor=MIN_IC_A):
 def spec_bounds(sol, spec) -> dict[str, str]:
     """The spec-level bounds that rule out every collector-feedback stage at once, in words, by name."""
     return lim.collect(
-        gain=lim.gain_bound(spec, spec.supply_v - loadline.VCE_SAT_V - spec.swing_pp / 2, "VCC − VCE(sat) − swing/2"),
+        gain=lim.gain_bound(spec, spec.supply_v - loadline.VCE_SAT_V - spec.swing_pp / 2,
+                            "VCC − VCE(sat) − swing/2"),
         current=lim.current_bound(spec), rin=lim.rin_bound(sol, spec, "feedback"))
 
 

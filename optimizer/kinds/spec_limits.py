@@ -36,7 +36,8 @@ def current_bound(spec) -> str | None:
     i_need = spec.swing_pp / (2 * spec.load_ohms)
     if spec.max_supply_a is not None and spec.max_supply_a < i_need:
         return (f"supply current binds: {spec.swing_pp:g} V p-p into {format_resistance(spec.load_ohms)} needs a "
-                f"quiescent current ≥ swing/(2·RL) = {i_need * 1e3:.3g} mA (asked ≤ {spec.max_supply_a * 1e3:.3g} mA)")
+                f"quiescent current ≥ swing/(2·RL) = {i_need * 1e3:.3g} mA "
+                f"(asked ≤ {spec.max_supply_a * 1e3:.3g} mA)")
     return None
 
 

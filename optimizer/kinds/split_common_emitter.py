@@ -130,7 +130,8 @@ def spec_bounds(sol, spec) -> dict[str, str]:
     The emitter sits no lower than the negative rail, so the collector's room is at most the span less
     VCE(sat) and half the swing."""
     return lim.collect(
-        gain=lim.gain_bound(spec, spec.span_v - loadline.VCE_SAT_V - spec.swing_pp / 2, "VCC − VEE − VCE(sat) − swing/2"),
+        gain=lim.gain_bound(spec, spec.span_v - loadline.VCE_SAT_V - spec.swing_pp / 2,
+                            "VCC − VEE − VCE(sat) − swing/2"),
         current=lim.current_bound(spec), rin=lim.rin_bound(sol, spec, "ground"))
 
 

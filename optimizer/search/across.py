@@ -6,9 +6,9 @@ with the rest; within each group the kinds still to go split what is left equall
 finishes early (proven, or nothing to build) hands its time on.  The chain most likely to fit
 (chain/plan.likely_order: a follower in front for a high Rin floor, behind for a low load) goes
 first and gets half of the chains' time: a chain's stage searches need seconds each.  The designs
-found are pooled and the trade-off set is taken again over the pool with the same four counts (tradeoff.py), so a design of one kind that another kind's design beats
-on every count drops out.  Kinds whose own gain limit rules the request out are skipped and
-named.
+found are pooled and the trade-off set is taken again over the pool with the same four counts
+(tradeoff.py), so a design of one kind that another kind's design beats on every count drops out.
+Kinds whose own gain limit rules the request out are skipped and named.
 
 Order: the preference picks the first design as for one kind.  Under the default `balanced`
 preference a design of fewer stages comes before one of more stages (a single stage that meets
