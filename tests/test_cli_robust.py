@@ -297,3 +297,15 @@ def test_drawer_commands_do_not_load_the_physics():
     done = subprocess.run([sys.executable, "-c", code, str(demo)], capture_output=True, text=True, timeout=120,
                           cwd=Path(__file__).resolve().parents[1])
     assert done.stdout.strip().splitlines()[-1] == "[]", done.stderr
+
+
+# `design --help` once ended in "internal error": a "%" in an option's help that argparse reads as a format.
+def test_every_help_page_prints(capsys):
+    from tui.cli import FAMILIES
+
+    assert main(["--help"]) == 0
+    for name in FAMILIES:
+        assert main([name, "--help"]) == 0, name
+        page = capsys.readouterr()
+        assert page.out.startswith("usage: drawerfit"), (name, page.err)
+        assert "internal error" not in page.err

@@ -91,7 +91,7 @@ def register(sub) -> None:
                                                      "at least 1k)")
     p.add_argument("--max-current", metavar="AMPS", help="largest supply current allowed (e.g. 5m)")
     p.add_argument("--max-thd", default=f"{100 * DEFAULT_MAX_THD:g}%", metavar="THD",
-                   help=f"largest THD at the swing: 1%% or 0.01 (default {DEFAULT_MAX_THD:.0%})")
+                   help=f"largest THD at the swing: 1%% or 0.01 (default {DEFAULT_MAX_THD:.0%}%)")
     p.add_argument("--min-vce", default=f"{DEFAULT_MIN_VCE_V:g}", metavar="VOLTS",
                    help=f"least quiescent VCE at every corner (default {DEFAULT_MIN_VCE_V:g} V)")
     t_lo, t_hi = d.temp_range_c
