@@ -38,18 +38,26 @@ CAP_POSITIONS = ("CIN", "COUT", "CE")
 GRID_CHUNK = 200_000  # value combinations tested per call
 
 
-def dc_across(topology, row) -> dict[str, float]:
-    """Largest DC voltage (V, magnitude) across each capacitor over the row's corners.
+def dc_across(topology, rows) -> dict:
+    """Largest DC voltage (V, magnitude) across each capacitor over the rows' corners.
 
-    On one positive supply every capacitor's stage side is the higher; on split supplies it may sit
-    below ground (a base or emitter one VBE down), and the rating must cover the magnitude.  CE's +
-    faces +V in a PNP stage: its DC is then VCC − VN, the mirror frame's VN.
+    rows: one row (dict of scalars; a float per position back) or n rows (dict of (n,) columns;
+    an (n,) array per position back).  On one positive supply every capacitor's stage side is the
+    higher; on split supplies it may sit below ground (a base or emitter one VBE down), and the
+    rating must cover the magnitude.  CE's + faces +V in a PNP stage: its DC is then VCC − VN, the
+    mirror frame's VN.
     """
-    v = dict(kinds.get(topology).cap_nodes)
-    v.setdefault("CE", "vn")  # rows of kinds without CE still answer for it (a 0 V node)
-    real = polarity.row_volts  # CIN, COUT: a PNP row's node voltages are mirrored about the supply
-    return {p: max(abs(float(row[f"{c}_{k}"])) if p == "CE" else abs(real(row, k, c)) for c in corner_names(row))
-            for p, k in v.items()}
+    nodes = dict(kinds.get(topology).cap_nodes)
+    nodes.setdefault("CE", "vn")  # rows of kinds without CE still answer for it (a 0 V node)
+    corners = corner_names(rows)
+    out = {}
+    for p, k in nodes.items():
+        v = np.array([rows[f"{c}_{k}"] for c in corners], dtype=float)  # [corner] or [corner, row]
+        if p != "CE":  # CIN, COUT: a PNP row's node voltages are mirrored about the supply
+            v = polarity.row_volts(rows, v)
+        top = np.abs(v).max(axis=0)
+        out[p] = float(top) if top.ndim == 0 else top
+    return out
 
 
 @dataclass(frozen=True)
@@ -71,9 +79,19 @@ def positions_for(row, spec=None) -> tuple[str, ...]:
     return pos[1:] if getattr(spec, "dc_input", False) else pos
 
 
+def rated_for(voltage_v: np.ndarray, vdc) -> np.ndarray:
+    """Which ratings `voltage_v` (V, [options]) stand `vdc` (V across the part) with the margin.
+
+    vdc: one value ([options] back) or one per row ([rows, options] back); no DC (0 V) takes every
+    rating.
+    """
+    need = np.asarray(vdc, dtype=float)[..., None] * CAP_VOLTAGE_MARGIN
+    return (voltage_v >= need) | ~(need > 0)
+
+
 def usable(options, vdc: float) -> np.ndarray:
-    need = vdc * CAP_VOLTAGE_MARGIN
-    return np.flatnonzero(options.voltage_v >= need) if need > 0 else np.arange(len(options))
+    """Indices of the options rated for `vdc` (V) across them."""
+    return np.flatnonzero(rated_for(options.voltage_v, vdc))
 
 
 def _distinct_values(options):
@@ -307,21 +325,16 @@ def fewest_parts_many(topology, rows: dict, spec, options, stock_qty: np.ndarray
         return out
     values, volts = options.value[single], options.voltage_v[single]
     qty = np.asarray(stock_qty, dtype=np.int64)[options.members[single, 0]]
-    nodes = dict(kinds.get(topology).cap_nodes)
-    corners = corner_names(rows)
+    nodes = kinds.get(topology).cap_nodes
     has_ce = rows["RE2"] > 0 if "RE2" in rows else np.zeros(n, dtype=bool)
-    mirror = np.asarray(rows.get("mirror_v", np.zeros(n)), dtype=float)
-    rated, needs, ok = {}, {}, np.ones(n, dtype=bool)  # rated[p]: (n, options) bool
+    vdc = dc_across(topology, rows)
+    rated, across, ok = {}, {}, np.ones(n, dtype=bool)  # rated[p]: (n, options) bool; across[p]: (n,) V
     for p in CAP_POSITIONS:
         present = has_ce if p == "CE" else np.ones(n, dtype=bool)
         if p not in nodes or (p == "CIN" and getattr(spec, "dc_input", False)) or not present.any():
             continue
-        v = np.stack([np.asarray(rows[f"{c}_{nodes[p]}"], dtype=float) for c in corners])
-        if p != "CE":
-            v = np.where(mirror != 0, mirror - v, v)  # real polarity, as dc_across reads it
-        need = np.abs(v).max(axis=0) * CAP_VOLTAGE_MARGIN
-        rated[p] = ((volts[None, :] >= need[:, None]) | (need[:, None] <= 0)) & present[:, None]
-        needs[p] = need
+        rated[p] = rated_for(volts, vdc[p]) & present[:, None]
+        across[p] = vdc[p]
         ok &= ~present | rated[p].any(axis=1)
     if not ok.any():
         return out
@@ -341,10 +354,10 @@ def fewest_parts_many(topology, rows: dict, spec, options, stock_qty: np.ndarray
             for b in range(a + 1, len(names)):
                 same = tup[names[a]] == tup[names[b]]
                 held &= ~same | _enough(values, volts, qty, tup[names[a]],
-                                        np.maximum(needs[names[a]], needs[names[b]]), 2)
+                                        np.maximum(across[names[a]], across[names[b]]), 2)
         if len(names) == 3:
             same = (tup[names[0]] == tup[names[1]]) & (tup[names[0]] == tup[names[2]])
-            held &= ~same | _enough(values, volts, qty, tup[names[0]], np.maximum.reduce(list(needs.values())), 3)
+            held &= ~same | _enough(values, volts, qty, tup[names[0]], np.maximum.reduce(list(across.values())), 3)
         return held
 
     def tuple_of(sel):  # the positions a row fits, as (n,) arrays; inf where the row has none
@@ -368,7 +381,7 @@ def fewest_parts_many(topology, rows: dict, spec, options, stock_qty: np.ndarray
     return out
 
 
-def _enough(values, volts, qty, value, need, k) -> np.ndarray:
-    """Per row: ≥ k single parts of `value` (F) on lines rated for `need` (V)?"""
-    avail = (values[None, :] == value[:, None]) & ((volts[None, :] >= need[:, None]) | (need[:, None] <= 0))
+def _enough(values, volts, qty, value, vdc, k) -> np.ndarray:
+    """Per row: ≥ k single parts of `value` (F) on lines rated for `vdc` (V across them)?"""
+    avail = (values[None, :] == value[:, None]) & rated_for(volts, vdc)
     return (avail * qty[None, :]).sum(axis=1) >= k

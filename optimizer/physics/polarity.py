@@ -129,12 +129,17 @@ def ce_return(transistor) -> str:
     return "the supply (+V)" if is_pnp(transistor) else "ground"
 
 
-def row_volts(row: dict, key: str, corner: str):
-    """A screened row's DC voltage at one corner in real polarity (rows carry `mirror_v`: the
-    supply for PNP rows, absent or 0 for NPN rows)."""
-    v = float(row[f"{corner}_{key}"])
-    vcc = float(row.get("mirror_v", 0.0) or 0.0)
-    return vcc - v if vcc else v
+def row_volts(rows: dict, volts):
+    """Screened rows' mirror-frame DC node voltages `volts` (V) in real polarity.
+
+    rows: one row (dict of scalars) or n rows (dict of (n,) columns); volts: that row's value(s) or
+    arrays whose last axis is the n rows.  Rows carry `mirror_v`: the supply for PNP rows, absent,
+    None or 0 for NPN rows."""
+    vcc = rows.get("mirror_v")
+    if vcc is None:
+        return np.asarray(volts, dtype=float)
+    vcc = np.asarray(vcc, dtype=float)
+    return np.where(vcc != 0, vcc - volts, volts)
 
 
 def mirror_column(transistor, supply_v, n: int) -> np.ndarray:
