@@ -1,8 +1,8 @@
 """Saved chain design files for the sheet and app tests, without a search: one design of each chain
 kind, made of our own hand-picked values (tests/chain_designs.py, some positions made up as series
 and parallel networks), written by the production code (optimizer.chain.result.design_json on a
-Candidate whose verdict is optimizer.chain.check.check_chain's) with the spec and the stock
-fingerprint `design --save` writes.  Each kind's file also holds the drawer it was made from.
+Candidate whose verdict is optimizer.chain.check.check_chain's and yield chain_yield's) with the spec
+and the stock fingerprint `design --save` writes.  Each kind's file also holds the drawer it was made from.
 """
 
 from __future__ import annotations
@@ -15,7 +15,7 @@ from types import SimpleNamespace
 from optimizer.chain.analysis import analyze_chain
 from optimizer.chain.check import check_chain
 from optimizer.chain.circuit import Chain
-from optimizer.chain.result import design_json
+from optimizer.chain.result import chain_yield, design_json, tolerances
 from optimizer.chain.search import Candidate
 from optimizer.physics.stage import Stage
 from optimizer.search.candidates import usable_transistors
@@ -130,7 +130,8 @@ def chain_document(kind: str, drawer, drawer_path: Path) -> dict:
     cand = Candidate(chain, (SimpleNamespace(q=q1), SimpleNamespace(q=q2)), parts, uses, ratings)
     cand.verdict = check_chain(chain, spec, q1, q2, ratings)
     locations = {p.line: p.location for p in drawer.parts}
-    design = design_json(cand, spec, labels=("balanced",), locations=locations)
+    yld, mc = chain_yield(cand, spec, tolerances(drawer.resistor_stock()).get)
+    design = design_json(cand, spec, labels=("balanced",), locations=locations, mc=mc, yld=yld)
     doc = {"designs": [design], "why": [], "hints": [], "spec": spec_json(spec), "inventory": str(drawer_path),
            "status": "found", "optimal": False, "unexplored": "hand-made chain for the sheet tests"}
     doc["fingerprint"] = fingerprint(drawer, [u["line"] for u in design["uses"]])

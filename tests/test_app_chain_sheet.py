@@ -52,6 +52,10 @@ async def test_chain_sheet_lists_both_stages(saved, kind):
         title = str(app.screen.query_one(".section-title", Label).render())
         predicted = str(app.screen.query_one("#predicted", Static).render())
         meter = str(app.screen.query_one("#meter", Static).render())
+        histograms = len(app.screen.query("#histogram"))
+    # The chain's Monte Carlo: its yield beside the figures and its gain histogram, as for one stage
+    # (the panel said "none for chains yet" before chains had one).
+    assert f"{'Yield (Monte Carlo)':<20} {figures.percent(design['yield'])}" in predicted and histograms == 1
     # Every physical part of both stages, with its drawer line and place.
     expected = []
     for pos, part in design["parts"].items():

@@ -8,13 +8,16 @@ from __future__ import annotations
 
 from collections import Counter
 
+import numpy as np
 import pytest
 
 from inventory.drawer import Drawer
+from optimizer.chain.montecarlo import chain_monte_carlo, networks_from_parts
+from optimizer.search.result import MC_KEPT, MC_SAMPLES, MC_SEED
 from optimizer.search.select import find_designs
-from tests.chain_job import DRAWER, JOBS, solved as solved_job
+from tests.chain_job import DRAWER, JOBS, LIMIT_S, solved as solved_job
 from tests.deck_lint import lint
-from tests.helpers.verify_chain import chain_failures
+from tests.helpers.verify_chain import chain_at, chain_failures
 
 
 @pytest.fixture(scope="module")
@@ -65,6 +68,40 @@ def test_the_document_is_honest_and_has_stages(solved):
         # The chain's gain is the product of its stages' (each stage's gain as the chain sees it).
         g1, g2 = (s["predicted"]["gain"] for s in d["stages"])
         assert g1 * g2 == pytest.approx(d["predicted"]["gain"], rel=1e-9)
+
+
+def test_every_chain_has_a_monte_carlo_yield(solved, drawer):
+    """As a single stage's: "yield" a share, "mc" the same shape; the yield is the share of the chain's
+    samples meeting the spec, with the chain rebuilt from the drawer lines the design names and each
+    part's tolerance read from its line (the JSON's seed and count)."""
+    spec, doc = solved
+    tolerance = {p.line: p.tolerance for p in drawer.parts}.get
+    for d in doc["designs"]:
+        assert 0.0 <= d["yield"] <= 1.0
+        mc_doc = d["mc"]
+        assert set(mc_doc) == {"gain", "n", "seed"} and (mc_doc["n"], mc_doc["seed"]) == (MC_SAMPLES, MC_SEED)
+        assert len(mc_doc["gain"]) == min(MC_KEPT, MC_SAMPLES)
+        ch = chain_at(d, spec, drawer, d["hfe"]["typical"], d["hfe_b"]["typical"])
+        mc = chain_monte_carlo(ch, networks_from_parts(d["parts"], tolerance), temp_range_c=spec.temp_range_c,
+                               n=mc_doc["n"], seed=mc_doc["seed"])
+        assert mc.share_meeting(spec) == d["yield"]
+        np.testing.assert_allclose(mc.gain[:len(mc_doc["gain"])], mc_doc["gain"], rtol=1e-12)
+        # Every corner meets the gain with nominal parts, so the typical build does too.
+        assert spec.gain * (1 - spec.gain_tol) <= abs(float(np.median(mc.gain))) <= spec.gain * (1 + spec.gain_tol)
+
+
+@pytest.mark.slow  # a chain search of its own (LIMIT_S)
+def test_min_yield_turns_down_the_chains_below_it(drawer):
+    kind = "common-emitter+emitter-follower"
+    above = max(d["yield"] for d in solved_job(kind)["designs"]) + 0.001  # every chain the plain run showed fails
+    doc = find_designs(drawer, JOBS[kind], time_limit_s=LIMIT_S, min_yield=above)
+    assert all(d["yield"] >= above for d in doc["designs"])
+    if not doc["designs"]:
+        assert doc["status"] == "unproven"
+        said = [w for w in doc["why"] if w.startswith(f"--min-yield {above:g}: the best Monte Carlo yield")]
+        # Spelled to 0.1 %, so it may round up to the asked share but never past it.
+        assert said and float(said[0].rsplit(" ", 1)[1].rstrip("%")) / 100 <= above
+        assert any("Monte Carlo yield was below --min-yield" in w for w in doc["why"])
 
 
 def test_a_single_npn_cannot_make_a_chain(tmp_path):

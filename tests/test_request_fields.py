@@ -92,3 +92,12 @@ def test_command_line_options_from_the_same_list():
     assert spec.temp_range_c == (10.0, 40.0) and search["prefer"] == "clean" and search["time_limit_s"] == 3
     _, _, problems = rf.from_arguments(parser.parse_args(["--load", "22q"]))
     assert rf.BY_NAME["load"].option == "--load" and "22q" in problems["load"]
+
+
+def test_a_chain_takes_a_min_yield():
+    """Chains have a Monte Carlo yield (optimizer/chain/montecarlo.py), so Min yield is a constraint
+    for them as for one stage, not a problem of the request."""
+    spec, search, problems = rf.build_request({"min_yield": "80%", "min_rin": "100k"},
+                                              {"topology": "common-emitter+common-emitter"})
+    assert problems == {} and spec.topology == "common-emitter+common-emitter"
+    assert search["min_yield"] == pytest.approx(0.8)

@@ -201,7 +201,12 @@ def test_html_parses_and_is_self_contained(chains, kind):
     parser.feed(text)
     parser.close()
     assert parser.errors == [] and parser.stack == []
-    assert text.startswith("<!DOCTYPE html>") and text.count("<svg") == 3  # two stages, the response
+    # Two stages, the response and the gain histogram of the chain's Monte Carlo (chains had no
+    # histogram, so three drawings, while they had no yield).
+    assert text.startswith("<!DOCTYPE html>") and text.count("<svg") == 4
+    assert "<h2>Response and spread</h2>" in text
+    y = chains[kind]["design"]["yield"]
+    assert "Monte Carlo yield of the whole chain" in text and f"{100 * y:.1f} %" in text
     assert not re.search(r"<script|<link|\ssrc=|url\((?!#)|https?://(?!www\.w3\.org)", text)
     for heading in ("Schematic", "Stages", "Pick list (by drawer location)", "Meter checks",
                     "Predicted figures of the whole chain", "Safety"):

@@ -290,8 +290,6 @@ def build_request(texts: dict[str, str], choices: dict[str, object]) -> tuple[Sp
     spec = Spec(**spec_kw)
     by_option = {f.option: f.name for f in FIELDS}
     found = spec.problems()
-    if spec.topology in CHAINS and search_kw.get("min_yield") is not None:
-        found.append("--min-yield: a chain has no Monte Carlo yield yet; leave Min yield empty for chains")
     for problem in found:
         option, _, text = problem.partition(": ")
         name = by_option.get(option, "")

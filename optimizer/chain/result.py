@@ -6,6 +6,10 @@ Each design keeps the keys every reader knows ("parts", "predicted", "uses", "at
 the interstage capacitor.  "predicted" is the whole chain's (gain from the source EMF to the load,
 Rin, Rout, f_low, swing, THD), with VB, VE, VC and IC of Q1; each stage's own are in "stages".
 "at_hfe" gives the chain with both transistors at their hFE min, and both at their max.
+"yield" and "mc" are the single stage's (search/result.py): the share of Monte Carlo samples of the
+whole chain (chain/montecarlo.py: every part within its tolerance, each transistor's hFE over its
+line's range and its VBE spread, one temperature per sample over the spec's range) meeting the
+spec's gain, Rin, swing and current, and the first of the gain samples.
 """
 
 from __future__ import annotations
@@ -16,11 +20,12 @@ from dataclasses import replace
 from optimizer.chain.analysis import analyze_chain
 from optimizer.chain.check import corners as chain_corners
 from optimizer.chain.deck import chain_netlist
+from optimizer.chain.montecarlo import chain_monte_carlo, networks_from_parts
 from optimizer.chain.search import CHECK_S, search_chain
 from optimizer.physics.analysis import _plain
 from optimizer.physics.polarity import is_pnp
 from optimizer.search.candidates import usable_transistors
-from optimizer.search.result import spec_json
+from optimizer.search.result import MC_SAMPLES, MC_SEED, mc_json, spec_json
 
 ORIENTATION_NODES = {"in": "the input", "x": "the first stage's output", "out": "the output", "0": "ground",
                      "base1": "Q1's base", "emit1": "Q1's emitter", "coll1": "Q1's collector",
@@ -38,8 +43,21 @@ def _at(chain, bf1, bf2, swing_pp):
     return analyze_chain(c, swing_pp)
 
 
-def design_json(cand, spec, *, labels=(), locations=None) -> dict:
-    """One entry of "designs" for a chain Candidate (search.py)."""
+def chain_yield(cand, spec, tolerance_of, *, n=MC_SAMPLES, seed=MC_SEED):
+    """(share of samples meeting `spec`, the MonteCarlo) of a chain Candidate; tolerance_of(line) is
+    each resistor line's tolerance (fraction)."""
+    mc = chain_monte_carlo(cand.chain, networks_from_parts(cand.parts, tolerance_of),
+                           temp_range_c=spec.temp_range_c, n=n, seed=seed)
+    return mc.share_meeting(spec), mc
+
+
+def tolerances(rstock) -> dict:
+    """line → tolerance (fraction) of every resistor line in stock."""
+    return {int(line): float(tol) for line, tol in zip(rstock.line, rstock.tolerance, strict=True)}
+
+
+def design_json(cand, spec, *, labels=(), locations=None, mc=None, yld=None) -> dict:
+    """One entry of "designs" for a chain Candidate (search.py); `mc`, `yld` from `chain_yield`."""
     ch = cand.chain
     h1, h2 = cand.halves
     report = analyze_chain(ch, spec.swing_pp if spec.swing_pp > 0 else None)
@@ -77,12 +95,12 @@ def design_json(cand, spec, *, labels=(), locations=None) -> dict:
         "hfe_b": {"min": h2.q.transistor.hfe_min, "typical": h2.q.transistor.bf, "max": h2.q.transistor.hfe_max},
         "score": {"parts": cand.part_count, "thd": None if v is None else v.thd,
                   "robustness": None if v is None else v.robustness, "supply_a": None if v is None else v.supply_a},
-        "yield": None,
+        "yield": None if yld is None else float(yld),
         "warnings": report.warnings,
         "cautions": cautions,
         "locations": {str(u["line"]): (locations or {}).get(u["line"], "") for u in uses},
         "response": {"freq_hz": report.response["freq_hz"], "gain_db": report.response["gain_db"]},
-        "mc": None,
+        "mc": mc_json(mc),
         "best_for": list(labels),
         "corners": corners,
         "netlist": chain_netlist(ch, parts),
@@ -91,14 +109,15 @@ def design_json(cand, spec, *, labels=(), locations=None) -> dict:
 
 
 def find_chain_designs(drawer, spec, *, top=5, depth=2, progress=None, cancel=None, hints=True, prefer="balanced",
-                       time_limit_s=10.0, min_yield=None) -> dict:
-    """The result document for a chain spec (select.find_designs hands chain topologies here)."""
+                       time_limit_s=10.0, min_yield=None, seed=None) -> dict:
+    """The result document for a chain spec (select.find_designs hands chain topologies here).
+
+    min_yield: a chain whose Monte Carlo yield (seed `seed`, default MC_SEED) is below it is not
+    taken, as for a single stage."""
     doc = {"designs": [], "why": [], "hints": [], "spec": spec_json(spec),
            "inventory": str(getattr(drawer, "path", "") or ""), "status": "unproven", "optimal": False,
            "unexplored": None}
     problems = spec.problems()
-    if min_yield is not None:  # not silently dropped: a chain has no Monte Carlo yield yet
-        problems.append("--min-yield: a chain has no Monte Carlo yield yet; leave --min-yield out for chains")
     if problems:
         doc.update(why=problems, error="spec", status="invalid")
         return doc
@@ -115,11 +134,23 @@ def find_chain_designs(drawer, spec, *, top=5, depth=2, progress=None, cancel=No
         qlines = [q for q in qlines if not is_pnp(q.transistor)]
         notes = notes + [f"{len(pnp)} PNP line(s) left out: chains are NPN-only for now"]
     locations = {p.line: p.location for p in drawer.parts}
+    rstock = drawer.resistor_stock()
+    tolerance = tolerances(rstock).get
+    mc_seed = MC_SEED if seed is None else int(seed)
+    seen_yields = []  # the yield of every chain that met the spec and was sampled for --min-yield
+
+    def accept(cand) -> bool:
+        # Only the yield is kept (a long search turns many chains down); a chain shown is sampled
+        # again with the same seed, which gives the same samples (a few ms).
+        y, _ = chain_yield(cand, spec, tolerance, seed=mc_seed)
+        seen_yields.append(y)
+        return y >= min_yield
+
     # While no chain is in hand, the search may go on until one chain's analysis is all the limit has left.
     empty = None if limit is None else t0 + limit - POST_S_PER_DESIGN - SEARCH_WIND_UP_S - CHECK_S
-    sol = search_chain(drawer.resistor_stock(), drawer.capacitor_stock(), qlines, spec, depth=depth,
+    sol = search_chain(rstock, drawer.capacitor_stock(), qlines, spec, depth=depth,
                        deadline=deadline, cancel=cancel, progress=progress, prefer=prefer, top=top,
-                       empty_deadline=empty)
+                       empty_deadline=empty, accept=accept if min_yield is not None else None)
     doc["search"] = {"seconds": round(sol.seconds, 3), "exhaustive": False, "depth": depth, "prefer": prefer,
                      "time_limit_s": limit, "stopped_by": sol.stopped_by,
                      "first_design_s": None if sol.first_design_s is None else round(sol.first_design_s, 3),
@@ -130,13 +161,18 @@ def find_chain_designs(drawer, spec, *, top=5, depth=2, progress=None, cancel=No
             doc["why"].append(f"{len(sol.shown) - k} more chain(s) of the trade-off set left out to keep the "
                               f"{limit:g} s limit")
             break
-        doc["designs"].append(design_json(cand, spec, labels=labels, locations=locations))
+        y, mc = chain_yield(cand, spec, tolerance, seed=mc_seed)
+        doc["designs"].append(design_json(cand, spec, labels=labels, locations=locations, mc=mc, yld=y))
     if doc["designs"]:
         doc["unexplored"] = sol.unexplored
         doc["status"] = "found"
         doc["why"] = notes + doc["why"]
     else:
         doc["why"] = sol.why + _reasons(sol, spec) + notes
+        if min_yield is not None and seen_yields:
+            best = max(seen_yields)
+            doc["why"].append(f"--min-yield {min_yield:g}: the best Monte Carlo yield among chains meeting "
+                              f"the spec is {best:.1%}")
         doc["hints"] = list(sol.hints) if hints else []
         doc["status"] = "infeasible" if sol.proven_none else "unproven"
         doc["unexplored"] = None if sol.proven_none else sol.unexplored
@@ -156,7 +192,8 @@ LIMIT_WORDS = {"gain": "the chain's gain left its tolerance at some corner",
                "vce": "a transistor's VCE fell below --min-vce at some corner",
                "bias": "a transistor was cut off or saturated at some corner",
                "current": "the supply current was over --max-current at some corner",
-               "ratings": "a capacitor or transistor rating was exceeded at some corner"}
+               "ratings": "a capacitor or transistor rating was exceeded at some corner",
+               "yield": "the chain's Monte Carlo yield was below --min-yield"}
 
 
 def _reasons(sol, spec) -> list[str]:

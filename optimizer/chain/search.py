@@ -124,11 +124,13 @@ def _join(kind, spec, h1: Half, h2: Half, index) -> Candidate:
 
 
 def search_chain(rstock, cstock, qlines, spec, *, depth=2, deadline=None, cancel=None, progress=None,
-                 prefer="balanced", top=5, empty_deadline=None) -> ChainSolution:
+                 prefer="balanced", top=5, empty_deadline=None, accept=None) -> ChainSolution:
     """The chains found for `spec` (spec.topology a chain kind) within `deadline` (perf_counter).
 
     empty_deadline (later than deadline): when the search stops while no chain has met the spec yet;
-    the time `deadline` keeps for analysing the chains shown is not needed for them then."""
+    the time `deadline` keeps for analysing the chains shown is not needed for them then.
+    accept(Candidate) -> bool, if given, is one more test a chain meeting the spec must pass (the
+    Monte Carlo yield); a chain it turns down counts as failing "yield"."""
     t0 = time.perf_counter()
     kind = spec.topology
     sol = ChainSolution(spec, started=t0)
@@ -160,7 +162,7 @@ def search_chain(rstock, cstock, qlines, spec, *, depth=2, deadline=None, cancel
             share = 0.6 if k + 1 < len(splits) and left > SPLIT_MIN_S else 1.0
             slot_end = time.perf_counter() + left * share
             _one_split(kind, spec, split, floor2, rstock, cstock, qlines, depth, slot_end, cancel, sol, seen, progress,
-                       patience, end_now)
+                       patience, end_now, accept)
         if sol.stopped_by == "cancelled":
             break
     if sol.stopped_by is None and deadline is not None and time.perf_counter() >= end_now():
@@ -255,7 +257,7 @@ def _run_stage(rstock, cstock, qlines, spec, depth, end, cancel, sol, patience=S
 
 
 def _one_split(kind, spec, split, floor2, rstock, cstock, qlines, depth, end, cancel, sol, seen, progress,
-               patience=STAGE_PATIENCE_S, end_now=None):
+               patience=STAGE_PATIENCE_S, end_now=None, accept=None):
     index, spec_a = first_plan(spec, kind, split, floor2)
     start = time.perf_counter()
     span = max(end - start, 0.0)
@@ -294,7 +296,9 @@ def _one_split(kind, spec, split, floor2, rstock, cstock, qlines, depth, end, ca
             cand = _join(kind, spec, pair[0], pair[1], index)
             cand.verdict = check_chain(cand.chain, spec, pair[0].q, pair[1].q, cand.ratings)
             sol.pairs += 1
-            if cand.verdict.ok:
+            if cand.verdict.ok and accept is not None and not accept(cand):
+                sol.failed["yield"] += 1
+            elif cand.verdict.ok:
                 sol.found.append(cand)
                 if sol.first_design_s is None:
                     sol.first_design_s = time.perf_counter() - sol.started

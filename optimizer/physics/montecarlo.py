@@ -80,7 +80,8 @@ class MonteCarlo:
         return float(np.mean(self.meeting(spec)))
 
 
-def _hfe_range(transistor, hfe_min, hfe_max):
+def hfe_range(transistor, hfe_min=None, hfe_max=None) -> tuple[float, float]:
+    """(low, high) hFE a run draws from: the given ends, else the transistor's own spread, else its bf."""
     lo = transistor.hfe_min if hfe_min is None else hfe_min
     hi = transistor.hfe_max if hfe_max is None else hfe_max
     lo = transistor.bf if lo is None else lo
@@ -88,6 +89,28 @@ def _hfe_range(transistor, hfe_min, hfe_max):
     if not 0 < lo <= hi:
         raise ValueError(f"hFE range {lo:g}…{hi:g} is empty or not positive")
     return float(lo), float(hi)
+
+
+def draw_networks(networks: dict, rng, n: int) -> dict:
+    """position → n sampled values (Ω) of each network, part by part, positions in sorted order."""
+    return {pos: network_tree.sample(node, "resistor", rng, n) for pos, node in sorted(networks.items())}
+
+
+def draw_vbe(transistor: Transistor, rng, n: int, vbe_sigma_v: float) -> np.ndarray:
+    """n IS-setting VBE values (V at 1 mA, 27 °C): the nominal one plus a ±3σ-truncated normal spread."""
+    return _vbe_at_1ma(transistor) + _truncated_normal(rng, n, vbe_sigma_v)
+
+
+def screen_samples(topology, r: dict, *, transistor: Transistor, beta, temp_c, vbe_1ma, supply_v, source_ohms,
+                   load_ohms, negative_supply_v=0.0, dc_input=False) -> dict:
+    """The REPORTED figures of one stage for each drawn sample (arrays; load_ohms may be per sample too),
+    with the draws themselves (beta, temp_c, vbe_1ma)."""
+    out = screen(topology, r, transistor=transistor, supply_v=supply_v, source_ohms=source_ohms,
+                 load_ohms=load_ohms, temp_c=temp_c, beta=beta, is_a=is_from_vbe(vbe_1ma),
+                 negative_supply_v=negative_supply_v, dc_input=dc_input)
+    samples = {k: out[k] for k in REPORTED}
+    samples.update(beta=beta, temp_c=temp_c, vbe_1ma=vbe_1ma)
+    return samples
 
 
 def monte_carlo(topology, networks: dict, *, transistor: Transistor, hfe_min=None, hfe_max=None,
@@ -100,16 +123,14 @@ def monte_carlo(topology, networks: dict, *, transistor: Transistor, hfe_min=Non
     Volts, ohms, °C; the same seed gives the same samples.
     """
     rng = np.random.default_rng(seed)
-    lo, hi = _hfe_range(transistor, hfe_min, hfe_max)
-    r = {pos: network_tree.sample(node, "resistor", rng, n) for pos, node in sorted(networks.items())}
+    lo, hi = hfe_range(transistor, hfe_min, hfe_max)
+    r = draw_networks(networks, rng, n)
     beta = rng.uniform(lo, hi, n)
     temp = rng.uniform(temp_range_c[0], temp_range_c[1], n)
-    vbe = _vbe_at_1ma(transistor) + _truncated_normal(rng, n, vbe_sigma_v)
-    out = screen(topology, r, transistor=transistor, supply_v=supply_v, source_ohms=source_ohms,
-                 load_ohms=load_ohms, temp_c=temp, beta=beta, is_a=is_from_vbe(vbe),
-                 negative_supply_v=negative_supply_v, dc_input=dc_input)
-    samples = {k: out[k] for k in REPORTED}
-    samples.update(beta=beta, temp_c=temp, vbe_1ma=vbe)
+    vbe = draw_vbe(transistor, rng, n, vbe_sigma_v)
+    samples = screen_samples(topology, r, transistor=transistor, beta=beta, temp_c=temp, vbe_1ma=vbe,
+                             supply_v=supply_v, source_ohms=source_ohms, load_ohms=load_ohms,
+                             negative_supply_v=negative_supply_v, dc_input=dc_input)
     return MonteCarlo(samples, n, seed)
 
 
@@ -120,7 +141,7 @@ def worst_case(topology, networks: dict, *, transistor: Transistor, hfe_min=None
     """(low, high) of each of `keys` over every vertex of the tolerance box (see the module note)."""
     positions = sorted(networks)
     ends = [network_tree.bounds(networks[p], "resistor") for p in positions]
-    lo, hi = _hfe_range(transistor, hfe_min, hfe_max)
+    lo, hi = hfe_range(transistor, hfe_min, hfe_max)
     v0 = _vbe_at_1ma(transistor)
     axes = ends + [(lo, hi), (v0 - VBE_SIGMA_LIMIT * vbe_sigma_v, v0 + VBE_SIGMA_LIMIT * vbe_sigma_v),
                    tuple(temp_range_c)]

@@ -29,15 +29,12 @@ from optimizer.search import tradeoff
 from optimizer.spec import ANY_TOPOLOGY as ANY  # noqa: F401  (the request's name for "every kind")
 
 
-def usable_kinds(spec, *, min_yield=None) -> tuple[list[str], list[str]]:
+def usable_kinds(spec) -> tuple[list[str], list[str]]:
     """(kinds to search, single stages first, then two-stage chains; notes on those left out and why)."""
     from optimizer.chain.names import CHAINS
 
     use, notes = [], []
     for name in (*kinds.names(), *CHAINS):
-        if name in CHAINS and min_yield is not None:
-            notes.append(f"{name}: left out (a chain has no Monte Carlo yield yet, and --min-yield asks for one)")
-            continue
         # The kind's own limits (its gain, the rails it runs on, a DC-coupled input) say whether it can.
         problems = replace(spec, topology=name).problems()
         if problems:
@@ -83,7 +80,7 @@ def find_any(drawer, spec, *, top, time_limit_s, progress=None, cancel=None, sta
                 "status": "invalid", "optimal": False, "unexplored": None}
     from optimizer.chain.plan import likely_order
 
-    names, notes = usable_kinds(spec, min_yield=kw.get("min_yield"))
+    names, notes = usable_kinds(spec)
     singles = [n for n in names if n in kinds.names()]
     names = singles + likely_order(spec, [n for n in names if n not in singles])
     t0 = time.perf_counter() if started is None else started

@@ -120,10 +120,16 @@ def design_json(sol, choice, row, spec, *, locations=None, mc=None, yld=None, la
     out["score"].update(trade_off_json(row))
     out["corners"] = polarity.real_corners(corners_json(row, spec), spec.supply_v, polarity.is_pnp(q.transistor))
     out["netlist"] = deck.design_netlist(typical, parts, report.capacitors)  # README: the netlist contract
-    if mc is not None:
-        out["mc"] = {"gain": [float(g) for g in np.asarray(mc.samples["gain"])[:MC_KEPT]], "n": int(mc.n),
-                     "seed": int(mc.seed)}
+    out["mc"] = mc_json(mc)
     return out
+
+
+def mc_json(mc) -> dict | None:
+    """The design JSON's "mc": the first MC_KEPT gain samples (for the histogram), n and the seed."""
+    if mc is None:
+        return None
+    return {"gain": [float(g) for g in np.asarray(mc.samples["gain"])[:MC_KEPT]], "n": int(mc.n),
+            "seed": int(mc.seed)}
 
 
 def trade_off_json(row) -> dict:

@@ -657,7 +657,7 @@ def find_designs(drawer, spec, *, top=DEFAULT_TOP, depth=DEFAULT_DEPTH, min_yiel
         if started is not None and time_limit_s is not None:
             time_limit_s = max(0.1 * time_limit_s, time_limit_s - (time.perf_counter() - started))
         return find_chain_designs(drawer, spec, top=top, depth=depth, progress=progress, cancel=cancel, hints=hints,
-                                  prefer=prefer, time_limit_s=time_limit_s, min_yield=min_yield)
+                                  prefer=prefer, time_limit_s=time_limit_s, min_yield=min_yield, seed=seed)
 
     doc = {"designs": [], "why": [], "hints": [], "spec": result.spec_json(spec),
            "inventory": str(getattr(drawer, "path", "") or ""), "status": "unproven", "optimal": False,

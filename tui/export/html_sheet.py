@@ -137,7 +137,8 @@ def render(sheet: Sheet) -> str:
     tail.append("<section><h2>Safety</h2><ul>" + "".join(f"<li>{escape(c)}</li>" for c in cautions(sheet)) +
                 "</ul></section>")
     resp_div = ('<div class="plot">' + resp + "<p>Gain from the source's EMF to the load.</p></div>") if resp else ""
-    if resp and not hist:  # a chain (no Monte Carlo yet): the warnings and cautions beside the response
+    if resp and not hist:  # no Monte Carlo samples kept (a chain saved before chains had a yield): the
+        # warnings and cautions beside the response
         parts.append('<div class="cols"><section><h2>Response</h2>' + resp_div + "</section><div>" + "".join(tail) +
                      "</div></div>")
         tail = []
@@ -174,8 +175,9 @@ def figure_head(sheet: Sheet) -> list[str]:
 def yield_note(sheet: Sheet) -> str:
     if sheet.chain is not None:
         return ("Gain from the source's EMF to the load, Rin at the chain's input, Rout and the swing at the load, "
-                "THD of the whole chain; IC is Q1's. A chain has no Monte Carlo yield yet; every figure was checked "
-                "at each transistor's hFE ends and the temperature range.")
+                "THD of the whole chain; IC is Q1's. Every figure was checked at each transistor's hFE ends and the "
+                "temperature range. Monte Carlo yield of the whole chain (part tolerances, each transistor's hFE and "
+                f"VBE spread, one temperature for both stages): {yield_text(sheet.design)}.")
     return f"Monte Carlo yield (part tolerances, hFE, VBE spread, temperature): {yield_text(sheet.design)}."
 
 

@@ -147,8 +147,7 @@ def _figure_lines(design: dict) -> str:
     if score.get("supply_a") is not None:
         rows.append(("Supply current (max)", figures.amps(score.get("supply_a"))))
     rows += [("Swing margin", figures.volts(score.get("swing_margin_v"))),
-             ("Yield (Monte Carlo)", figures.percent(design.get("yield")) if not design.get("stages")
-             else "none for chains yet"),
+             ("Yield (Monte Carlo)", figures.percent(design.get("yield"))),
              ("Parts", str(score.get("parts", figures.DASH)))]
     return "\n".join(f"  {label:<20} {text}" for label, text in rows)
 
