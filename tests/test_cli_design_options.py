@@ -95,12 +95,12 @@ def test_patience_refuses_nonsense(calls, capsys, text):
 
 def test_a_settled_stop_says_so(calls, capsys):
     DOC["now"] = {**_doc("found", [DESIGN], optimal=False), "search": {"stopped_by": "settled"},
-                  "unexplored": "settled: the designs shown had not changed for 2 s (--patience), so the search "
+                  "unexplored": "settled: the preferred design had not changed for 2 s (--patience), so the search "
                                 "stopped; left: value tuples of 6 to 10 resistor parts"}
     assert main(["design", "--gain", "10"]) == 0
     out = capsys.readouterr().out
     assert "not proven optimal (--patience 0 searches to the time limit)" in out
-    assert "unexplored: settled: the designs shown had not changed for 2 s" in out
+    assert "unexplored: settled: the preferred design had not changed for 2 s" in out
 
 
 @pytest.mark.parametrize(("status", "designs", "code"), [

@@ -38,7 +38,7 @@ def test_a_settled_stop_says_so(settled):
     _, doc = settled
     assert doc["search"]["stopped_by"] == "settled"
     assert doc["optimal"] is False and doc["search"]["exhaustive"] is False
-    assert doc["unexplored"].startswith("settled: the designs shown had not changed for 1e-06 s (--patience)")
+    assert doc["unexplored"].startswith("settled: the preferred design had not changed for 1e-06 s (--patience)")
     assert "resistor parts" in doc["unexplored"]  # and what was left
     assert doc["status"] == "found"  # designs in hand: exit 0, as for any stop with designs
     assert doc["search"]["patience_s"] == 1e-6
@@ -101,3 +101,18 @@ def test_poll_raises_settled_only_when_the_watch_is_quiet():
         with stopwatch.watch():  # a nested watch (realising a design) is never cut short by the rule
             stopwatch.poll()
     assert issubclass(stopwatch.Settled, stopwatch.Stopped)
+
+
+@pytest.mark.parametrize("prefer", ["balanced", "clean"])
+def test_the_patience_runs_from_the_last_change_of_the_preferred_design(prefer):
+    # The clock restarts only when designs[0] (the design --prefer hands over first) changes, not
+    # when another member joins the set.  Read off the full trace of a proven search: the last
+    # entry whose preferred counts differ from the entry before is when the rule last restarted.
+    from optimizer.search import tradeoff
+
+    lines, depth, _ = CASES[0]
+    sol = search(resistors(lines), CAPS, QS, SPEC_CLEAN, top=5, depth=depth, patience=3600.0, prefer=prefer)
+    best = [tuple(c[tradeoff.preference_order(c, prefer)[0]].tolist()) for _, c in sol.front_trace]
+    changes = [t for k, (t, _) in enumerate(sol.front_trace) if k == 0 or best[k] != best[k - 1]]
+    assert sol.last_change_s == pytest.approx(changes[-1], abs=1e-9)
+    assert len(sol.front_trace) > len(changes)  # members the rule ignored did join (else nothing is tested)
