@@ -20,8 +20,8 @@ OPEN_LOAD_OHMS = 1e12  # "no load": the exact solver's stand-in (circuit.OPEN_LO
 PREFERENCES = ("balanced", "parts", "clean", "robust", "frugal")
 DEFAULT_PREFER = "balanced"
 DEFAULT_TIME_LIMIT_S = 10.0
-# The anytime search stops once the designs it shows have not changed for this long (0: run to the
-# proof or the time limit).  Chosen by measurement: tests/bench/settle.py, DEVELOPERS.md.
+# The anytime search stops once the preferred design (designs[0]) has not changed for this long (0: run
+# to the proof or the time limit).  Chosen by measurement: tests/bench/settle.py, DEVELOPERS.md.
 DEFAULT_PATIENCE_S = 0.75
 DEFAULT_TOP = 5  # room for each trade-off label's design
 DEFAULT_DEPTH = 2  # parts per position: single parts, series and parallel pairs

@@ -107,7 +107,7 @@ def register(sub) -> None:
     p.add_argument("--time-limit", default=f"{DEFAULT_TIME_LIMIT_S:g}", metavar="SECONDS",
                    help=f"stop searching after this long and show the best so far (default {DEFAULT_TIME_LIMIT_S:g} s)")
     p.add_argument("--patience", default=f"{DEFAULT_PATIENCE_S:g}", metavar="SECONDS",
-                   help="stop once the designs found have not changed for this long, unproven "
+                   help="stop once the preferred design has not changed for this long, unproven "
                         f"(default {DEFAULT_PATIENCE_S:g} s; 0 = search to the proof or the time limit)")
     p.add_argument("--no-hints", action="store_true", help="skip the shopping hints when nothing fits")
     p.add_argument("--json", action="store_true", help="print the result document as JSON")

@@ -70,28 +70,42 @@ def preferred(c: np.ndarray) -> np.ndarray:
     return c[tradeoff.preference_order(c, "balanced")[0]]
 
 
-def settled_at(trace, patience: float, end: float) -> tuple[float, np.ndarray]:
-    """(search seconds at the rule's stop, the set then) read off a trace of the full run."""
-    for k, (t, c) in enumerate(trace):
-        nxt = trace[k + 1][0] if k + 1 < len(trace) else None
+def watched(c: np.ndarray, watch: str):
+    """What a rule watching `watch` sees of a set: the whole set, or the preferred design alone."""
+    return frozenset(map(tuple, c.tolist())) if watch == "set" else tuple(preferred(c).tolist())
+
+
+def settled_at(trace, patience: float, end: float, watch: str = "preferred") -> tuple[float, np.ndarray]:
+    """(search seconds at the rule's stop, the set then) read off a trace of the full run, for a rule
+    whose clock restarts when what it watches ("set" or "preferred") changes."""
+    changes, last = [], None
+    for t, c in trace:
+        c = np.asarray(c)
+        seen = watched(c, watch)
+        if seen != last:
+            changes.append(t)
+            last = seen
+    for k, t in enumerate(changes):
+        nxt = changes[k + 1] if k + 1 < len(changes) else None
         if nxt is None or nxt - t > patience:
-            return (min(t + patience, end) if nxt is not None else min(t + patience, end)), np.asarray(c)
+            stop = min(t + patience, end)
+            return stop, np.asarray([c for tc, c in trace if tc <= stop][-1])
     return end, np.zeros((0, 4))
 
 
-def report(runs, patiences) -> None:
+def report(runs, patiences, watches=("preferred", "set")) -> None:
     runs = [r for r in runs if r and r["trace"]]
     print(f"\n== the settled rule against the full run: {len(runs)} specs with designs ==")
     ends = [r["seconds"] for r in runs]
     print(f"full run search seconds p50 / p95: {np.percentile(ends, 50):.2f} / {np.percentile(ends, 95):.2f}; "
           f"proven: {sum(r['exhaustive'] for r in runs)}")
-    print(f"{'patience s':>10} {'search p50':>10} {'p95':>6} {'pref differs':>12}   worse where it differs "
+    print(f"{'watching':>9} {'patience s':>10} {'search p50':>10} {'p95':>6} {'pref differs':>12}   worse where it differs "
           f"(mean / max): parts, THD 0.01 %, margin %, current 10 µA   {'full set held':>13}")
-    for p in patiences:
+    for watch, p in [(w, p) for w in watches for p in patiences]:
         stops, differ, worse, held = [], 0, [], []
         for r in runs:
             full = np.asarray(r["trace"][-1][1])
-            t, c = settled_at(r["trace"], p, r["seconds"])
+            t, c = settled_at(r["trace"], p, r["seconds"], watch)
             stops.append(t if not r["exhaustive"] or t < r["seconds"] else r["seconds"])
             a, b = preferred(c), preferred(full)
             if tuple(a) != tuple(b):
@@ -101,7 +115,7 @@ def report(runs, patiences) -> None:
             held.append(np.mean([tuple(x) in have for x in full.tolist()]))
         w = np.asarray(worse) if worse else np.zeros((1, 4))
         cols = "  ".join(f"{m:+.1f}/{x:+d}" for m, x in zip(w.mean(axis=0), w.max(axis=0).astype(int), strict=True))
-        print(f"{p:>10g} {np.percentile(stops, 50):>10.2f} {np.percentile(stops, 95):>6.2f} "
+        print(f"{watch:>9} {p:>10g} {np.percentile(stops, 50):>10.2f} {np.percentile(stops, 95):>6.2f} "
               f"{differ / len(runs):>12.1%}   {cols:<60} {np.mean(held):>12.1%}")
 
 
@@ -113,10 +127,15 @@ def main(argv=None) -> int:
     ap.add_argument("--time-limit", type=float, default=10.0)
     ap.add_argument("--patience", default="0.5,1,1.5,2,3,5")
     ap.add_argument("--json", default="", help="also write the traces to this file")
+    ap.add_argument("--traces", default="", help="report on traces a --json run wrote instead of searching")
     ap.add_argument("--child", type=int, default=None, help=argparse.SUPPRESS)
     a = ap.parse_args(argv)
     if a.child is not None:
         print(json.dumps(child(a.child, a.n, a.seed, a.time_limit)))
+        return 0
+    if a.traces:
+        with open(a.traces) as fh:
+            report(json.load(fh), [float(x) for x in a.patience.split(",")])
         return 0
     runs = []
     chosen = list(range(0, a.n, a.step))
