@@ -78,7 +78,8 @@ def test_app_starts_navigates_and_quits_cleanly(tmux, demo_drawer: Path, tmp_pat
         assert "Stage" in shown and "Minimum Rin" in shown
         term.keys("F5")
         term.wait_for("preferred first", timeout_s=120)
-        shown = term.wait_for("Best for")  # the table may land a frame after the header
+        term.wait_for("Best for")  # the table may land a frame after the header, the plot after it
+        shown = term.wait_for("physical parts")
         assert "Best for" in shown and "physical parts" in shown
         term.keys("Enter")
         shown = term.wait_for("b Take the parts")

@@ -123,7 +123,9 @@ class ResultsScreen(Screen):
         table.add_columns(*COLUMNS)
         for rank, design in enumerate(self.designs, 1):
             table.add_row(*row_of(rank, design), key=str(rank))
-        table.focus()
+        # Focus without scrolling to it: on a short terminal the screen opens at its top, so the
+        # heading and the status (how complete the answer is) are read before the table.
+        table.focus(scroll_visible=False)
 
     def on_data_table_row_highlighted(self, event: DataTable.RowHighlighted) -> None:
         rank = event.cursor_row + 1
