@@ -17,7 +17,7 @@ import numpy as np
 from . import csvfile
 from .csvfile import Record
 from .parts import Part
-from .problems import Problem, shown
+from .problems import Problem, one_of, shown
 from .rows import COLUMNS, REQUIRED, RowReader, identity_key, read_row
 
 
@@ -145,6 +145,18 @@ class Drawer:
     def warnings(self) -> list[Problem]:
         return [p for p in self.problems if not p.is_error]
 
+    def header_fault(self) -> str | None:
+        """Why the header line is no drawer file's header, worded to follow "the header" ("has no qty column",
+        "opens a quote that is never closed"), or None; None too for a file with no header line at all (an
+        empty file: `add` starts one)."""
+        if self.header is None:
+            return None
+        rec = self.records[self.header]
+        if rec.broken:
+            return "opens a quote that is never closed"
+        missing = [name for name in REQUIRED if name not in self.columns]
+        return f"has no {one_of(missing)} column" if missing else None
+
     def part_at(self, line: int) -> Part | None:
         """The valid part on `line` (the record's first physical line), or None."""
         return self._by_line.get(line)
@@ -221,7 +233,7 @@ def _read_header(path: str, rec: Record, problems: list[Problem]) -> dict[str, i
         problems.append(Problem(path, rec.line, rec.broken[0], "", rec.broken[1]))
     missing = [name for name in REQUIRED if name not in columns]
     if missing:
-        names = " and ".join(missing)
+        names = one_of(missing)
         problems.append(Problem(path, rec.line, len(rec.cells) + 1, "", f"the header has no {names} "
                                 f"column (it needs kind, value and qty; found: {', '.join(columns) or 'nothing'})"))
     return columns

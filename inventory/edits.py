@@ -13,7 +13,7 @@ from . import csvfile
 from .drawer import Drawer
 from .journal import Change
 from .parts import Part
-from .rows import identity_key
+from .rows import MAX_QTY, identity_key
 from .values import format_capacitance, format_resistance
 
 
@@ -83,7 +83,12 @@ def change_for(drawer: Drawer, idx: int, before: str | None, after: str | None,
 
 
 def qty_edit(txn: Txn, idx: int, part: Part, qty: int) -> None:
-    """Re-write only the qty cell of record `idx` (every other cell keeps its spelling)."""
+    """Re-write only the qty cell of record `idx` (every other cell keeps its spelling).
+
+    A count past MAX_QTY is refused: written, it would make the line an error line (its qty no count)."""
+    if qty > MAX_QTY:
+        raise StoreError(f"{txn.fresh.path}: line {part.line} would count {qty:,} ({describe(part)}); "
+                         f"a line holds at most {MAX_QTY:,}; nothing was written")
     rec = txn.fresh.records[idx]
     new = csvfile.with_cell(rec, txn.fresh.columns["qty"], str(qty), txn.fresh.dialect.delimiter)
     txn.edits.append(Edit("replace", idx, new.raw, change_for(txn.fresh, idx, rec.raw, new.raw, part.qty, qty)))

@@ -28,13 +28,16 @@ def demo_bytes() -> bytes:
     return resources.files("inventory").joinpath("demo", FILENAME).read_bytes()
 
 
-def find_inventory(cli_path: str | None) -> tuple[Path, str | None]:
+def find_inventory(cli_path: str | None, source: str = "--inventory") -> tuple[Path, str | None]:
     """(path of the drawer file, message for the user or None).
 
     Order: `cli_path`, $DRAWERFIT_INVENTORY, ./drawer.csv, user_data_path("drawerfit")/drawer.csv
-    (created from the demo when missing).
+    (created from the demo when missing).  `source` says where `cli_path` came from, for the message
+    when it does not exist (a saved design's drawer is not an --inventory the user typed).
     """
-    for named, source in ((cli_path, "--inventory"), (os.environ.get(ENV), f"${ENV}")):
+    if cli_path is not None and not str(cli_path).strip():  # `--inventory "$F"` with F unset: not the default drawer
+        raise InventoryNotFound(f"{source}: the file name is empty")
+    for named, source in ((cli_path, source), (os.environ.get(ENV), f"${ENV}")):
         if named:
             path = Path(named).expanduser()
             if not path.is_file():

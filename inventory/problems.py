@@ -38,3 +38,8 @@ def shown(text: str) -> str:
     """A cell quoted in a message: escaped, and cut if long."""
     text = printable(text)
     return f'"{text if len(text) <= 40 else text[:37] + "..."}"'
+
+
+def one_of(names: list[str]) -> str:
+    """["kind", "qty"] → "kind or qty"; ["kind", "value", "qty"] → "kind, value or qty"."""
+    return names[0] if len(names) == 1 else f"{', '.join(names[:-1])} or {names[-1]}"

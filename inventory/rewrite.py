@@ -30,8 +30,14 @@ def columns_for(txn: Txn, cells: dict[str, str]) -> dict[str, int]:
         names = [c for c in COLUMNS if c in cells or c in ("kind", "value", "qty", "location")]
         txn.edits.append(Edit("insert", len(fresh.records), csvfile.make_raw(names, delim, newline), None))
         return {n: i for i, n in enumerate(names)}
-    columns = dict(fresh.columns)
     old = header = fresh.records[fresh.header]
+    # A header that is not a drawer's (no kind, value or qty; a quote never closed) is not patched: the
+    # file may be another CSV named by mistake, and columns appended after a broken quote read as nothing.
+    fault = fresh.header_fault()
+    if fault:
+        raise StoreError(f"{fresh.path}:{header.line}: not a drawer file: the header {fault}; fix the header "
+                         "first (`drawerfit check` lists every problem); nothing was written")
+    columns = dict(fresh.columns)
     for k in cells:
         if k not in columns:  # a known column the file lacks: append it to the header
             header = csvfile.with_cell(header, len(header.cells), k, delim)

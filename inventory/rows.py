@@ -22,6 +22,7 @@ REQUIRED = ("kind", "value", "qty")
 DEFAULT_TOLERANCE = {"resistor": 0.05, "capacitor": 0.20}
 DEFAULT_POWER_W = 0.25
 _QTY = re.compile(r"[0-9]{1,9}")
+MAX_QTY = 999_999_999  # the largest count a line's qty cell holds (nine digits, _QTY)
 _DECIMAL_COMMA = re.compile(r"(?<=[0-9]),(?=[0-9])")
 
 

@@ -179,7 +179,7 @@ class Spec:
             return [f"--negative-supply: {vee!r} is not a finite number"]
         if vee > 0:
             out.append(f"--negative-supply: {vee:g} V; the negative rail is below ground (e.g. -12)")
-        elif vee < -60 or self.span_v > 60:
+        elif vee < -60 or (vee < 0 and self.span_v > 60):  # one rail over 60 V is --supply's problem alone
             out.append(f"--negative-supply: {vee:g} V; the rails may span at most 60 V")
         if kind is None:
             return out

@@ -3,8 +3,8 @@
 A chain search runs its stage searches until their deadlines (they are not proven), so a solve costs
 most of its time limit (measured on this project's busy 2-core machines: 15-16 s of a 20 s limit):
 the suites that only need *some* chains to check share one solve instead of each running their own.
-With `LIMIT_S` both jobs found their designs in about 5 s (a 6 s limit still found them; at 4 s the
-first stage's search gets no time at all), so it keeps room for a slower machine.
+With `LIMIT_S` both jobs found their designs in about 5 s (a 4 s limit still found them on an idle
+machine), so it keeps room for a slower machine.
 """
 
 from __future__ import annotations

@@ -124,3 +124,14 @@ def test_stock_changed_since_saving_is_exit_1(drawer, tmp_path, capsys):
 def test_a_missing_saved_file_is_exit_2(drawer, tmp_path, capsys):
     assert main(["build", str(tmp_path / "nope.json")]) == 2
     assert "nope.json" in capsys.readouterr().err
+
+
+def test_a_saved_file_whose_drawer_is_gone_names_the_saved_file(drawer, tmp_path, capsys):
+    # The drawer named in the saved file was moved away: the message once blamed "(--inventory)", an option
+    # the user had not given.
+    file = saved(tmp_path, drawer, inventory=str(tmp_path / "moved.csv"))
+    assert main(["build", str(file)]) == 2
+    err = capsys.readouterr().err
+    assert f"moved.csv (the drawer {file} was made from) does not exist" in err and "(--inventory)" not in err
+    assert "--inventory FILE names another drawer" in err
+    assert drawer.read_bytes() == DRAWER

@@ -131,3 +131,16 @@ def test_min_yield_is_a_constraint_for_a_chain():
     assert all(d["yield"] >= 0.9 for d in doc["designs"])
     if not doc["designs"]:
         assert any(w.startswith("--min-yield 0.9: the best Monte Carlo yield among chains") for w in doc["why"])
+
+
+def test_a_short_time_limit_still_searches(capsys):
+    """`design --topology common-emitter+emitter-follower … --time-limit 4` once ended at once (exit 4, "no
+    time was left for this stage's search"): the follower designed first got 30 % of the search time, all
+    of it the 0.8 s a stage search keeps for its wind-up.  Now the stage designed first gets at least its
+    wind-up and half a second (optimizer/chain/search.py: STAGE_MIN_S)."""
+    from tui.cli import main
+
+    main(["--inventory", str(DRAWER), *JOB, "--time-limit", "4", "--json"])
+    doc = json.loads(capsys.readouterr().out)
+    assert doc["search"]["stage_searches"] >= 1, doc["why"]
+    assert not any("no time was left" in w and "emitter-follower stage" in w for w in doc["why"])

@@ -126,3 +126,17 @@ def test_build_refuses_when_stock_changed(drawer, tmp_path, designed):
     assert f"line {line}" in done.stderr
     done = drawerfit("--inventory", str(drawer), "build", str(saved), "--pick", "9")
     assert done.returncode == 2
+
+
+def test_a_search_stopped_early_says_its_limit_plainly_and_claims_no_proof(drawer, capsys):
+    """`design --topology any --gain 10 --swing 11 --time-limit 3` once said "within the 0.635237 s limit" (a
+    kind's share of the limit, unrounded) and, with no tuple screened, that no combination of "the resistors on
+    hand" passes the first checks, next to "not proven impossible"."""
+    from tui.cli import main
+
+    code = main(["--inventory", str(drawer), "design", "--gain", "10", "--swing", "11", "--time-limit", "0.6374",
+                 "--json"])
+    doc = json.loads(capsys.readouterr().out)
+    assert code == 4 and doc["status"] == "unproven", doc["why"]
+    assert any("within the 0.637 s limit" in w for w in doc["why"]), doc["why"]
+    assert not any("the resistors on hand" in w for w in doc["why"]), doc["why"]

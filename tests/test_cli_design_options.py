@@ -170,3 +170,51 @@ def test_json_carries_status_and_optimal(calls, capsys):
     assert main(["design", "--gain", "10", "--json"]) == 4
     doc = json.loads(capsys.readouterr().out)
     assert doc["status"] == "unproven" and doc["optimal"] is False
+
+
+# ---- the crash sweep of a new bench user (each test names the command line it pins) ------------------------------
+
+@pytest.mark.parametrize("text", ["0", "0 V", "0V"])
+def test_min_vce_zero_is_taken(calls, text):
+    # README: `--temp-range 27..27 --max-thd 1 --min-vce 0 --min-rin 0` gives the checks of earlier versions;
+    # `--min-vce 0` was refused as '"0" is not a voltage'.
+    DOC["now"] = _doc("infeasible")
+    assert main(["design", "--gain", "10", "--min-vce", text, "--json"]) == 3
+    assert calls[-1][0].min_vce_v == 0.0
+
+
+def test_min_vce_zero_in_the_apps_request_form_too():
+    from tui import request_fields as rf
+
+    assert rf.BY_NAME["min_vce"].parse("0") == 0.0
+    with pytest.raises(rf.FieldError):
+        rf.BY_NAME["min_vce"].parse("-1")
+
+
+@pytest.mark.parametrize(("argv", "said"), [
+    (["--time-limit", "-1"], '--time-limit: "-1" is below 0'),   # was: "-1" is not a number
+    (["--max-current", "0"], '--max-current: "0": expected a value above 0'),  # was: "0" is not a current
+    (["--swing", "0"], '--swing: "0": expected a value above 0'),
+    (["--supply", "-12"], '--supply: "-12" is below 0'),
+])
+def test_signs_and_zeros_are_said_plainly(calls, capsys, argv, said):
+    assert main(["design", "--gain", "10", *argv]) == 2
+    err = capsys.readouterr().err
+    assert said in err and "is not a" not in err
+    assert calls == []
+
+
+def test_a_supply_over_60_v_blames_the_supply_alone(calls, capsys):
+    # `--supply 61` once also said "--negative-supply: 0 V; the rails may span at most 60 V".
+    assert main(["design", "--gain", "10", "--supply", "61"]) == 2
+    err = capsys.readouterr().err
+    assert "--supply: 61 V" in err and "--negative-supply" not in err
+
+
+@pytest.mark.parametrize("target", ["missing/x.json", ".", ""])
+def test_a_bad_save_target_is_refused_before_the_search(calls, capsys, target):
+    # `--save missing/x.json` once failed only after the whole search (its result lost); `--save ""` saved
+    # nothing and said nothing.
+    assert main(["design", "--gain", "10", "--save", target]) == 2
+    assert capsys.readouterr().err.startswith("drawerfit: --save")
+    assert calls == []

@@ -309,3 +309,42 @@ def test_every_help_page_prints(capsys):
         page = capsys.readouterr()
         assert page.out.startswith("usage: drawerfit"), (name, page.err)
         assert "internal error" not in page.err
+
+
+# ---- saved design files: what a drawer line or a hand edit can put in them ------------------------------------
+
+SAVED = Path(__file__).resolve().parent / "data" / "trade_doc.json"  # a `design --save` document (3 designs)
+
+
+@pytest.mark.parametrize("fmt", ["html", "svg"])
+def test_sheet_of_a_transistor_whose_part_cell_holds_markup_characters(tmp_path, capsys, fmt):
+    # A drawer line `transistor,,5,…,BC547B A&B,NPN,…` once made `sheet --format html|svg` end in "internal
+    # error (ParseError …)": schemdraw reads a label as SVG markup, where a bare & is no text.
+    doc = json.loads(SAVED.read_text())
+    doc["designs"][0]["parts"]["Q1"]["part"] = "BC547B A&B <25> $5"
+    path = tmp_path / "saved.json"
+    path.write_text(json.dumps(doc))
+    assert main(["sheet", str(path), "--format", fmt]) == 0
+    out = capsys.readouterr().out
+    assert "BC547B A&amp;B &lt;25&gt;" in out  # the part cell, escaped as SVG and HTML text
+
+
+def test_sheet_and_open_refuse_a_file_nested_too_deeply(tmp_path, capsys):
+    # A hand-edited file of 100 000 nested brackets once ended `sheet` in "internal error (RecursionError …)".
+    from tui.saved import SavedFileError, load_saved
+
+    path = tmp_path / "deep.json"
+    path.write_text('{"designs": ' + "[" * 100_000 + "]" * 100_000 + "}")
+    assert main(["sheet", str(path), "--format", "md"]) == 2
+    err = capsys.readouterr().err
+    assert "deep.json: not a saved design file" in err and "internal error" not in err
+    with pytest.raises(SavedFileError, match="deep.json"):  # `drawerfit open FILE` reads it this way
+        load_saved(path)
+
+
+def test_sheet_reads_a_saved_file_with_a_byte_order_mark(tmp_path, capsys):
+    # An editor that saves with a BOM: `build` and `open` read such a file; `sheet` refused it.
+    path = tmp_path / "bom.json"
+    path.write_bytes(b"\xef\xbb\xbf" + SAVED.read_bytes())
+    assert main(["sheet", str(path), "--format", "csv"]) == 0
+    assert capsys.readouterr().out.startswith("location,line,part,value,qty,positions")

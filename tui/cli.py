@@ -38,6 +38,10 @@ class _Parser(argparse.ArgumentParser):
     """argparse with one-line errors (`drawerfit: --depth: …`) and exit 2."""
 
     def error(self, message: str) -> None:  # type: ignore[override]
+        if message.startswith("unrecognized arguments:") and any(
+                w == "--inventory" or w.startswith("--inventory=") for w in message.split()):
+            # `drawerfit list --inventory F`: the drawer is named before the command, for every command
+            message += " (--inventory goes before the command: drawerfit --inventory FILE COMMAND …)"
         self.exit(2, f"{self.prog}: {message} (see {self.prog} --help)\n")
 
 

@@ -22,6 +22,7 @@ from optimizer.spec import Spec
 
 from . import cmd_analyze_chain
 from .analyze_sheet import sheet
+from .cmd_common import refusal
 from .request_fields import parse_negative_voltage, rails_shorthand
 
 RESISTOR_FLAGS = ("r1", "r2", "rc", "re1", "re2", "re", "rb")
@@ -68,7 +69,7 @@ def _value(args, flag: str, parse, positive=True) -> float | None:
     try:
         value = parse(text)
     except ValueFormatError as exc:
-        raise InputError(f"--{flag}: {exc}") from None
+        raise InputError(f"--{flag}: {refusal(text, parse, exc)}") from None
     if not math.isfinite(value) or (positive and not value > 0) or value < 0:
         raise InputError(f"--{flag}: {text!r} must be {'above' if positive else 'at least'} 0")
     return value

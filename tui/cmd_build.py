@@ -98,6 +98,16 @@ def _shown(x) -> str:
     return text if len(text) <= 60 else text[:57] + "..."
 
 
+def _drawer_of(args, doc: dict) -> Path:
+    """--inventory, else the drawer the saved file was made from (never another drawer silently)."""
+    if getattr(args, "inventory", None) is not None:
+        return drawer_path(args.inventory)
+    try:
+        return drawer_path(doc.get("inventory"), f"the drawer {args.file} was made from")
+    except InputError as exc:
+        raise InputError(f"{exc}; --inventory FILE names another drawer") from None
+
+
 def run_build(args) -> int:
     try:
         doc = read_saved(args.file)
@@ -105,7 +115,7 @@ def run_build(args) -> int:
         if not designs:
             raise InputError(f"{args.file} holds no design (the spec was not met); nothing to build")
         pick = whole(args.pick, "pick", 1, len(designs))
-        path = drawer_path(getattr(args, "inventory", None) or doc.get("inventory"))
+        path = _drawer_of(args, doc)
         drawer = load_drawer(path)
     except InputError as exc:
         say(str(exc))

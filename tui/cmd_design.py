@@ -17,7 +17,6 @@ import hashlib
 import json
 import math
 import sys
-from pathlib import Path
 
 from inventory.atomic import atomic_write
 from inventory.rows import identity_key
@@ -48,8 +47,8 @@ from optimizer.chain.names import CHAINS
 from optimizer.physics.stage import TOPOLOGIES
 
 from . import cmd_build
-from .request_fields import parse_negative_voltage, rails_shorthand
-from .cmd_common import InputError, drawer_path, load_drawer, say, value, whole
+from .request_fields import parse_min_vce, parse_negative_voltage, rails_shorthand
+from .cmd_common import InputError, drawer_path, load_drawer, output_path, say, value, whole
 
 EXIT_FOUND, EXIT_INFEASIBLE, EXIT_UNPROVEN = 0, 3, 4
 # `--load open`: nothing connected (a scope probe, an ADC input), as the exact solver's 1 TΩ stand-in,
@@ -141,7 +140,7 @@ def spec_from(args) -> Spec:
         temp_range_c=_temp_range(args.temp_range),
         max_parts_per_position=whole(args.depth, "depth", 1, 3),
         max_thd=value(args.max_thd, parse_fraction, "max-thd"),
-        min_vce_v=value(args.min_vce, parse_voltage, "min-vce"),
+        min_vce_v=value(args.min_vce, parse_min_vce, "min-vce"),
         negative_supply_v=value(args.negative_supply, parse_negative_voltage, "negative-supply"),
         dc_input=bool(args.dc_input),
     )
@@ -177,6 +176,7 @@ def run_design(args) -> int:
     try:
         spec = spec_from(args)
         opts = options_from(args)
+        save = output_path(args.save, "--save")  # a bad target said now, not after the search
         problems = spec.problems()
         if problems:
             say("; ".join(problems))  # one line, each part naming its option
@@ -197,11 +197,11 @@ def run_design(args) -> int:
         doc = find_designs(drawer, spec, depth=spec.max_parts_per_position, hints=not args.no_hints,
                            progress=progress, started=STARTED, **opts)
     doc["inventory"] = str(path)
-    if args.save:
+    if save is not None:
         saved = dict(doc)
         saved["fingerprint"] = fingerprint(drawer, [u["line"] for d in doc["designs"] for u in d["uses"]])
         try:
-            atomic_write(Path(args.save), (json.dumps(saved, indent=1) + "\n").encode())
+            atomic_write(save, (json.dumps(saved, indent=1) + "\n").encode())
         except OSError as exc:
             say(f"--save {args.save}: {exc.strerror or exc}")
             return 2

@@ -46,7 +46,11 @@ def _guarded(fn):
         except (StockError, ConflictError, NothingToUndo) as exc:
             print(f"drawerfit: {exc}", file=sys.stderr)
             return 1
-        except (InputError, InventoryNotFound, StoreError, OSError, ValueError) as exc:
+        except OSError as exc:  # "[Errno 21] Is a directory: '…'" said as the other file errors are
+            where = f"{exc.filename}: " if exc.filename else ""
+            print(f"drawerfit: {where}cannot use it ({exc.strerror or exc}); nothing was written", file=sys.stderr)
+            return 2
+        except (InputError, InventoryNotFound, StoreError, ValueError) as exc:
             print(f"drawerfit: {exc}", file=sys.stderr)
             return 2
 
@@ -252,13 +256,15 @@ def _undo_reason(store: Store, entry_id: int | None) -> str:
 
 
 def run_history(args) -> int:
+    if args.last is not None and args.last < 1:
+        raise InputError(f"--last: {args.last}; expected how many of the latest changes to show, 1 or more")
     store = Store(_path(args))
     entries = store.history()
     if store.journal.skipped:
         print(f"drawerfit: warning: {store.journal.skipped} line(s) of {store.journal.path} are not journal "
               "entries (torn or edited by hand); left out", file=sys.stderr)
     if args.last is not None:
-        entries = entries[-args.last:] if args.last > 0 else []
+        entries = entries[-args.last:]
     if args.json:
         # ASCII escapes: a journaled line may hold bytes that were not UTF-8.
         print(json.dumps([e.to_json() for e in entries], indent=1))

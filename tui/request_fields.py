@@ -98,6 +98,21 @@ def parse_negative_voltage(text: str) -> float:
     return -v if v else 0.0
 
 
+def parse_min_vce(text: str) -> float:
+    """The least VCE asked for, volts: a voltage (``1``, ``0.5V``, ``500mV``), or ``0``/``0 V``: no headroom
+    asked (README: ``--min-vce 0``), which values.parse_voltage refuses as no voltage at all."""
+    try:
+        return values.parse_voltage(text)
+    except values.ValueFormatError as exc:
+        try:
+            zero = values.parse_number(text.strip().rstrip("Vv").strip()) == 0
+        except values.ValueFormatError:
+            zero = False
+        if zero:
+            return 0.0
+        raise FieldError(str(exc)) from None
+
+
 def rails_shorthand(supply_text: str, negative_text: str | None) -> tuple[str, str | None]:
     """``--supply ±12`` (or ``+-12``) is ``--supply 12 --negative-supply -12``; an explicit negative
     rail wins.  Returns the (supply, negative rail) texts."""
@@ -218,7 +233,7 @@ FIELDS: tuple[Field, ...] = (
           "default floor"),
     Field("max_thd", "Max distortion", "--max-thd", "max_thd", parse_fraction, f"{_spec('max_thd') * 100:g}%",
           "THD at the swing", "limits"),
-    Field("min_vce", "Min VCE", "--min-vce", "min_vce_v", _voltage, _si(_spec("min_vce_v"), "V"),
+    Field("min_vce", "Min VCE", "--min-vce", "min_vce_v", parse_min_vce, _si(_spec("min_vce_v"), "V"),
           "headroom above saturation", "limits"),
     Field("max_current", "Max current", "--max-current", "max_supply_a", _value_error(values.parse_current), "",
           "supply current", "limits", "no limit"),

@@ -25,6 +25,8 @@ def load_saved(path: str | Path) -> dict:
         raise SavedFileError(f"{path}: not a saved design file (not UTF-8 text)") from None
     except json.JSONDecodeError as exc:
         raise SavedFileError(f"{path}:{exc.lineno}:{exc.colno}: not a saved design file ({exc.msg})") from None
+    except RecursionError:  # brackets nested past what the JSON reader follows
+        raise SavedFileError(f"{path}: not a saved design file (nested too deeply)") from None
     if not isinstance(doc, dict) or not isinstance(doc.get("designs"), list):
         raise SavedFileError(f"{path}: not a saved design file (no \"designs\" list; "
                              "write one with `drawerfit design … --save FILE`)")

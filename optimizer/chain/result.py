@@ -26,6 +26,7 @@ from optimizer.physics.analysis import _plain
 from optimizer.physics.polarity import is_pnp
 from optimizer.search.candidates import usable_transistors
 from optimizer.search.result import MC_SAMPLES, MC_SEED, mc_json, spec_json
+from optimizer.search.stopwatch import seconds_text
 
 ORIENTATION_NODES = {"in": "the input", "x": "the first stage's output", "out": "the output", "0": "ground",
                      "base1": "Q1's base", "emit1": "Q1's emitter", "coll1": "Q1's collector",
@@ -159,7 +160,7 @@ def find_chain_designs(drawer, spec, *, top=5, depth=2, progress=None, cancel=No
     for k, (cand, labels) in enumerate(sol.shown):
         if k and limit is not None and time.perf_counter() - t0 > limit + OVERRUN_S - POST_S_PER_DESIGN:
             doc["why"].append(f"{len(sol.shown) - k} more chain(s) of the trade-off set left out to keep the "
-                              f"{limit:g} s limit")
+                              f"{seconds_text(limit)} s limit")
             break
         y, mc = chain_yield(cand, spec, tolerance, seed=mc_seed)
         doc["designs"].append(design_json(cand, spec, labels=labels, locations=locations, mc=mc, yld=y))

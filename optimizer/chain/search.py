@@ -56,6 +56,10 @@ FIRST_SHARE = {f"{EF}+{CE}": 0.3, f"{CE}+{CE}": 0.4, f"{CE}+{EF}": 0.3}
 # select.search works past its deadline to realise the designs it shows (CP-SAT, loaded on first use):
 # each stage search is handed its slice less this much (measured 0.3–0.9 s on this project's machines).
 STAGE_RESERVE_S = 0.8
+# Seconds of search a stage needs for its first designs (measured 0.4–0.7 s, wind-up included, on the demo
+# drawer): on a short limit the stage designed first gets at least this past its reserve, up to half the split's
+# time, or a follower's share of a 5 s limit is all reserve and the chain search ends at once with nothing.
+STAGE_MIN_S = 0.5
 SPLIT_MIN_S = 30.0  # time left below which the first gain split gets all of it
 CHECK_S = 0.4  # one chain checked at every corner (measured 0.35 s for 12 corners)
 # A stage search stops once its trade-off set has not changed for this long (select.search's settled
@@ -261,8 +265,8 @@ def _one_split(kind, spec, split, floor2, rstock, cstock, qlines, depth, end, ca
     index, spec_a = first_plan(spec, kind, split, floor2)
     start = time.perf_counter()
     span = max(end - start, 0.0)
-    firsts = _run_stage(rstock, cstock, qlines, spec_a, depth, start + FIRST_SHARE[kind] * span, cancel, sol,
-                        patience)
+    first_span = max(FIRST_SHARE[kind] * span, min(0.5 * span, STAGE_RESERVE_S + STAGE_MIN_S))
+    firsts = _run_stage(rstock, cstock, qlines, spec_a, depth, start + first_span, cancel, sol, patience)
     if progress:
         progress(0.3, f"{len(firsts)} design(s) of the {'first' if index == 0 else 'second'} stage")
     for j, h in enumerate(firsts):

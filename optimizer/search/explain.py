@@ -32,8 +32,10 @@ def reasons(sol, spec) -> list[str]:
         return out
     g_lo, g_hi = spec.gain * (1 - spec.gain_tol), spec.gain * (1 + spec.gain_tol)
     if near.screened == 0:
+        # Without a bound in words, "every one" holds only when the search ran to its end.
+        which = "the resistors on hand" if sol.exhaustive else "the resistors tried before the search stopped"
         out.extend(list(_bounds(sol, spec).values()) or [
-            f"no combination of the resistors on hand passes the first checks for "
+            f"no combination of {which} passes the first checks for "
             f"{'an' if spec.topology[0] in 'aeiou' else 'a'} {spec.topology} "
             f"with Rin ≥ {rin_text(spec)}, gain {spec.gain:g} and {spec.swing_pp:g} V p-p on "
             f"{spec_limits.supply_text(spec)} (the bias, gain, swing and headroom bounds rule every one out)"])
@@ -66,8 +68,9 @@ def reasons(sol, spec) -> list[str]:
     if sol.stock_bound:
         out.append("value combinations that meet the spec exist, but not enough parts are on hand to build "
                    "any of them at once (the same line would be needed at several positions)")
-    if not out:
-        out.append("no value combination meets every part of the spec at every hFE and temperature corner")
+    if not out and (sol.exhaustive or near.screened):
+        which = "value combination" if sol.exhaustive else f"of the {near.screened:,} value combinations screened"
+        out.append(f"no {which} meets every part of the spec at every hFE and temperature corner")
     if not sol.exhaustive:
         out.extend(sol.notes)
     return out

@@ -16,6 +16,7 @@ import numpy as np
 
 from inventory.eseries import series_values
 from inventory.values import format_capacitance, format_resistance
+from optimizer.search.stopwatch import seconds_text
 
 BUY_QTY = 5
 BUDGET_S = 20.0
@@ -75,7 +76,8 @@ def shopping_hints(rstock, cstock, qlines, spec, sol, *, depth, search, budget_s
                               f"with a worst-case gain error of {choice.score.gain_error / 10:g} %"})
     if not out and time.perf_counter() - t0 > budget_s:
         out.append({"position": None, "buy": None, "value": None,
-                    "effect": f"no single standard part tried within {budget_s:g} s makes the spec feasible"})
+                    "effect": f"no single standard part tried within {seconds_text(budget_s)} s makes the spec "
+                              "feasible"})
     return out
 
 

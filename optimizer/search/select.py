@@ -707,7 +707,7 @@ def find_designs(drawer, spec, *, top=DEFAULT_TOP, depth=DEFAULT_DEPTH, min_yiel
     for k, (choice, row, labels) in enumerate(sol.designs):
         if k and limit is not None and time.perf_counter() + each > t0 + limit + OVERRUN_S:
             doc["why"].append(f"{len(sol.designs) - k} more design(s) of the trade-off set left out to keep the "
-                              f"{limit:g} s limit")
+                              f"{stopwatch.seconds_text(limit)} s limit")
             break
         t_design = time.perf_counter()
         y, mc = yields.get(id(choice)) or result.yield_of(sol, choice, spec, seed=mc_seed)
@@ -735,7 +735,8 @@ def find_designs(drawer, spec, *, top=DEFAULT_TOP, depth=DEFAULT_DEPTH, min_yiel
     doc["optimal"] = bool(sol.exhaustive)
     doc["unexplored"] = sol.unexplored
     if not sol.designs and not sol.exhaustive and sol.stopped_by in ("time limit", "cancelled"):
-        how = f"within the {limit:g} s limit" if sol.stopped_by == "time limit" else "before the stop"
+        how = (f"within the {stopwatch.seconds_text(limit)} s limit" if sol.stopped_by == "time limit"
+               else "before the stop")
         doc["why"].insert(0, f"no design found {how} ({sol.near.screened:,} value tuples screened; not proven "
                              f"impossible: {sol.unexplored} were left), so a longer --time-limit may find one")
     doc["status"] = "found" if doc["designs"] else ("infeasible" if sol.exhaustive else "unproven")

@@ -13,6 +13,12 @@ import time
 from contextlib import contextmanager
 
 
+def seconds_text(x: float) -> str:
+    """Seconds to three digits, as a message shows a limit or a share of one: 10, 2.5, 86400, 0.635 (never
+    0.635237, the share `--topology any` gives a kind)."""
+    return f"{float(f'{x:.3g}'):g}"
+
+
 class Stopped(Exception):
     """The search was asked to stop; what was found so far stands."""
 

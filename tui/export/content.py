@@ -77,12 +77,15 @@ class Sheet:
 def load(path: str, pick_text: str | int = 1) -> tuple[dict, int]:
     """The saved document and the 1-based pick, or SheetInputError."""
     try:
-        doc = json.loads(Path(path).read_text(encoding="utf-8"))
+        # utf-8-sig: a file saved again by an editor that adds a byte-order mark reads as `build` reads it
+        doc = json.loads(Path(path).read_bytes().decode("utf-8-sig"))
         designs = doc["designs"]
         if not isinstance(designs, list):
             raise TypeError("designs is not a list")
     except OSError as exc:
         raise SheetInputError(f"{path}: cannot read it ({exc.strerror or exc})") from None
+    except RecursionError:  # brackets nested past what the JSON reader follows
+        raise SheetInputError(f"{path}: not a saved design file (nested too deeply)") from None
     except (ValueError, KeyError, TypeError) as exc:
         raise SheetInputError(f"{path}: not a saved design file (from `drawerfit design --save`): {exc}") from None
     try:

@@ -113,6 +113,14 @@ class Drawer:
             offset += width(n)
 
 
+def _plain(text: object) -> str:
+    """A label from the drawer file (a transistor's part cell) as schemdraw draws it literally: schemdraw
+    parses label text as SVG markup with $…$ math, so a bare & is refused and $ starts math.  & is escaped
+    (schemdraw escapes < and > itself), $ becomes the fullwidth ＄, control characters are left out."""
+    shown = "".join(c for c in str(text) if c.isprintable())
+    return shown.replace("&", "&amp;").replace("$", "\uff04")
+
+
 def side_room(node: dict | None, gap: float) -> float:
     return 0.0 if node is None else (width(node) - 1) * gap
 
@@ -160,7 +168,7 @@ def schematic(sheet: Sheet, joined: str | None = None) -> schemdraw.Drawing:
     top += 0.6
     # A PNP stage is drawn with the rails swapped: 0 V on top, +V below, the PNP's emitter down.
     pnp = str(sheet.design["parts"]["Q1"].get("polarity", "")).upper() == "PNP"
-    q_label = f"{sheet.q_name}\n" + str(sheet.design["parts"]["Q1"].get("part", ""))
+    q_label = f"{sheet.q_name}\n" + _plain(sheet.design["parts"]["Q1"].get("part", ""))
     q = d.add((elm.BjtPnp().flip() if pnp else elm.BjtNpn()).anchor("base").at((xq, yb)).label(
         q_label, loc="right", fontsize=FONT))
     xe = q.absanchors["emitter"][0]
