@@ -37,8 +37,11 @@ def usable_kinds(spec) -> tuple[list[str], list[str]]:
     for name in (*kinds.names(), *CHAINS):
         # The kind's own limits (its gain, the rails it runs on, a DC-coupled input) say whether it can.
         problems = replace(spec, topology=name).problems()
-        if problems:
-            notes.append(f"{name}: left out ({problems[0].partition(': ')[2] or problems[0]})")
+        if problems:  # "--gain: 10; a … stage's gain is below 1" reads "left out (… below 1; asked 10)"
+            option, _, why = problems[0].partition(": ")
+            value, _, rest = why.partition("; ")
+            plain = f"{rest}; asked {value}" if rest and value.replace(".", "", 1).isdigit() else why or option
+            notes.append(f"{name}: left out ({plain})")
         else:
             use.append(name)
     return use, notes
