@@ -26,6 +26,14 @@ JOBS = {
     "emitter-follower+common-emitter": Spec(topology="emitter-follower+common-emitter", gain=10, source_ohms=10e3,
                                             load_ohms=22e3, swing_pp=1.0),
 }
+# The PNP drawer: the same, with its two 2N3904 swapped for two 2N3906 (PNP, hFE 100…300): all-PNP chains.
+PNP_DRAWER = Path(__file__).parent / "data" / "chain_drawer_pnp.csv"
+PNP_JOBS = {
+    **JOBS,
+    # Two common emitters for a gain of 50 from a 1 kΩ source into 10 kΩ (each stage about 7).
+    "common-emitter+common-emitter": Spec(topology="common-emitter+common-emitter", gain=50, source_ohms=1e3,
+                                          load_ohms=10e3, swing_pp=1.0),
+}
 # The same CE+EF job as the command line spells it.
 CLI_JOB = ["design", "--topology", "common-emitter+emitter-follower", "--gain", "10", "--source", "1k", "--load",
            "1k", "--swing", "1"]
@@ -41,3 +49,16 @@ def _solved(kind: str) -> dict:
 def solved(kind: str) -> dict:
     """`find_designs` on the chain drawer for JOBS[kind] (searched once a session; a fresh copy each call)."""
     return copy.deepcopy(_solved(kind))
+
+
+@functools.lru_cache(maxsize=None)
+def _solved_pnp(kind: str) -> dict:
+    from optimizer.search.select import find_designs
+
+    return find_designs(Drawer.load(PNP_DRAWER), PNP_JOBS[kind], time_limit_s=LIMIT_S)
+
+
+def solved_pnp(kind: str) -> dict:
+    """`find_designs` on the PNP chain drawer for PNP_JOBS[kind] (once a session; a fresh copy each call).
+    Measured 2.8–3.9 s each here (the stage searches settle early)."""
+    return copy.deepcopy(_solved_pnp(kind))

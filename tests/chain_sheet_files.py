@@ -3,6 +3,8 @@ kind, made of our own hand-picked values (tests/chain_designs.py, some positions
 and parallel networks), written by the production code (optimizer.chain.result.design_json on a
 Candidate whose verdict is optimizer.chain.check.check_chain's and yield chain_yield's) with the spec
 and the stock fingerprint `design --save` writes.  Each kind's file also holds the drawer it was made from.
+`save_chains(folder, "PNP")` makes the same chains with two PNP lines instead (all-PNP chains on the
+same +12 V supply, emitter sides to +V).
 """
 
 from __future__ import annotations
@@ -41,10 +43,13 @@ NETWORKS = {(0, "common-emitter", "R1"): ("series", (68e3, 15e3)),
             (1, "common-emitter", "RC"): ("parallel", (6.8e3, 6.8e3)),
             (1, "emitter-follower", "RE"): ("parallel", (3.3e3, 3.3e3)),
             (1, "common-emitter", "CE"): ("parallel", (100e-6, 100e-6))}
+# The PNP drawer's transistors (datasheet-typical hFE spreads, from memory): the same roles as the NPN pair.
+PNP_TRANSISTOR_ROWS = ["transistor,,3,,,,,BC557B,PNP,220,475,45V,100mA,500mW,T2,chain sheet tests",
+                       "transistor,,3,,,,,2N3906,PNP,100,300,40V,200mA,625mW,T1,chain sheet tests"]
 SOURCE_OHMS, LOAD_OHMS, SWING_PP = 1e3, 10e3, 1.0
 
 
-def write_drawer(folder: Path) -> Path:
+def write_drawer(folder: Path, polarity: str = "NPN") -> Path:
     rows = [HEADER]
     for k, (kind, value) in enumerate(DRAWER_ROWS):
         loc = f"{'R' if kind == 'resistor' else 'C'}{k // 4 + 1}"
@@ -54,8 +59,8 @@ def write_drawer(folder: Path) -> Path:
             elec = value in ("10u", "100u")
             rows.append(f"capacitor,{value},6,20%,,{'25V' if elec else '63V'},{'electrolytic' if elec else 'film'},"
                         f",,,,,,,{loc},")
-    rows += TRANSISTOR_ROWS
-    path = folder / "chain_sheet_drawer.csv"
+    rows += PNP_TRANSISTOR_ROWS if polarity == "PNP" else TRANSISTOR_ROWS
+    path = folder / ("chain_sheet_drawer.csv" if polarity == "NPN" else f"chain_sheet_drawer_{polarity.lower()}.csv")
     path.write_text("\n".join(rows) + "\n")
     return path
 
@@ -138,17 +143,18 @@ def chain_document(kind: str, drawer, drawer_path: Path) -> dict:
     return doc
 
 
-def save_chains(folder: Path) -> dict[str, Path]:
-    """kind → saved chain file (all on one drawer, `chain_sheet_drawer.csv` in `folder`)."""
+def save_chains(folder: Path, polarity: str = "NPN") -> dict[str, Path]:
+    """kind → saved chain file (all on one drawer, `chain_sheet_drawer.csv` in `folder`; with
+    polarity "PNP" all-PNP chains on `chain_sheet_drawer_pnp.csv`, files named `…_pnp.json`)."""
     from inventory.drawer import Drawer
 
-    path = write_drawer(folder)
+    path = write_drawer(folder, polarity)
     drawer = Drawer.load(path)
     assert not drawer.errors, drawer.errors
     out = {}
     for kind in KINDS:
         doc = chain_document(kind, drawer, path)
-        file = folder / (kind.replace("+", "_then_") + ".json")
+        file = folder / (kind.replace("+", "_then_") + ("" if polarity == "NPN" else "_" + polarity.lower()) + ".json")
         file.write_text(json.dumps(doc, indent=1) + "\n")
         out[kind] = file
     return out

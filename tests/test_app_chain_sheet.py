@@ -116,3 +116,24 @@ async def test_ngspice_check_of_a_chain_from_the_sheet(saved, ngspice):
     for q in ("Q1", "Q2"):
         for point in ("base", "emitter", "collector"):
             assert sum(r[0] == f"{q} {point} (no signal)" for r in rows) == 3
+
+
+async def test_pnp_chain_sheet_draws_pnp_stages_and_reads_real_volts(tmp_path):
+    """An all-PNP chain in the app: both stages drawn as PNP stages (0 V on top, +V below, the arrow into
+    the emitter; README "PNP stages") and the meter checks in real polarity (each PNP's VE above its VB)."""
+    files = save_chains(tmp_path, "PNP")
+    kind = "common-emitter+emitter-follower"
+    design = json.loads(files[kind].read_text())["designs"][0]
+    app = make_app(inventory_path=str(tmp_path / "chain_sheet_drawer_pnp.csv"), open_file=str(files[kind]))
+    async with app.run_test(size=(130, 48)) as pilot:
+        await open_chain(pilot)
+        drawing = str(app.screen.query_one("#schematic", Static).render())
+        meter = str(app.screen.query_one("#meter", Static).render())
+    for stage in drawing.split("\n\nStage 2"):
+        lines = [ln for ln in stage.splitlines() if ln.strip()]
+        assert lines[1].startswith("0 V") and lines[-1].startswith("+12 V") and any("↖" in ln for ln in lines)
+    for k, q in enumerate(("Q1", "Q2")):
+        p = design["stages"][k]["predicted"]
+        assert p["ve"] > p["vb"] > p["vc"]
+        for name in ("VB", "VE", "VC"):
+            assert f"{q} {name} ≈ {figures.volts(p[name.lower()])}" in meter

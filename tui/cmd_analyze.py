@@ -50,7 +50,8 @@ def register(sub) -> None:
     p.add_argument("--source", default="0", metavar="OHMS", help="source resistance (default 0 Ω)")
     p.add_argument("--load", default="open", metavar="OHMS", help="load resistance (default: open, no load)")
     p.add_argument("--polarity", default="npn", type=str.lower, choices=("npn", "pnp"),
-                   help="Q1's polarity (default npn); a pnp stage has its emitter side to +V and needs --cin and --cout")
+                   help="Q1's polarity (default npn); a pnp stage has its emitter side to +V and needs --cin and --cout "
+                        "(a chain: both transistors, and a pnp chain needs --cin, --cin-b and --cout-b)")
     p.add_argument("--hfe", default="200", help="Q1's hFE (BF) at 27 °C (default 200)")
     p.add_argument("--vbe", default="0.65", metavar="VOLTS", help="VBE at IC = 1 mA, 27 °C (default 0.65 V)")
     p.add_argument("--vaf", default="100", metavar="VOLTS", help="Early voltage (default 100 V)")

@@ -4,6 +4,8 @@ The first stage takes the usual part options (--r1 … --cin, --ce; no --cout: t
 the second stage's input capacitor), the second stage the same names with -b (--r1-b … --cin-b,
 --cout-b, --ce-b) and --hfe-b for Q2.  Output: the chain's figures, each stage's, and with --netlist
 the chain's deck with a source, its resistance, the load and analyses (runs with `ngspice -b`).
+`--polarity pnp` makes both transistors PNP (an all-PNP chain on the same positive supply, emitter
+sides to +V); it needs --cin, --cin-b and --cout-b.  Mixed chains are not modelled.
 """
 
 from __future__ import annotations
@@ -41,11 +43,12 @@ def chain_from_args(args, stage_from_args, resistors, capacitors, error):
     from optimizer.chain.circuit import Chain
 
     first_kind, second_kind = CHAINS[args.topology]
-    if str(getattr(args, "polarity", "npn") or "npn").lower() != "npn":
-        raise error("--polarity: chains are NPN-only for now")
+    pnp = str(getattr(args, "polarity", "npn") or "npn").lower() == "pnp"
     if args.cout is not None:
         raise error("--cout: a chain's first stage has no COUT; the interstage capacitor is --cin-b")
-    one = SimpleNamespace(**{**vars(args), "topology": first_kind})
+    # The first stage is read as an NPN stage (a lone PNP stage would ask for its own --cout); an
+    # all-PNP chain then gets its transistors' polarity, once every coupling capacitor is known.
+    one = SimpleNamespace(**{**vars(args), "topology": first_kind, "polarity": "npn"})
     s1, swing = stage_from_args(one)
     two = _second_args(args, second_kind)
     try:
@@ -64,6 +67,13 @@ def chain_from_args(args, stage_from_args, resistors, capacitors, error):
             raise error(f"--hfe-b: {args.hfe_b!r} is not a number") from None
         if not hfe_b > 0:
             raise error(f"--hfe-b: {args.hfe_b!r} must be above 0")
+    if pnp:
+        missing = [flag for flag, fitted in (("--cin", "CIN" in s1.capacitors), ("--cin-b", "CIN" in c2),
+                                             ("--cout-b", "COUT" in c2)) if not fitted]
+        if missing:
+            raise error(f"--polarity pnp: give {', '.join(missing)} (a PNP chain is modelled with the source, "
+                        "the stages and the load coupled through capacitors)")
+        s1 = replace(s1, transistor=replace(s1.transistor, polarity="PNP", name="generic PNP"))
     s2 = replace(s1, topology=second_kind, resistors=r2, capacitors=c2, source_ohms=0.0, load_ohms=s1.load_ohms,
                  transistor=s1.transistor.with_beta(hfe_b))
     return Chain(args.topology, replace(s1, load_ohms=float("inf")), s2), swing

@@ -82,7 +82,8 @@ def _label(name: str, value: str | None) -> tuple[str, bool]:
 def draw_stage(design: dict, *, supply_v: float | None = None, source_ohms: float | None = None,
                load_ohms: float | None = None, polarised: frozenset[str] = frozenset(),
                negative_supply_v: float | None = None, names: dict | None = None, q_name: str = "Q1",
-               in_label: str = "in", out_label: str = "out", open_output: bool = False) -> str:
+               in_label: str = "in", out_label: str = "out", open_output: bool = False,
+               in_volts: float = 0.0) -> str:
     """The stage of one design (the JSON shape) as lines of box-drawing text.
 
     `polarised` names the capacitor positions filled with electrolytic/tantalum
@@ -91,7 +92,8 @@ def draw_stage(design: dict, *, supply_v: float | None = None, source_ohms: floa
     top (R1, RC, the load), +V below (R2, the emitter chain, CE with its + toward +V).
     A chain's stage (tui/schematic_chain.py) labels its positions by `names` (position → the name on
     the sheet, R1 → R1_B), its transistor `q_name` and its terminals `in_label`, `out_label`;
-    `open_output` draws the output as a bare node (no COUT, no load): the first stage of a chain.
+    `open_output` draws the output as a bare node (no COUT, no load): the first stage of a chain;
+    `in_volts` is the DC at the input node (0 V for a source; a chain's x), which sets CIN's '+' side.
     """
     topology = design.get("topology", "common-emitter")
     parts = design.get("parts", {})
@@ -165,7 +167,11 @@ def draw_stage(design: dict, *, supply_v: float | None = None, source_ohms: floa
     c.put(0, BASE_Y, f"{in_label[:2]:<3}○─")
     c.hline(5, X_DIV - 1, BASE_Y)
     if "CIN" in parts or not split:
-        cin = "+┤├" if "CIN" in polarised else "┤├"
+        # '+' by the plate on the higher side: the base, unless it rests below the input node (a chain's
+        # second stage takes x, the first stage's output, which may sit above its base).
+        vb = (design.get("predicted") or {}).get("vb")
+        base_high = not isinstance(vb, (int, float)) or vb >= in_volts
+        cin = ("┤├+" if base_high else "+┤├") if "CIN" in polarised else "┤├"
         c.put(8, BASE_Y, cin)
         c.put(5, BASE_Y - 1, label("CIN"))
     else:

@@ -4,6 +4,8 @@ node x, which stage 2 takes through CIN_B.  Text only."""
 
 from __future__ import annotations
 
+from optimizer import kinds
+
 from .schematic import draw_stage
 
 
@@ -31,6 +33,9 @@ def stage_designs(design: dict) -> list[dict]:
 def draw_chain(design: dict, *, supply_v=None, source_ohms=None, load_ohms=None, polarised=frozenset()) -> str:
     """Both stages of a chain design as text, labelled with the chain's position names."""
     one, two = stage_designs(design)
+    # x rests at the first stage's output (its collector, or its emitter for a follower): CIN_B's other side.
+    out = "ve" if kinds.get(one["topology"]).output == "e" else "vc"
+    x_volts = one["predicted"].get(out)
     drawings = []
     for k, stage in enumerate((one, two)):
         own_polarised = frozenset(own for own, pos in stage["names"].items() if pos in polarised)
@@ -38,6 +43,7 @@ def draw_chain(design: dict, *, supply_v=None, source_ohms=None, load_ohms=None,
                                    load_ohms=load_ohms if k == 1 else None, polarised=own_polarised,
                                    names=stage["names"], q_name="Q1" if k == 0 else "Q2",
                                    in_label="in" if k == 0 else "x", out_label="x" if k == 0 else "out",
-                                   open_output=k == 0))
+                                   open_output=k == 0,
+                                   in_volts=x_volts if k == 1 and isinstance(x_volts, (int, float)) else 0.0))
     return ("Stage 1 (" + one["topology"] + "); its output x feeds stage 2 through CIN_B\n" + drawings[0]
             + "\n\nStage 2 (" + two["topology"] + "); its positions end in _B, its input is x\n" + drawings[1])

@@ -31,7 +31,7 @@ class ChainReport:
     predicted: dict
     stages: list  # [{"kind", "positions", "predicted"}] first stage first
     reports: tuple  # (analysis.Report of stage 1, of stage 2) as the chain sees them
-    positive_nodes: dict  # capacitor → net node of its + lead
+    positive_nodes: dict  # capacitor → net node of its + lead (the solved net's name; deck.deck_nodes names it)
     response: dict
     distortion: dict | None = None
     warnings: list = field(default_factory=list)
@@ -78,13 +78,14 @@ def analyze_chain(chain: Chain, swing_pp: float | None = None) -> ChainReport:
     g2 = float(f.gain_second[0])
     swing = min(r2.predicted["swing_pp"], r1.predicted["swing_pp"] * abs(g2))
     (c1, b1, e1), (c2, b2, e2) = f.net.qs
-    predicted = {"gain": float(f.gain[0]), "vb": float(f.node(b1)[0]), "ve": float(f.node(e1)[0]),
-                 "vc": float(f.node(c1)[0]), "ic": float(f.ic[0][0]), "rin": float(f.rin[0]),
+    # Node voltages in real polarity (an all-PNP chain was solved as its NPN mirror, chain/polarity.py).
+    predicted = {"gain": float(f.gain[0]), "vb": float(f.volts(b1)[0]), "ve": float(f.volts(e1)[0]),
+                 "vc": float(f.volts(c1)[0]), "ic": float(f.ic[0][0]), "rin": float(f.rin[0]),
                  "rout": float(f.rout[0]), "f_low": float(f.f_low[0]), "swing_pp": swing, "thd": None}
     stages = []
     for k, (rep, (c, b, e), ic, gain) in enumerate(zip((r1, r2), f.net.qs, f.ic,
                                                       (float(f.gain[0]) / g2, g2), strict=True)):
-        p = {"gain": gain, "vb": float(f.node(b)[0]), "ve": float(f.node(e)[0]), "vc": float(f.node(c)[0]),
+        p = {"gain": gain, "vb": float(f.volts(b)[0]), "ve": float(f.volts(e)[0]), "vc": float(f.volts(c)[0]),
              "ic": float(ic[0]), "rin": rep.predicted["rin"], "rout": rep.predicted["rout"],
              "swing_pp": rep.predicted["swing_pp"]}
         stages.append({"kind": CHAINS[chain.kind][k], "positions": positions(chain, k), "predicted": p})

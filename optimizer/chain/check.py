@@ -81,7 +81,7 @@ def check_chain(chain: Chain, spec, q1, q2, ratings: dict, *, points: int = 64) 
     bias = np.zeros(len(mag), dtype=bool)
     rating = np.zeros(len(mag), dtype=bool)
     for (c, b, e), ic, ib, stage in zip(f.net.qs, f.ic, f.ib, (chain.first, chain.second), strict=True):
-        vce = f.node(c) - f.node(e)
+        vce = f.node(c) - f.node(e)  # the solved net's: VEC of a PNP chain (its mirror), as every limit reads it
         vces.append(vce)
         bias |= (ic < CUTOFF_A) | (vce < 0.2)
         t = stage.transistor
@@ -100,11 +100,12 @@ def check_chain(chain: Chain, spec, q1, q2, ratings: dict, *, points: int = 64) 
     fails["low_cut"] = f.f_low > spec.low_cut_hz
     fails["low_cut"] |= ~passband_holds(f, spec.low_cut_hz)
     i = f.net.nodes.index
+    real = f.net.real(f.op)  # the DC across CIN and COUT_B differs between a PNP chain and its mirror
     for p in f.net.parts:
         if p.kind != "C" or p.name not in ratings:
             continue
         volts, polarised = ratings[p.name]
-        dv = f.op[:, i(p.a)] - f.op[:, i(p.b)]
+        dv = real[:, i(p.a)] - real[:, i(p.b)]
         if np.isfinite(volts):
             rating |= RATING_FACTOR * np.abs(dv) > volts
         if polarised and (dv.min() < 0 < dv.max()):

@@ -7,6 +7,9 @@ collector or emitter, there is no COUT of its own) feeds CIN_B, the second stage
 capacitor.  Nodes kept from the deck contract: 0, vcc, in (after the source resistance),
 out (the load); "src" is the source's EMF.
 
+An all-PNP chain is solved as its all-NPN mirror (chain/polarity.py): the net built is the NPN
+twin's, and `Net.mirror_v` (the supply) says so; `Net.real` gives its node voltages in real polarity.
+
 Every analysis takes a batch of corners at once: each transistor's model parameters
 (IS, BF, BR, VAF, Vt) are arrays, one entry per corner (hFE of each transistor, temperature),
 so the DC point, the small signal and the large signal of all corners are one Newton or one
@@ -20,6 +23,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from optimizer.chain import polarity
 from optimizer.chain.names import SUFFIX
 from optimizer.physics.circuit import Part, _pnjlim, build
 from optimizer.physics.stage import Stage
@@ -48,6 +52,7 @@ class Net:
     qs: tuple[tuple[str, str, str], ...]  # (collector, base, emitter) per transistor
     models: tuple[tuple[np.ndarray, ...], ...]  # per transistor (IS, BF, BR, VAF, Vt), each (batch,)
     supply_v: float
+    mirror_v: float = 0.0  # the supply when the net is an all-PNP chain's NPN mirror (chain/polarity.py), else 0
 
     @property
     def batch(self) -> int:
@@ -56,7 +61,11 @@ class Net:
     def tiled(self, points: int) -> Net:
         """The same net with each corner repeated `points` times (corner-major), for waveforms."""
         models = tuple(tuple(np.repeat(m, points) for m in model) for model in self.models)
-        return Net(self.nodes, self.parts, self.shorts, self.qs, models, self.supply_v)
+        return Net(self.nodes, self.parts, self.shorts, self.qs, models, self.supply_v, self.mirror_v)
+
+    def real(self, op) -> np.ndarray:
+        """Node voltages `op` (..., n) in real polarity (V to 0 V): an all-PNP chain's read back from its mirror."""
+        return polarity.real_volts(self.nodes, op, self.mirror_v)
 
 
 def _model(t, bf, temp_c):
@@ -69,8 +78,10 @@ def _model(t, bf, temp_c):
 
 def build_net(chain: Chain, corners=None) -> Net:
     """The chain's circuit; corners: [(BF of Q1 at 27 °C, BF of Q2, temperature °C), …]
-    (default: each stage's own transistor BF at the first stage's temperature)."""
-    s1, s2 = chain.first, chain.second
+    (default: each stage's own transistor BF at the first stage's temperature).  An all-PNP chain
+    gives its NPN mirror (mirror_v set); a mixed chain is refused (ValueError)."""
+    mirror = polarity.mirror_v(chain)
+    s1, s2 = polarity.twin(chain.first), polarity.twin(chain.second)
     c1 = build(Stage(s1.topology, s1.resistors, {k: v for k, v in s1.capacitors.items() if k != "COUT"},
                      s1.supply_v, s1.source_ohms, float("inf"), s1.transistor, s1.temp_c))
     c2 = build(Stage(s2.topology, s2.resistors, s2.capacitors, s1.supply_v, 0.0, s2.load_ohms, s2.transistor,
@@ -104,7 +115,7 @@ def build_net(chain: Chain, corners=None) -> Net:
         corners = [(s1.transistor.bf, s2.transistor.bf, s1.temp_c)]
     k = np.asarray(corners, dtype=float).reshape(-1, 3)
     models = (_model(s1.transistor, k[:, 0], k[:, 2]), _model(s2.transistor, k[:, 1], k[:, 2]))
-    return Net(tuple(nodes), tuple(parts), tuple(shorts), qs, models, float(s1.supply_v))
+    return Net(tuple(nodes), tuple(parts), tuple(shorts), qs, models, float(s1.supply_v), mirror)
 
 
 class Reduction:

@@ -5,12 +5,17 @@ interstage node (the first stage's output, before CIN_B), the first stage's own 
 suffix 1 (base1, emit1, coll1, mid1) and the second's with 2.  Element lines are named after their
 positions (R1, R1_2 …, then R1_B, R1_B_2 …, CIN_B the interstage capacitor), the transistors Q1
 and Q2, each line tagged `; line N`.
+
+An all-PNP chain's net is its NPN mirror (chain/polarity.py): its deck is the real PNP circuit,
+with the stages' 0 and vcc swapped, each capacitor's + lead where the real DC is higher, and the
+PNP `.model` cards of its lines.
 """
 
 from __future__ import annotations
 
 import numpy as np
 
+from optimizer.chain import polarity
 from optimizer.chain.circuit import Chain, Net, build_net, operating_point
 from optimizer.physics.deck import _leaves_between, model_name, spice_value
 
@@ -19,7 +24,8 @@ SURROUNDINGS = ("RS", "RL")
 
 
 def deck_nodes(net: Net) -> dict[str, str]:
-    """Net node → deck node after merging the shorts (ranked names win, then the plainest)."""
+    """Net node → deck node after merging the shorts (ranked names win, then the plainest); the real
+    circuit's names, so an all-PNP chain's 0 and vcc swap."""
     group = {n: {n} for n in net.nodes}
     for a, b in net.shorts:
         merged = group[a] | group[b]
@@ -29,12 +35,13 @@ def deck_nodes(net: Net) -> dict[str, str]:
     for n in net.nodes:
         ranked = [m for m in group[n] if m in RANK]
         out[n] = min(ranked, key=RANK.index) if ranked else min(group[n], key=lambda m: (len(m), m))
-    return out
+    return {n: polarity.real_node(m, net.mirror_v) for n, m in out.items()}
 
 
 def positive_nodes(net: Net, op) -> dict[str, str]:
-    """Capacitor name → the net node of its + lead (the higher DC voltage)."""
-    v = np.atleast_2d(op)[0]
+    """Capacitor name → the net node of its + lead (the higher DC voltage in real polarity; deck_nodes
+    gives the node's name in the real circuit)."""
+    v = net.real(np.atleast_2d(op))[0]
     i = net.nodes.index
     return {p.name: (p.a if v[i(p.a)] >= v[i(p.b)] else p.b) for p in net.parts if p.kind == "C"}
 

@@ -52,7 +52,12 @@ class Figures:
     amplitude: np.ndarray | None = None  # source EMF, V peak, that gives the swing
 
     def node(self, name: str) -> np.ndarray:
+        """The solved net's DC voltage at `name` per corner (an all-PNP chain's mirror frame: VCE, VBE as magnitudes)."""
         return self.op[:, self.net.nodes.index(name)]
+
+    def volts(self, name: str) -> np.ndarray:
+        """The DC voltage at `name` per corner in real polarity (V to 0 V), as the user measures it."""
+        return self.net.real(self.op)[:, self.net.nodes.index(name)]
 
     @property
     def clips(self) -> np.ndarray:
@@ -94,7 +99,7 @@ def _tied_to_supply(net: Net, node: str) -> bool:
 
 def _pick(net: Net, k: int) -> Net:
     models = tuple(tuple(m[k:k + 1] for m in model) for model in net.models)
-    return Net(net.nodes, net.parts, net.shorts, net.qs, models, net.supply_v)
+    return Net(net.nodes, net.parts, net.shorts, net.qs, models, net.supply_v, net.mirror_v)
 
 
 def transfer(net: Net, op, freq_hz) -> np.ndarray:

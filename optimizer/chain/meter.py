@@ -3,7 +3,8 @@
 As for one stage (optimizer.physics.meter): the range spans each transistor line's hFE (min,
 typical, max; the two transistors independently) and the spec's temperature corners, with
 nominal part values, by the exact DC point of the whole chain (chain/circuit.py) at every
-corner in one batch.  Chains are NPN-only, so the readings need no mirroring.
+corner in one batch.  An all-PNP chain is solved as its NPN mirror: its readings are turned back
+into real polarity (Net.real), and its node names are the real circuit's (deck.deck_nodes).
 """
 
 from __future__ import annotations
@@ -30,7 +31,7 @@ def chain_meter_checks(chain: Chain, hfe_first: tuple[float, ...], hfe_second: t
     corners = [typical] + [(float(b1), float(b2), float(t))
                            for b1, b2, t in itertools.product(hfe_first, hfe_second, temps_c)]
     net = build_net(chain, corners)
-    op = operating_point(net)  # (corners, nodes): row 0 is the typical reading
+    op = net.real(operating_point(net))  # (corners, nodes), real polarity: row 0 is the typical reading
     names = deck_nodes(net)
     out = []
     for q, terminals in zip(TRANSISTORS, net.qs, strict=True):

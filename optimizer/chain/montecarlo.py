@@ -21,6 +21,11 @@ both stages, "saturated" / "cutoff" either.  Each stage's own figures are kept a
 driven stiffly, not the chain's Rout, which is left out), with the drawn values of each
 resistor position ("RC_2": Ω of stage 2's RC).  The low cut-off is checked elsewhere (it needs the
 capacitors).
+
+An all-PNP chain is sampled as its NPN mirror (chain/polarity.py; the screen solves the mirror
+frame, as for one PNP stage): gain, Rin, swing, currents and the flags are the mirror's, so the
+yield is the same maths; only each stage's VB, VE, VC ("vb_1" …) are turned back into real
+polarity (VCC − V).  A mixed NPN/PNP chain is refused (ValueError).
 """
 
 from __future__ import annotations
@@ -28,6 +33,7 @@ from __future__ import annotations
 import numpy as np
 
 from optimizer.chain.circuit import Chain
+from optimizer.chain.polarity import mirror_v
 from optimizer.chain.names import split
 from optimizer.parts import network_tree
 from optimizer.physics.montecarlo import (
@@ -49,6 +55,7 @@ def chain_monte_carlo(chain: Chain, networks: tuple[dict, dict], *, temp_range_c
     spread.  The supply and source are the first stage's, the load the second's; volts, ohms, °C.
     The same seed gives the same samples."""
     s1, s2 = chain.first, chain.second
+    mirror = mirror_v(chain)  # the supply for an all-PNP chain (sampled as its mirror), else 0
     rng = np.random.default_rng(seed)
     ranges = [hfe_range(s.transistor, *(h or (None, None))) for s, h in zip((s1, s2), hfe, strict=True)]
     # Draw order (fixed, so a seed repeats): stage 1's parts and hFE, stage 2's, the temperature, the VBEs.
@@ -79,6 +86,8 @@ def chain_monte_carlo(chain: Chain, networks: tuple[dict, dict], *, temp_range_c
     }
     for k, stage, r in (("1", one, r1), ("2", two, r2)):
         samples.update({f"{key}_{k}": stage[key] for key in STAGE_KEYS})
+        if mirror:
+            samples.update({f"{key}_{k}": mirror - stage[key] for key in ("vb", "ve", "vc")})
         samples[f"vbe_1ma_{k}"] = stage["vbe_1ma"]
         samples.update({f"{pos}_{k}": np.broadcast_to(np.asarray(v, dtype=float), (n,)) for pos, v in r.items()})
     return MonteCarlo(samples, n, seed)

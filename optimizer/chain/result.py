@@ -10,6 +10,8 @@ Rin, Rout, f_low, swing, THD), with VB, VE, VC and IC of Q1; each stage's own ar
 whole chain (chain/montecarlo.py: every part within its tolerance, each transistor's hFE over its
 line's range and its VBE spread, one temperature per sample over the spec's range) meeting the
 spec's gain, Rin, swing and current, and the first of the gain samples.
+Both transistors share a polarity ("polarity" in parts.Q1 and parts.Q2); an all-PNP chain was solved
+as its NPN mirror (chain/polarity.py) and every voltage here is in real polarity.
 """
 
 from __future__ import annotations
@@ -23,12 +25,13 @@ from optimizer.chain.deck import chain_netlist
 from optimizer.chain.montecarlo import chain_monte_carlo, networks_from_parts
 from optimizer.chain.search import CHECK_S, search_chain
 from optimizer.physics.analysis import _plain
-from optimizer.physics.polarity import is_pnp
+from optimizer.chain.polarity import mirror_v, real_node
 from optimizer.search.candidates import usable_transistors
 from optimizer.search.result import MC_SAMPLES, MC_SEED, mc_json, spec_json
 from optimizer.search.stopwatch import seconds_text
 
 ORIENTATION_NODES = {"in": "the input", "x": "the first stage's output", "out": "the output", "0": "ground",
+                     "vcc": "the supply (+V)",
                      "base1": "Q1's base", "emit1": "Q1's emitter", "coll1": "Q1's collector",
                      "mid1": "the RE1–RE2 junction",
                      "base2": "Q2's base", "emit2": "Q2's emitter", "coll2": "Q2's collector",
@@ -66,11 +69,16 @@ def design_json(cand, spec, *, labels=(), locations=None, mc=None, yld=None) -> 
                    spec.swing_pp if spec.swing_pp > 0 else None).predicted for end in ("min", "max")}
     uses = [{"line": int(k), "qty": int(v)} for k, v in sorted(cand.uses.items())]
     parts = dict(cand.parts)
-    parts["Q2"] = dict(parts.get("Q2") or {"line": int(h2.q.line), "part": h2.q.name})
+    # Each transistor names its polarity (both the same), as one stage's Q1 does: the drawings and decks read it.
+    parts["Q1"] = {**parts["Q1"], "polarity": h1.q.transistor.polarity}
+    parts["Q2"] = {**(parts.get("Q2") or {"line": int(h2.q.line), "part": h2.q.name}),
+                   "polarity": h2.q.transistor.polarity}
     cautions = list(report.cautions)
+    mirror = mirror_v(ch)
     for name, node in report.positive_nodes.items():
         part = parts.get(name) or {}
         if part.get("polarised"):
+            node = real_node(node, mirror)  # an all-PNP chain's CE: + toward +V (the mirror's 0)
             cautions.append(f"{name} is polarised: fit its + lead toward {ORIENTATION_NODES.get(node, node)} "
                             f"(rated {part.get('voltage_v', 0):g} V)")
     v = cand.verdict
@@ -82,8 +90,8 @@ def design_json(cand, spec, *, labels=(), locations=None, mc=None, yld=None) -> 
                                                         strict=True)):
             end1, _, rest = name.partition(".")
             corners[name] = {"hfe_end": end1, "hfe_end_b": rest.split("_")[0], "temp_c": temp, "hfe": bf1, "hfe_b": bf2,
-                             "vb": f.node(b1)[k], "ve": f.node(e1)[k], "vc": f.node(c1)[k],
-                             "vb_b": f.node(b2)[k], "ve_b": f.node(e2)[k], "vc_b": f.node(c2)[k],
+                             "vb": f.volts(b1)[k], "ve": f.volts(e1)[k], "vc": f.volts(c1)[k],
+                             "vb_b": f.volts(b2)[k], "ve_b": f.volts(e2)[k], "vc_b": f.volts(c2)[k],
                              "gain": f.gain[k], "rin": f.rin[k], "thd": None if f.thd is None else f.thd[k]}
     out = {
         "topology": ch.kind,
@@ -128,12 +136,6 @@ def find_chain_designs(drawer, spec, *, top=5, depth=2, progress=None, cancel=No
     # Stage searches wind up past their deadlines (CP-SAT realising the designs): a second kept for that.
     deadline = None if limit is None else t0 + max(0.6 * limit, limit - post - SEARCH_WIND_UP_S)
     qlines, notes = usable_transistors(drawer.transistors())
-    # Chains are NPN-only for now: the chain's nodal solver joins two stages in one frame, and a PNP
-    # stage is solved in its mirror frame (physics/polarity.py).
-    pnp = [q for q in qlines if is_pnp(q.transistor)]
-    if pnp:
-        qlines = [q for q in qlines if not is_pnp(q.transistor)]
-        notes = notes + [f"{len(pnp)} PNP line(s) left out: chains are NPN-only for now"]
     locations = {p.line: p.location for p in drawer.parts}
     rstock = drawer.resistor_stock()
     tolerance = tolerances(rstock).get
@@ -152,6 +154,7 @@ def find_chain_designs(drawer, spec, *, top=5, depth=2, progress=None, cancel=No
     sol = search_chain(rstock, drawer.capacitor_stock(), qlines, spec, depth=depth,
                        deadline=deadline, cancel=cancel, progress=progress, prefer=prefer, top=top,
                        empty_deadline=empty, accept=accept if min_yield is not None else None)
+    notes = notes + _polarity_notes(qlines, sol.polarities)
     doc["search"] = {"seconds": round(sol.seconds, 3), "exhaustive": False, "depth": depth, "prefer": prefer,
                      "time_limit_s": limit, "stopped_by": sol.stopped_by,
                      "first_design_s": None if sol.first_design_s is None else round(sol.first_design_s, 3),
@@ -182,6 +185,20 @@ def find_chain_designs(drawer, spec, *, top=5, depth=2, progress=None, cancel=No
     if progress:
         progress(1.0, "done")
     return doc
+
+
+def _polarity_notes(qlines, tried) -> list[str]:
+    """Which transistor pairs the search tried, said when the drawer holds a PNP line (an NPN-only
+    drawer's chains are NPN pairs, as ever)."""
+    polarities = {str(q.transistor.polarity).upper() for q in qlines}
+    if "PNP" not in polarities or not tried:
+        return []
+    left = sorted(polarities - set(tried))
+    text = f"chains tried {' and '.join(p + ' pairs' for p in tried)} (both stages share a polarity; " \
+           "mixed NPN/PNP chains are not designed)"
+    if left:
+        text += f"; {' and '.join(left)} line(s) left out: fewer than two {'/'.join(left)} parts in stock"
+    return [text]
 
 
 LIMIT_WORDS = {"gain": "the chain's gain left its tolerance at some corner",

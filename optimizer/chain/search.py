@@ -17,6 +17,11 @@ one transistor fewer), so every chain is buildable from the counts on hand.  The
 split so the product of the two stages' corner spreads stays within the chain's; THD, low cut-off
 and ratings get shares too; the whole chain is then checked exactly, so the shares only steer.
 
+Transistors: a chain's two stages share a polarity (an all-PNP chain is solved as the mirror of the
+all-NPN chain, chain/polarity.py; mixed chains are not designed).  The first stage's search sees the
+lines of every polarity with two parts or more in stock (NPN pairs and PNP pairs are both tried,
+`ChainSolution.polarities`), the second stage's only the lines of the first's polarity.
+
 Anytime: each stage search stops once its own trade-off set has settled (select.search's
 patience, STAGE_PATIENCE_S) rather than running to its slice's end, so the first pair is checked
 within seconds and the time left goes to the next first-stage designs and gain splits; the moment
@@ -48,6 +53,7 @@ from optimizer.chain.plan import CE_SPLITS, first_plan, rin2_floor, second_plan
 from optimizer.search import tradeoff
 from optimizer.search.select import search as stage_search
 
+POLARITIES = ("NPN", "PNP")
 FIRSTS = 3  # designs of the first search carried on
 SECONDS = 3  # designs of each second search
 # Of a split's time, for the stage designed first: a follower is quick to design, a common emitter
@@ -99,6 +105,7 @@ class ChainSolution:
     seconds: float = 0.0
     started: float = 0.0  # time.perf_counter() at the start
     first_design_s: float | None = None  # seconds from the start until a chain met the spec
+    polarities: list = field(default_factory=list)  # the transistor polarities whose pairs were tried
     unexplored: str = ("other gain splits and other pairs of stages: the chain search designs the stages one "
                        "after the other from a few designs of each stage's trade-off set, so its set is not "
                        "proven complete")
@@ -141,6 +148,9 @@ def search_chain(rstock, cstock, qlines, spec, *, depth=2, deadline=None, cancel
     if not _stocked(rstock, cstock, qlines, sol) or not _rin_reachable(rstock, spec, depth, sol):
         sol.seconds = time.perf_counter() - t0
         return sol
+    # Both stages share a polarity: NPN pairs and PNP pairs, each from lines with two parts or more
+    # between them; the second stage is searched among the first's polarity only (_one_split).
+    qlines, sol.polarities = pairable(qlines)
     floor2 = rin2_floor(spec, qlines, kind)
     splits = CE_SPLITS if CHAINS[kind] == (CE, CE) else (None,)
     found_end = deadline if deadline is not None else t0 + 60.0
@@ -176,17 +186,32 @@ def search_chain(rstock, cstock, qlines, spec, *, depth=2, deadline=None, cancel
     return sol
 
 
+def _polarity(q) -> str:
+    return str(q.transistor.polarity or "NPN").upper()
+
+
+def pairable(qlines) -> tuple[list, list[str]]:
+    """(the transistor lines a chain may use, the polarities tried): a chain's two transistors share a
+    polarity (chain/polarity.py), so only lines of a polarity with two or more parts in stock."""
+    count = Counter()
+    for q in qlines:
+        count[_polarity(q)] += int(q.qty)
+    tried = [p for p in POLARITIES if count[p] >= 2]
+    return [q for q in qlines if _polarity(q) in tried], tried
+
+
 def _stocked(rstock, cstock, qlines, sol) -> bool:
     """False (with the reason, proven) when the drawer cannot hold any chain at all."""
-    npn = sum(q.qty for q in qlines)
     if not qlines:
-        sol.why.append("no usable NPN transistor line is in stock (a chain needs two NPN transistors)")
-    elif npn < 2:
-        q = qlines[0]
-        sol.why.append(f"the drawer lacks a second NPN: only one usable NPN transistor is in stock "
-                       f"({q.name}, line {q.line}); a chain needs two")
-        sol.hints.append({"position": "Q2", "buy": f"one more {q.name} (or any NPN with an hFE range)",
-                          "value": q.name, "effect": "a second transistor for the chain's second stage"})
+        sol.why.append("no usable transistor line is in stock (a chain needs two NPN or two PNP transistors)")
+    elif not pairable(qlines)[1]:
+        # At most one part of each polarity: name each and what a second one would be.
+        for q in qlines:
+            pol = _polarity(q)
+            sol.why.append(f"the drawer lacks a second {pol}: only one usable {pol} transistor is in stock "
+                           f"({q.name}, line {q.line}); a chain needs two of one polarity")
+            sol.hints.append({"position": "Q2", "buy": f"one more {q.name} (or any {pol} with an hFE range)",
+                              "value": q.name, "effect": "a second transistor for the chain's second stage"})
     if len(rstock.qty) == 0:
         sol.why.append("no resistors are in stock")
     if len(cstock.qty) == 0:
@@ -279,9 +304,10 @@ def _one_split(kind, spec, split, floor2, rstock, cstock, qlines, depth, end, ca
         leave = ("COUT",) if index == 0 else ("CIN",)
         r_left = less_stock(rstock, h.counter(leave_out=leave))
         c_left = less_stock(cstock, h.counter(leave_out=leave))
-        q_left = less_transistor(qlines, h.q.line)
+        pol = _polarity(h.q)
+        q_left = [q for q in less_transistor(qlines, h.q.line) if _polarity(q) == pol]  # no mixed chains
         if not q_left:
-            sol.why.append("the drawer lacks a second NPN: the first stage takes the last one in stock")
+            sol.why.append(f"the drawer lacks a second {pol}: the first stage takes the last one in stock")
             continue
         # Anytime: the most promising first design may take all that is left (its search stops once
         # its set settles, handing the rest on); once a chain is in hand, half of it, the next half of the rest, …

@@ -13,6 +13,13 @@ chain's large signal: it is re-done by ngspice on the design's own netlist when 
 (a transient of the chain at the drive that gives the asked swing), else taken as the chain solver's
 at 256 points per period (not independent; the ngspice-marked tests do the independent one).
 
+An all-PNP chain is checked as its NPN mirror: each PNP stage (emitter side to +V) is the NPN stage with
+the same parts and every node voltage V replaced by VCC − V (circuit theory; README "PNP stages"), so
+gain, Rin, f_low, the passband, VCE (VEC) and IC magnitudes, and the supply current are the mirror's.
+The single-stage solver is handed the mirror directly (a PNP stage 1 without COUT is refused there);
+the mirror itself is held to ngspice on real PNP circuits by tests/test_ngspice_pnp.py and, for chains,
+tests/test_chain_pnp.py.  A chain mixing polarities fails.
+
 Corners: hFE min and max of each transistor line × spec.temps_c, nominal parts.
 `chain_failures(design, spec, drawer) -> list[str]`: [] when the chain meets everything checked.
 """
@@ -62,6 +69,12 @@ def stages_of(design: dict, spec, drawer):
     return out
 
 
+def model_of(q):
+    """The transistor model of a drawer line, as solved: a PNP line's NPN mirror (same IS, BF, VAF …)."""
+    t = transistor_of(q)
+    return replace(t, polarity="NPN") if t.polarity.upper() == "PNP" else t
+
+
 def _solve(stage: Stage):
     c = build(stage)
     return c, operating_point(c)
@@ -70,8 +83,8 @@ def _solve(stage: Stage):
 def cascade(design, spec, drawer, bf1, bf2, temp_c, freq_hz=None):
     """Per corner: (H at each frequency or midband, Rin, per-stage DC dicts, ic of each, i_supply)."""
     (k1, r1, c1, q1), (k2, r2, c2, q2) = stages_of(design, spec, drawer)
-    t1 = transistor_of(q1).with_beta(bf1)
-    t2 = transistor_of(q2).with_beta(bf2)
+    t1 = model_of(q1).with_beta(bf1)
+    t2 = model_of(q2).with_beta(bf2)
     # Stage 1 unloaded (an open stand-in), no COUT: its output node is the collector or emitter.
     s1 = Stage(k1, r1, c1, spec.supply_v, spec.source_ohms, float("inf"), t1, temp_c)
     s2 = Stage(k2, r2, c2, spec.supply_v, 0.0, spec.load_ohms, t2, temp_c)
@@ -96,6 +109,9 @@ def chain_failures(design: dict, spec, drawer) -> list[str]:
     the supply current, and the stock."""
     out = []
     (k1, r1, c1, q1), (k2, r2, c2, q2) = stages_of(design, spec, drawer)
+    polarities = {str(q.polarity or "NPN").upper() for q in (q1, q2)}
+    if len(polarities) > 1:
+        out.append(f"the transistors' polarities differ ({q1.polarity} and {q2.polarity}): no mixed chains")
     sign = -1 if design["topology"] in ("emitter-follower+common-emitter", "common-emitter+emitter-follower") else 1
     for b1 in (q1.hfe_min, q1.hfe_max):
         for b2 in (q2.hfe_min, q2.hfe_max):

@@ -16,6 +16,7 @@ from optimizer.chain.circuit import build_net, operating_point
 from optimizer.chain.deck import chain_of_design, deck_nodes, positive_nodes
 from optimizer.chain.meter import chain_meter_checks
 from optimizer.chain.names import split
+from optimizer.chain.polarity import real_node
 from optimizer.physics.stage import Stage
 
 from .content import Sheet, SheetInputError, _parts_tree, _why, pick_list
@@ -73,8 +74,8 @@ def build_chain_sheet(design: dict, spec: dict, pick: int, source: str) -> Sheet
                 own_parts[own] = parts[pos]
                 if pos in networks:
                     own_nets[own] = networks[pos]
-                if pos in plus:
-                    own_plus[own] = _stage_node(plus[pos], k)
+                if pos in plus:  # the real circuit's node (an all-PNP chain's 0 and vcc swap)
+                    own_plus[own] = _stage_node(real_node(plus[pos], net.mirror_v), k)
             views.append(StageView(k, {"topology": stage_doc["kind"], "parts": own_parts}, own_nets, own_plus, stage,
                                    "Q1" if k == 0 else "Q2", "in" if k == 0 else INTERSTAGE,
                                    INTERSTAGE if k == 0 else "out", list(stage_doc["positions"])))

@@ -266,7 +266,8 @@ def schematic(sheet: Sheet, joined: str | None = None) -> schemdraw.Drawing:
 
 def chain_schematic(sheet: Sheet) -> schemdraw.Drawing:
     """A chain joined in one drawing: stage 1 on the left, its output x wired to stage 2's input x
-    (CIN_B), both on the same ground line (y = 0 in each stage's drawing)."""
+    (CIN_B), both on the same bottom rail (y = 0 in each stage's drawing: 0 V, or +V for an all-PNP
+    chain, whose stages are both drawn with the rails swapped)."""
     first, second = (schematic(view, joined) for view, joined in zip(sheet.views, ("out", "in"), strict=True))
     out1, in2 = first.drawerfit_ports["out"], second.drawerfit_ports["in"]
     x0 = out1[0] + 1.5 - in2[0]  # stage 2's origin: its input 1.5 units right of stage 1's output
@@ -280,7 +281,7 @@ def chain_schematic(sheet: Sheet) -> schemdraw.Drawing:
         if a != b:
             d.add(elm.Line().endpoints(a, b))
     g1, g2 = first.drawerfit_ports["ground"], second.drawerfit_ports["ground"]
-    if g1 and g2 and g1[1] < x0 + g2[0]:  # one 0 V line under both stages
+    if g1 and g2 and g1[1] < x0 + g2[0]:  # one bottom rail under both stages (both stages share a polarity)
         d.add(elm.Line().endpoints((g1[1], 0.0), (x0 + g2[0], 0.0)))
     return d
 
