@@ -328,3 +328,24 @@ def test_argsort_positive_sorts_like_numpy(values):
     perm = argsort_positive(values)
     np.testing.assert_array_equal(values[perm], values[np.argsort(values)])
     np.testing.assert_array_equal(np.sort(perm), np.arange(len(values)))
+
+
+def test_the_sort_of_a_deep_table_starts_only_if_the_limit_leaves_room(monkeypatch):
+    # Sorting and indexing millions of networks cannot poll the stop watch; a fuzzed request once ran
+    # 1.8 s past a 2 s limit building a depth-3 table of 10 M networks.  With the cost per network
+    # set absurdly high the build must stop before the sort (OutOfTime), whatever the machine's
+    # speed; with no watch, or time to spare, it completes.
+    import time
+
+    from optimizer.parts import networks
+    from optimizer.search import stopwatch
+
+    s = stock([1e3 * m for m in E12], [3] * 12)
+    monkeypatch.setattr(networks, "FINISH_S_PER_NETWORK", 3600.0)
+    with stopwatch.watch(deadline=time.perf_counter() + 600.0):
+        with pytest.raises(stopwatch.OutOfTime):
+            resistor_networks(s, 3)
+    whole = resistor_networks(s, 3)  # no watch: nothing to keep
+    monkeypatch.setattr(networks, "FINISH_S_PER_NETWORK", 0.0)
+    with stopwatch.watch(deadline=time.perf_counter() + 600.0):
+        assert len(resistor_networks(s, 3).value) == len(whole.value) > 12

@@ -18,7 +18,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from optimizer.search.stopwatch import poll
+from optimizer.search.stopwatch import afford, poll
 from optimizer.parts.network_table import COUNT, FRACTION, PARALLEL2, PARALLEL3, PARALLEL_IN_SERIES, POSITIVE, RATING, SERIES2, SERIES3, SERIES_IN_PARALLEL, SHAPE_NAMES, SINGLE, Distinct, Leaf, PartsTable, Usage, argsort_positive, check_stock, ragged, stock_columns
 
 __all__ = ["NetworkTable", "resistor_networks", "SHAPE_NAMES", "Distinct", "Usage"]
@@ -188,6 +188,9 @@ def _settle(nets: _Nets, shape: int) -> dict[str, np.ndarray]:
     return {"r": nets.r, "tol": tol, "p": nets.p, "m": nets.m, "shape": shape}
 
 
+FINISH_S_PER_NETWORK = 4e-7  # sort, scatter and distinct per network (2.4e-7 s measured on a 2-core machine; margin)
+
+
 def resistor_networks(stock, depth: int = 3, lo_ohms: float | None = None, hi_ohms: float | None = None,
                       *, max_spread: float | None = None) -> NetworkTable:
     """Every network of up to `depth` parts (1–3) realisable from `stock`, with value in [lo_ohms, hi_ohms].
@@ -213,6 +216,10 @@ def resistor_networks(stock, depth: int = 3, lo_ohms: float | None = None, hi_oh
     order = rows[np.argsort(ohms[rows], kind="stable")]  # position → stock row
     builder = _Builder(ohms[order], tol[order], power[order], qty[order], lo, hi, max_spread)
     blocks = builder.blocks(depth)
+    # Sorting and indexing the networks (here and in the table's `distinct`) cannot poll: on a large
+    # drawer at depth 3 it is seconds (10 M networks of 203 lines: 2.4 s), so it starts only if the
+    # time limit leaves room for it.
+    afford(FINISH_S_PER_NETWORK * sum(len(b["r"]) for b in blocks))
 
     value = np.concatenate([b.pop("r") for b in blocks])
     sort = argsort_positive(value)

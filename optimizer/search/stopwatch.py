@@ -85,3 +85,12 @@ def poll() -> None:
         due = w.due()
         if due is not None:
             raise due()
+
+
+def afford(seconds: float) -> None:
+    """poll(), then raise OutOfTime if the current thread's watch has less than `seconds` left: for a
+    step that cannot poll once started (a sort of millions of values), asked before it starts."""
+    poll()
+    w = getattr(_local, "watch", None)
+    if w is not None and w.left() < seconds:
+        raise OutOfTime()
