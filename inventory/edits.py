@@ -85,7 +85,10 @@ def change_for(drawer: Drawer, idx: int, before: str | None, after: str | None,
 def qty_edit(txn: Txn, idx: int, part: Part, qty: int) -> None:
     """Re-write only the qty cell of record `idx` (every other cell keeps its spelling).
 
-    A count past MAX_QTY is refused: written, it would make the line an error line (its qty no count)."""
+    A count past MAX_QTY is refused: written, it would make the line an error line (its qty no count).
+    A count the line already has is no edit at all: nothing is written and nothing journaled."""
+    if qty == part.qty:
+        return
     if qty > MAX_QTY:
         raise StoreError(f"{txn.fresh.path}: line {part.line} would count {qty:,} ({describe(part)}); "
                          f"a line holds at most {MAX_QTY:,}; nothing was written")

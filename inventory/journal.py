@@ -19,16 +19,19 @@ needed a column the file lacked.  A take may carry "design": the build's record 
 object: the design, its rank and request) so its build sheet can be shown again; a value of
 another shape is ignored on reading, and entries without it are written without the key.  An
 undo entry names the entry it reverts in `undoes` and lists the changes it made, so it can be
-undone in turn.  Ids count up from 1.
+undone in turn.
 
 The drawer file is saved before its entry is appended (both under the drawer's lock): a crash
 between the two leaves a change without an entry, never an entry for a change not made.  A torn
 last line from a crash mid-append is skipped when reading and closed off by the next append.
+Ids count up from 1 and are never given out twice: a damaged line (torn, or edited by hand)
+counts as carrying the number it shows, or one above every line before it, whichever is more.
 """
 
 from __future__ import annotations
 
 import json
+import re
 from dataclasses import asdict, dataclass, field
 from datetime import datetime, timezone
 from pathlib import Path
@@ -129,30 +132,54 @@ def now_iso() -> str:
     return datetime.now(timezone.utc).isoformat(timespec="milliseconds").replace("+00:00", "Z")
 
 
+# The number a damaged line shows (entries are written with "id" first); at most 15 digits, so a
+# hand-typed giant cannot push the numbering out of range.
+_SHOWN_ID = re.compile(rb'"id"\s*:\s*([0-9]{1,15})(?![0-9])')
+
+
 class Journal:
     def __init__(self, path: str | Path) -> None:
         self.path = Path(path)
-        self.skipped = 0  # lines the last read() could not use
+        self.damaged: list[int] = []  # line numbers (1-based) the last read() could not use
+        self._last_id = 0  # the highest number any line of the last read() carried or may have carried
+
+    @property
+    def skipped(self) -> int:
+        return len(self.damaged)
 
     def read(self) -> list[Entry]:
-        """Every readable entry in order; torn or damaged lines are skipped."""
+        """Every readable entry in order; torn or damaged lines are skipped (their numbers in `damaged`)."""
+        self.damaged, self._last_id = [], 0
         try:
             data = self.path.read_bytes()
         except FileNotFoundError:
             return []
         entries = []
-        self.skipped = 0
-        for raw in data.split(b"\n"):
+        for number, raw in enumerate(data.split(b"\n"), 1):
             if not raw.strip():
                 continue
             try:
-                entries.append(Entry.from_json(json.loads(raw)))
+                entry = Entry.from_json(json.loads(raw))
             except (ValueError, RecursionError):  # JSONDecodeError and UnicodeDecodeError are ValueErrors
-                self.skipped += 1  # a torn line from a crash mid-append, or one edited by hand
+                # A torn line from a crash mid-append, or one edited by hand.  It was written with a
+                # number above every line before it, or shows its own: neither may be given out again.
+                self.damaged.append(number)
+                shown = _SHOWN_ID.search(raw)
+                self._last_id = max(self._last_id + 1, int(shown.group(1)) if shown else 0)
+                continue
+            entries.append(entry)
+            self._last_id = max(self._last_id, entry.id)
         return entries
 
+    def damage_notes(self) -> list[str]:
+        """One `file:line: …` line per line the last read() left out."""
+        return [f"{self.path}:{n}: not a journal entry (torn by a crash or edited by hand); left out, "
+                "the other entries are read" for n in self.damaged]
+
     def next_id(self) -> int:
-        return max((e.id for e in self.read()), default=0) + 1
+        """A number no line of the journal carries or may have carried (a damaged line counts as one)."""
+        self.read()
+        return self._last_id + 1
 
     def append(self, entry: Entry) -> None:
         """Append under the caller's lock, flushed and fsynced."""

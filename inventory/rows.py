@@ -2,7 +2,8 @@
 
 The columns are a fixed contract (see DEVELOPERS.md).  Defaults follow common
 stock: 5 % for resistors, 20 % for capacitors, 0.25 W resistor rating (common
-practice, no source).  Cells that do not apply to a line's kind are ignored.
+practice, no source).  Cells that do not apply to a line's kind are ignored on reading
+(APPLIES lists what each kind reads; `drawerfit add` refuses the others).
 """
 
 from __future__ import annotations
@@ -19,8 +20,21 @@ COLUMNS = (
     "hfe_min", "hfe_max", "vceo", "ic_max", "pd_max", "location", "notes",
 )
 REQUIRED = ("kind", "value", "qty")
+# The cells each kind reads (besides kind, qty, location and notes); the others are ignored on that kind.
+APPLIES = {
+    "resistor": ("value", "tolerance", "power"),
+    "capacitor": ("value", "tolerance", "voltage", "dielectric"),
+    "transistor": ("part", "polarity", "hfe_min", "hfe_max", "vceo", "ic_max", "pd_max"),
+}
 DEFAULT_TOLERANCE = {"resistor": 0.05, "capacitor": 0.20}
 DEFAULT_POWER_W = 0.25
+# Plausibility limits of a transistor line: a value past them is a typo (a unit or an exponent
+# too many), and the line is an error, left out of designs.  Common practice, no source; set
+# generously: small-signal parts have hFE in the tens to hundreds, Darlingtons in the thousands
+# to tens of thousands (BC517 is given as ≥ 30 000 from memory), and no single transistor
+# comes near 10 kV, 1 kA or 10 kW.
+HFE_LIMITS = (1.0, 100_000.0)
+RATING_LIMITS = {"vceo": (10e3, "10 kV"), "ic_max": (1e3, "1 kA"), "pd_max": (10e3, "10 kW")}
 _QTY = re.compile(r"[0-9]{1,9}")
 MAX_QTY = 999_999_999  # the largest count a line's qty cell holds (nine digits, _QTY)
 _DECIMAL_COMMA = re.compile(r"(?<=[0-9]),(?=[0-9])")
@@ -123,8 +137,8 @@ def _transistor_fields(r: RowReader) -> dict | None:
         r.report("polarity", f"{what} (a transistor needs NPN or PNP)")
     if r.text("value"):
         r.report("value", "value is ignored for transistors (the type goes in part)", "warning")
-    hfe_min = r.value("hfe_min", values.parse_number)
-    hfe_max = r.value("hfe_max", values.parse_number)
+    hfe_min = _within_hfe(r, "hfe_min", r.value("hfe_min", values.parse_number))
+    hfe_max = _within_hfe(r, "hfe_max", r.value("hfe_max", values.parse_number))
     if hfe_min is not None and hfe_max is not None and hfe_min > hfe_max:
         r.report("hfe_max", f"hfe_min {hfe_min:g} is more than hfe_max {hfe_max:g}")
     elif not r.text("hfe_min") or not r.text("hfe_max"):
@@ -132,9 +146,28 @@ def _transistor_fields(r: RowReader) -> dict | None:
                  "warning")
     return dict(
         value=None, polarity=polarity, hfe_min=hfe_min, hfe_max=hfe_max,
-        vceo_v=r.value("vceo", values.parse_voltage), ic_max_a=r.value("ic_max", values.parse_current),
-        pd_max_w=r.value("pd_max", values.parse_power),
+        vceo_v=_within_rating(r, "vceo", r.value("vceo", values.parse_voltage)),
+        ic_max_a=_within_rating(r, "ic_max", r.value("ic_max", values.parse_current)),
+        pd_max_w=_within_rating(r, "pd_max", r.value("pd_max", values.parse_power)),
     )
+
+
+def _within_hfe(r: RowReader, name: str, hfe: float | None) -> float | None:
+    lo, hi = HFE_LIMITS
+    if hfe is not None and not lo <= hfe <= hi:
+        r.report(name, f"{name} {shown(r.text(name))} is not a transistor's current gain (expected {lo:g} to "
+                 f"{hi:,.0f}; small-signal parts are in the hundreds, Darlingtons in the thousands or more)")
+        return None
+    return hfe
+
+
+def _within_rating(r: RowReader, name: str, rating: float | None) -> float | None:
+    limit, spelled = RATING_LIMITS[name]
+    if rating is not None and rating > limit:
+        r.report(name, f"{name} {shown(r.text(name))} is beyond any single transistor's (at most {spelled}); "
+                 "check the unit")
+        return None
+    return rating
 
 
 def identity_key(identity: tuple) -> tuple:

@@ -48,6 +48,25 @@ def test_ibe_bracket_contains_the_root():
     assert np.max(width) <= 1.0001e-4  # tight as well as sound (BRACKET_WIDTH): a loose bracket prunes nothing
 
 
+@pytest.mark.parametrize("bf", [1e5, 1e9])
+def test_ibe_bracket_stays_sound_when_vth_and_the_diode_nearly_cancel(bf):
+    # No emitter resistor and a huge hFE make a = RTH/BF tiny: VTH − Vt·ln(1 + x/IS) is then rounding
+    # noise / a, which once crossed the bracket and sent NaN through log1p (a RuntimeWarning printed
+    # by `design`; under this suite's filterwarnings=error it fails the test).  brentq is the oracle.
+    rng = np.random.default_rng(12)
+    n = 1500
+    vth = rng.uniform(0.03, 1.0, n)  # starved stages, where the diode term takes nearly all of VTH
+    rth = 10.0 ** rng.uniform(1, 6.5, n)
+    re = np.zeros(n)
+    lo, hi = ibe_bracket(vth, rth, re, bf, 1.1, IS_A, VT)
+    assert np.all(np.isfinite(lo)) and np.all(np.isfinite(hi))
+    for i in range(n):
+        x = _root(vth[i], rth[i] / bf)
+        assert lo[i] <= x * (1 + 1e-9) and hi[i] >= x * (1 - 1e-9), (vth[i], rth[i], lo[i], x, hi[i])
+    ic_lo, ic_hi = ic_bracket(vth, rth, re, bf=bf, is_a=IS_A, vaf_v=T.vaf_v, vt=VT, supply_v=12.0, vce_min=1.0)
+    assert np.all(np.isfinite(ic_lo)) and np.all(ic_lo <= ic_hi)
+
+
 @pytest.mark.parametrize("beta", [T.hfe_min, T.hfe_max])
 def test_ic_bracket_contains_the_dc_solution(beta):
     rng = np.random.default_rng(int(beta))

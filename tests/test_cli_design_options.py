@@ -218,3 +218,35 @@ def test_a_bad_save_target_is_refused_before_the_search(calls, capsys, target):
     assert main(["design", "--gain", "10", "--save", target]) == 2
     assert capsys.readouterr().err.startswith("drawerfit: --save")
     assert calls == []
+
+
+@pytest.mark.parametrize(("argv", "said"), [
+    # argparse took these for options and said "--max-thd: expected one argument", naming no reason.
+    (["--max-thd", "-1%"], '--max-thd: "-1%" is below 0'),
+    (["--gain-tol", "-1%"], '--gain-tol: "-1%" is below 0'),
+    (["--source", "-1k"], '--source: "-1k" is below 0'),
+    (["--load", "-4k7"], '--load: "-4k7" is below 0'),
+    (["--low-cut", "-.5"], '--low-cut: "-.5" is below 0'),
+    (["--swing", "-1e0"], '--swing: "-1e0" is below 0'),
+    (["--source", "-inf"], '--source: "-inf" is not a resistance'),
+])
+def test_negative_looking_values_reach_the_options_own_check(calls, capsys, argv, said):
+    assert main(["design", "--gain", "10", *argv]) == 2
+    err = capsys.readouterr().err
+    assert said in err and "expected one argument" not in err and err.count("\n") == 1
+    assert calls == []
+
+
+@pytest.mark.parametrize("argv", [["--supply", "12", "--negative-supply", "-12"], ["--supply", "±12"],
+                                  ["--supply=12", "--negative-supply=-12"]])
+def test_a_negative_rail_is_still_read(calls, argv):
+    DOC["now"] = _doc("infeasible")
+    assert main(["design", "--topology", "split-common-emitter", "--gain", "5", *argv]) == 3
+    spec = calls[0][0]
+    assert (spec.supply_v, spec.negative_supply_v) == (12.0, -12.0)
+
+
+def test_a_value_that_is_an_option_is_still_refused_by_argparse(calls, capsys):
+    assert main(["design", "--gain", "10", "--source", "--json"]) == 2
+    assert "--source: expected one argument" in capsys.readouterr().err
+    assert calls == []

@@ -216,3 +216,91 @@ def test_a_journal_that_cannot_be_read_is_said_plainly(drawer, capsys):
     assert run("history") == 2
     err = capsys.readouterr().err
     assert f"{journal_path(drawer)}: cannot use it (Is a directory)" in err and "[Errno" not in err
+
+
+def test_history_and_undo_name_each_damaged_journal_line(drawer, capsys):
+    assert run("count", "2", "+1") == 0
+    assert run("count", "2", "+1") == 0
+    jpath = journal_path(drawer)
+    first, second = jpath.read_bytes().splitlines(keepends=True)
+    jpath.write_bytes(first + second[:25])  # torn in the middle of change 2
+    assert run("count", "3", "+1") == 0
+    capsys.readouterr()
+    assert run("history") == 0
+    out, err = capsys.readouterr()
+    assert f"{jpath}:2: not a journal entry" in err
+    assert [line.split()[0] for line in out.splitlines() if not line.startswith(" " * 8)] == ["1", "3"]
+    assert run("undo") == 0
+    out, err = capsys.readouterr()
+    assert f"{jpath}:2: not a journal entry" in err and out.startswith("undid change 3")
+    assert Drawer.load(drawer).part_at(3).qty == 2  # change 3 (the count on line 3) was the one undone
+
+
+@pytest.mark.parametrize("qty", ["10", "+0", "-0"])
+def test_a_count_the_line_already_has_writes_nothing(drawer, capsys, qty):
+    # `count 2 10` on a line counting 10 once journaled a change that changed nothing.
+    assert run("count", "2", qty) == 0
+    assert "drawer.csv:2: already reads so; nothing written" in capsys.readouterr().err
+    assert drawer.read_bytes() == GOOD and not journal_path(drawer).exists()
+    assert run("undo") == 1  # nothing to undo: no entry was made
+
+
+def test_list_shows_each_line_on_one_line_and_keeps_the_file(drawer, capsys):
+    text = GOOD + b'resistor,1k,1,,,,,,,,A4,"bought at the fair\nsecond bag\r\nthird\tone"\n'
+    drawer.write_bytes(text.replace(b",location\n", b",location,notes\n", 1))
+    before = drawer.read_bytes()
+    assert run("list") == 0
+    out = capsys.readouterr().out.splitlines()
+    assert len(out) == 1 + 5  # the header and one row per part
+    assert out[-1].endswith("bought at the fair / second bag / third\\tone")
+    assert drawer.read_bytes() == before
+    assert run("list", "--json") == 0  # the JSON keeps the text as the file has it
+    assert json.loads(capsys.readouterr().out)[-1]["notes"] == "bought at the fair\nsecond bag\r\nthird\tone"
+
+
+def test_list_with_min_above_max_names_both(drawer, capsys):
+    assert run("list", "--min", "10k", "--max", "1k") == 2
+    err = capsys.readouterr().err
+    assert "--min 10k is above --max 1k" in err and err.count("\n") == 1
+    assert run("list", "--json", "--min", "4k7", "--max", "4700") == 0  # equal bounds: that one value
+    assert [r["line"] for r in json.loads(capsys.readouterr().out)] == [2]
+
+
+@pytest.mark.parametrize(("argv", "said"), [
+    (["resistor", "1k", "--dielectric", "x7r"], "--dielectric does not apply to a resistor (it is for capacitors)"),
+    (["capacitor", "100n", "--power", "1W"], "--power does not apply to a capacitor (it is for resistors)"),
+    (["resistor", "1k", "--hfe-min", "100"], "--hfe-min does not apply to a resistor (it is for transistors)"),
+    (["transistor", "BC547B", "--tolerance", "5%"],
+     "--tolerance does not apply to a transistor (it is for resistors and capacitors)"),
+    (["resistor", "1k", "--cell", "vceo=45V"], "--vceo does not apply to a resistor"),
+])
+def test_add_refuses_a_cell_its_kind_does_not_read(drawer, capsys, argv, said):
+    assert run("add", *argv, "--qty", "1") == 2
+    assert said in capsys.readouterr().err
+    assert drawer.read_bytes() == GOOD and not journal_path(drawer).exists()
+
+
+@pytest.mark.parametrize(("cells", "column"), [
+    (b"1e9,1e10", 9), (b"0.5,300", 9), (b"100,200000", 10),
+])
+def test_check_refuses_a_current_gain_no_transistor_has(drawer, capsys, cells, column):
+    drawer.write_bytes(GOOD + b"transistor,,3,,,,XX1,NPN," + cells + b",C2\n")
+    assert run("check") == 2
+    out = capsys.readouterr().out
+    assert f"drawer.csv:6:{column}: " in out and "is not a transistor's current gain (expected 1 to 100,000" in out
+    assert 6 not in [p.line for p in Drawer.load(drawer).transistors()]  # designs never see it
+
+
+def test_check_passes_darlingtons_and_refuses_ratings_past_any_transistor(drawer_at, capsys):
+    head = b"kind,value,qty,part,polarity,hfe_min,hfe_max,vceo,ic_max,pd_max\n"
+    # A Darlington's hFE runs to tens of thousands (BC517 is given as >= 30 000, from memory).
+    drawer = drawer_at(head + b"transistor,,2,BC517,NPN,30000,90000,30V,1A,625mW\n"
+                              b"transistor,,2,TIP122,NPN,1000,20000,100V,5A,65W\n")
+    assert run("check") == 0
+    drawer.write_bytes(head + b"transistor,,2,X,NPN,100,300,45kV,100mA,500mW\n"
+                              b"transistor,,2,Y,NPN,100,300,45V,2000A,500mW\n"
+                              b"transistor,,2,Z,NPN,100,300,45V,100mA,20000W\n")
+    assert run("check") == 2
+    out = capsys.readouterr().out.splitlines()
+    assert [line.split(": ", 1)[1].split(" ")[0] for line in out] == ["vceo", "ic_max", "pd_max"]
+    assert all("beyond any single transistor" in line for line in out)

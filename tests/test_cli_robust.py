@@ -15,6 +15,7 @@ import pytest
 
 from inventory.drawer import Drawer
 from inventory.journal import journal_path
+from inventory.locate import demo_bytes
 from tui.cli import main
 
 GOOD = (b"kind,value,qty,tolerance,voltage,dielectric,part,polarity,hfe_min,hfe_max,location\n"
@@ -260,7 +261,7 @@ def test_journal_of_odd_shape_then_a_real_change_undoes(drawer, capsys):
     assert main(["undo"]) == 0
     assert drawer.read_bytes() == GOOD
     assert main(["history"]) == 0
-    assert "not journal entries" in capsys.readouterr().err
+    assert f"{journal_path(drawer)}:1: not a journal entry" in capsys.readouterr().err
 
 
 # The README names every option `add --help` has (it once claimed `add --part`).
@@ -329,6 +330,28 @@ def test_sheet_of_a_transistor_whose_part_cell_holds_markup_characters(tmp_path,
     assert "BC547B A&amp;B &lt;25&gt;" in out  # the part cell, escaped as SVG and HTML text
 
 
+# Unicode Standard Annex #9's explicit formatting characters and marks: invisible, they reorder the text
+# around them (a pick list could read otherwise than the drawer says).
+BIDI = "\u061c\u200e\u200f\u202a\u202b\u202c\u202d\u202e\u2066\u2067\u2068\u2069"
+
+
+@pytest.mark.parametrize("fmt", ["html", "svg", "md", "csv", "cir"])
+def test_text_direction_controls_never_reach_an_exported_sheet(tmp_path, capsys, fmt):
+    doc = json.loads(SAVED.read_text())
+    design = doc["designs"][0]
+    design["parts"]["Q1"]["part"] = "BC547\u202eB25"  # shown as BC52B745 by a reader that obeys it
+    design["locations"][str(design["parts"]["Q1"]["line"])] = "D\u20661" + BIDI
+    path = tmp_path / "saved.json"
+    path.write_text(json.dumps(doc))
+    assert main(["sheet", str(path), "--format", fmt]) == 0
+    out = capsys.readouterr().out
+    assert not any(c in out for c in BIDI)
+    if fmt != "cir":  # the deck names the transistor by its line, not its part cell
+        assert "BC547\\u202eB25" in out  # shown, as `check` and `list` show it
+    if fmt in ("html", "md", "csv"):  # the pick list carries the location
+        assert "D\\u20661" in out
+
+
 def test_sheet_and_open_refuse_a_file_nested_too_deeply(tmp_path, capsys):
     # A hand-edited file of 100 000 nested brackets once ended `sheet` in "internal error (RecursionError …)".
     from tui.saved import SavedFileError, load_saved
@@ -348,3 +371,101 @@ def test_sheet_reads_a_saved_file_with_a_byte_order_mark(tmp_path, capsys):
     path.write_bytes(b"\xef\xbb\xbf" + SAVED.read_bytes())
     assert main(["sheet", str(path), "--format", "csv"]) == 0
     assert capsys.readouterr().out.startswith("location,line,part,value,qty,positions")
+
+
+# A hand-damaged saved file once got `sheet`/`build` to say Python's own words ("list indices must be
+# integers or slices, not str"); the reason names the entry by its JSON path instead.
+DAMAGE = {
+    "a part that is a list": (("designs", 0, "parts", "RC"), [1, 2], "designs[0].parts.RC: expected an object"),
+    "a value as text": (("designs", 0, "parts", "RC", "ohms"), "4k7", "designs[0].parts.RC.ohms: expected a number"),
+    "a network that is a list": (("designs", 0, "parts", "R1", "network"), [1],
+                                 "designs[0].parts.R1.network: expected an object"),
+    "a transistor that is a list": (("designs", 0, "parts", "Q1"), [], "designs[0].parts.Q1: expected an object"),
+    "hFE as text": (("designs", 0, "hfe"), "x", "designs[0].hfe: expected an object"),
+    "a figure as text": (("designs", 0, "predicted", "gain"), "a", "designs[0].predicted.gain: expected a number"),
+    "a warning that is an object": (("designs", 0, "warnings"), [{"a": 1}], "designs[0].warnings[0]: expected text"),
+    "a use that is a list": (("designs", 0, "uses", 0), [1], "designs[0].uses[0]: expected "),
+    "the supply as text": (("spec", "supply_v"), "x", "spec.supply_v: expected a number"),
+    "no load at all": (("spec", "load_ohms"), 0, "spec.load_ohms: expected a number of 1 mΩ or more"),
+}
+
+
+def _damaged(tmp_path: Path, where: tuple, value) -> Path:
+    doc = json.loads(SAVED.read_text())
+    node = doc
+    for key in where[:-1]:
+        node = node[key]
+    node[where[-1]] = value
+    path = tmp_path / "hand.json"
+    path.write_text(json.dumps(doc))
+    return path
+
+
+@pytest.mark.parametrize(("where", "value", "reason"), DAMAGE.values(), ids=DAMAGE)
+def test_a_damaged_saved_design_is_named_by_file_and_json_path(tmp_path, capsys, where, value, reason):
+    path = _damaged(tmp_path, where, value)
+    drawer = tmp_path / "drawer.csv"
+    drawer.write_bytes(demo_bytes())
+    for argv in (["sheet", str(path), "--format", "csv"], ["--inventory", str(drawer), "build", str(path)]):
+        assert main(argv) == 2
+        err = capsys.readouterr().err
+        assert err.startswith(f"drawerfit: {path}: ") and reason in err, argv
+        assert err.count("\n") == 1 and "cannot be drawn" not in err
+    assert drawer.read_bytes() == demo_bytes() and not journal_path(drawer).exists()
+
+
+PYTHON_WORDS = ("NoneType", "object has no", "not subscriptable", "indices must", "not iterable", "argument",
+                "__format__", "not supported between")
+
+
+def test_no_hand_damage_to_a_saved_design_gets_python_words_from_sheet(tmp_path, capsys):
+    # Brute force over the saved demo document: every entry of design 1 and of the request, each
+    # replaced by a value of another type.  Each run draws the sheet or refuses it in one plain line.
+    doc = json.loads(SAVED.read_text())
+
+    def entries(node, where=()):
+        if where:
+            yield where
+        if isinstance(node, dict) and len(where) < 5:
+            for k, x in node.items():
+                yield from entries(x, (*where, k))
+        elif isinstance(node, list) and node and len(where) < 5:
+            yield from entries(node[0], (*where, 0))
+
+    spots = [w for w in entries(doc) if w[:2] == ("designs", 0) or w[:1] == ("spec",)]
+    assert len(spots) > 60
+    for where in spots:
+        for value in ([], "x", None):
+            path = _damaged(tmp_path, where, value)
+            code = main(["sheet", str(path), "--format", "csv"])
+            err = capsys.readouterr().err
+            assert code in (0, 2) and err.count("\n") == (code == 2), (where, value, err)
+            assert not any(w in err for w in PYTHON_WORDS) and "internal error" not in err, (where, value, err)
+
+
+def test_a_numeric_warning_inside_a_command_is_one_plain_line(drawer, capsys, monkeypatch):
+    # numpy's RuntimeWarning once reached the terminal as "…/decompose.py:101: RuntimeWarning: invalid value
+    # encountered in log1p" and a line of source.  Whatever warns inside a command is said once, plainly.
+    import warnings
+
+    import numpy as np
+
+    import tui.cmd_drawer_list as listing
+
+    real = listing.select
+
+    def select_that_warns(*args):
+        np.log1p(np.array([-2.0, -3.0]))  # NaN, and numpy warns (twice over: said once)
+        np.log1p(np.array([-2.0]))
+        return real(*args)
+
+    monkeypatch.setattr(listing, "select", select_that_warns)
+    monkeypatch.delenv("DRAWERFIT_DEBUG", raising=False)
+    with warnings.catch_warnings():
+        warnings.simplefilter("always")  # as a user's interpreter shows them (this suite makes them errors)
+        assert main(["list"]) == 0
+    err = capsys.readouterr().err
+    notes = [line for line in err.splitlines() if "went out of range" in line]
+    assert notes == ["drawerfit list: note: a calculation went out of range (invalid value encountered in log1p); "
+                     "please report it with the command line (DRAWERFIT_DEBUG=1 shows where)"]
+    assert "RuntimeWarning" not in err and ".py:" not in err

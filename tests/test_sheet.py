@@ -112,7 +112,7 @@ def test_cir_deck_keeps_the_contract_before_the_bench(saved, capsys):
     (["sheet", "{demo}", "--pick", "9", "--format", "csv"], "holds 2 design(s)"),
     (["sheet", "{demo}", "--pick", "two", "--format", "csv"], "--pick: 'two' is not a whole number"),
     (["sheet", "{demo}", "--format", "csv", "-o", "{folder}/no/such/dir/x.csv"], "-o "),
-    (["sheet", "{partless}", "--format", "html"], "design 1 cannot be read back (missing 'parts')"),
+    (["sheet", "{partless}", "--format", "html"], "partless.json: designs[0].parts: expected an object"),
 ])
 def test_bad_input_is_one_line_and_exit_2(saved, capsys, argv, expect):
     garbage = saved["folder"] / "garbage.json"

@@ -252,4 +252,5 @@ def test_a_damaged_chain_is_one_line_and_exit_2(chains, tmp_path, capsys):
     for fmt in ("html", "md", "svg"):
         assert main(["sheet", str(bad), "--format", fmt]) == 2
         err = capsys.readouterr().err
-        assert "cannot be read back" in err and len(err.strip().splitlines()) == 1 and "Traceback" not in err
+        assert "bad.json: designs[0].stages[1].positions[" in err and 'expected a position named in "parts"' in err
+        assert len(err.strip().splitlines()) == 1 and "Traceback" not in err

@@ -14,9 +14,12 @@ function; this file only wires them and holds the rules every command follows:
 from __future__ import annotations
 
 import argparse
+import contextlib
 import os
+import re
 import sys
 import time
+import warnings
 
 import importlib
 
@@ -34,8 +37,37 @@ EXIT_PIPE_CLOSED = 141      # 128 + SIGPIPE, as a shell reports a writer whose r
 EXIT_INTERNAL = 70          # EX_SOFTWARE (sysexits.h): a fault of ours, never of the input
 
 
+# A value that starts with "-" and a digit or a point (-1k, -1%, -.5, -10..50, also -inf): argparse reads
+# "-1k" as an option and says "expected one argument"; joined to its option as --source=-1k it reaches our
+# own checks, which name the option and the reason.  (Plain negative numbers such as -12 argparse takes.)
+_NEGATIVE_LOOKING = re.compile(r"-([0-9.]|inf|nan)", re.IGNORECASE)
+
+
 class _Parser(argparse.ArgumentParser):
     """argparse with one-line errors (`drawerfit: --depth: …`) and exit 2."""
+
+    def parse_known_args(self, args=None, namespace=None):  # type: ignore[override]
+        # Each subcommand's parser is handed its own words, so this sees only options it defines.
+        if args is not None:
+            args = self._join_negative_values(list(args))
+        return super().parse_known_args(args, namespace)
+
+    def _join_negative_values(self, args: list[str]) -> list[str]:
+        valued = {s for a in self._actions if a.option_strings and a.nargs is None for s in a.option_strings}
+        out: list[str] = []
+        i = 0
+        while i < len(args):
+            a = args[i]
+            if a == "--":  # the rest are positionals, as argparse takes them
+                out += args[i:]
+                break
+            if a in valued and i + 1 < len(args) and _NEGATIVE_LOOKING.match(args[i + 1]):
+                out.append(f"{a}={args[i + 1]}")
+                i += 2
+                continue
+            out.append(a)
+            i += 1
+        return out
 
     def error(self, message: str) -> None:  # type: ignore[override]
         if message.startswith("unrecognized arguments:") and any(
@@ -103,27 +135,11 @@ def main(argv: list[str] | None = None) -> int:
         return EXIT_INTERNAL
 
 
-# Options whose value may start with "-" (a range below 0 °C): argparse would take "-10..50" for an option.
-_SIGNED_VALUES = ("--temp-range",)
-
-
-def _join_signed(argv: list[str]) -> list[str]:
-    out: list[str] = []
-    it = iter(argv)
-    for a in it:
-        if a in _SIGNED_VALUES:
-            nxt = next(it, None)
-            out.append(a if nxt is None else f"{a}={nxt}")
-        else:
-            out.append(a)
-    return out
-
-
 _COMMAND = [""]  # the subcommand being run, for the one-line internal-error message
 
 
 def _run(argv: list[str] | None) -> int:
-    argv = _join_signed(list(sys.argv[1:] if argv is None else argv))
+    argv = list(sys.argv[1:] if argv is None else argv)
     parser = build_parser(_command_of(argv))
     args = parser.parse_args(argv)
     _COMMAND[0] = args.command or ""
@@ -131,7 +147,32 @@ def _run(argv: list[str] | None) -> int:
         from .app import run_app  # Textual is imported only for the app itself
 
         return run_app(args.inventory)
-    return int(args.handler(args) or 0)
+    with _plain_warnings():
+        return int(args.handler(args) or 0)
+
+
+@contextlib.contextmanager
+def _plain_warnings():
+    """A warning raised while a command runs (numpy's RuntimeWarning from deep in a calculation) is said
+    once as one plain line, never as Python's file:line and source echo.  The warning filters are left as
+    they are (tests that turn warnings into errors still see them), only how a shown one reads changes."""
+    said: set[str] = set()
+
+    def show(message, category, filename, lineno, file=None, line=None) -> None:
+        text = str(message)
+        if text in said:
+            return
+        said.add(text)
+        name = _COMMAND[0]
+        print(f"drawerfit{' ' + name if name else ''}: note: a calculation went out of range ({text[:120]}); "
+              "please report it with the command line (DRAWERFIT_DEBUG=1 shows where)", file=sys.stderr)
+
+    if os.environ.get("DRAWERFIT_DEBUG"):
+        yield
+        return
+    with warnings.catch_warnings():
+        warnings.showwarning = show
+        yield
 
 
 def _silence_stdout() -> None:

@@ -23,6 +23,7 @@ from inventory.store import Store
 
 from .builds import build_record, design_tag, last_build
 from .cmd_common import InputError, drawer_path, load_drawer, say, whole
+from .saved_shape import shape_problem
 
 __all__ = ["register", "read_saved", "design_tag", "run_build"]
 
@@ -56,19 +57,21 @@ def read_saved(file: str) -> dict:
         raise InputError(f"{where} (larger than {MAX_SAVED_BYTES // 1_000_000} MB)")
     try:
         doc = json.loads(raw.decode("utf-8-sig"), parse_constant=_no_constant)
+    except json.JSONDecodeError as exc:
+        raise InputError(f"{file}:{exc.lineno}:{exc.colno}: not a saved design file (not JSON: {exc.msg})") from None
     except (ValueError, RecursionError) as exc:
         raise InputError(f"{where} (not JSON: {str(exc)[:80]})") from None
     if not isinstance(doc, dict) or not isinstance(doc.get("designs"), list):
         raise InputError(f'{where} (expected an object with a "designs" list, as `design --save` writes)')
-    for i, d in enumerate(doc["designs"], 1):
+    for i, d in enumerate(doc["designs"]):
         uses = d.get("uses") if isinstance(d, dict) else None
         if not isinstance(uses, list) or not uses:
-            raise InputError(f'{where} (design {i} has no "uses" list of drawer lines)')
-        for u in uses:
+            raise InputError(f'{file}: designs[{i}].uses: expected a list of drawer lines (design {i + 1} has none)')
+        for j, u in enumerate(uses):
             if not (isinstance(u, dict) and _count(u.get("line")) and u["line"] >= 2
                     and _count(u.get("qty")) and u["qty"] >= 1):
-                raise InputError(f'{where} (design {i}: each use must be {{"line": N ≥ 2, "qty": whole number ≥ 1}}, '
-                                 f"found {_shown(u)})")
+                raise InputError(f'{file}: designs[{i}].uses[{j}]: expected {{"line": N ≥ 2, "qty": whole number '
+                                 f"≥ 1}}, found {_shown(u)}")
     inv = doc.get("inventory")
     if inv is not None and not isinstance(inv, str):
         raise InputError(f'{where} ("inventory" must be a file name)')
@@ -115,6 +118,10 @@ def run_build(args) -> int:
         if not designs:
             raise InputError(f"{args.file} holds no design (the spec was not met); nothing to build")
         pick = whole(args.pick, "pick", 1, len(designs))
+        # The design goes into the journal (its sheet is shown from there): a damaged one is refused.
+        problem = shape_problem(doc, pick, complete=False)
+        if problem:
+            raise InputError(f"{args.file}: {problem}")
         path = _drawer_of(args, doc)
         drawer = load_drawer(path)
     except InputError as exc:

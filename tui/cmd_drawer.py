@@ -27,6 +27,7 @@ from inventory.edits import ConflictError, NothingToUndo, StockError, StoreError
 from inventory.journal import Entry, undone_ids
 from inventory.locate import InventoryNotFound, find_inventory
 from inventory.parts import DIELECTRICS, KINDS
+from inventory.rows import APPLIES
 from inventory.store import Store
 from inventory.undo import pick
 
@@ -127,6 +128,9 @@ _ADD_FLAGS = (
 )
 
 
+_FLAG_CELLS = {flag.replace("-", "_") for flag, _ in _ADD_FLAGS}
+
+
 def _cell_options(p) -> None:
     for flag, what in _ADD_FLAGS:
         p.add_argument(f"--{flag}", metavar=flag.split("-")[0].upper() if flag != "dielectric" else "D",
@@ -200,10 +204,22 @@ def _say(store: Store, entry: Entry) -> None:
 def run_add(args) -> int:
     fields = {"kind": args.kind, "qty": args.qty}
     fields["part" if args.kind == "transistor" else "value"] = args.value
-    fields.update(_cell_fields(args))
+    cells = _cell_fields(args)
+    _refuse_cells_of_other_kinds(args.kind, cells)
+    fields.update(cells)
     store = _store(args)
     _say(store, store.add_part(fields, args.reason))
     return 0
+
+
+def _refuse_cells_of_other_kinds(kind: str, cells: dict[str, str]) -> None:
+    """A cell another kind reads (--dielectric on a resistor) would sit in the file unread: refused."""
+    for name in cells:
+        owners = [k for k, names in APPLIES.items() if name in names]
+        if owners and kind not in owners:
+            flag = f"--{name.replace('_', '-')}" if name in _FLAG_CELLS else f"--cell {name}=…"
+            raise InputError(f"{flag} does not apply to a {kind} (it is for {' and '.join(k + 's' for k in owners)}); "
+                             "nothing was written")
 
 
 def run_edit(args) -> int:
@@ -229,6 +245,9 @@ def run_count(args) -> int:
         entry = store.adjust_qty(args.line, int(text), args.reason)
     else:
         entry = store.set_qty(args.line, int(text), args.reason)
+    if not entry.changes:  # the count it already has: no journal entry that changes nothing
+        print(f"{store.path}:{args.line}: already reads so; nothing written", file=sys.stderr)
+        return 0
     _say(store, entry)
     return 0
 
@@ -239,8 +258,16 @@ def run_remove(args) -> int:
     return 0
 
 
+def _damage_warnings(store: Store, extra: str = "") -> None:
+    """Name each journal line the last read left out (file:line), on stderr."""
+    for note in store.journal.damage_notes():
+        print(f"drawerfit: warning: {note}{extra}", file=sys.stderr)
+
+
 def run_undo(args) -> int:
     store = _store(args)
+    store.history()
+    _damage_warnings(store, "; a change it held is not offered for undo")
     entry = store.undo(args.entry, args.reason or _undo_reason(store, args.entry))
     print(f"undid change {entry.undoes}")
     _say(store, entry)
@@ -260,9 +287,7 @@ def run_history(args) -> int:
         raise InputError(f"--last: {args.last}; expected how many of the latest changes to show, 1 or more")
     store = Store(_path(args))
     entries = store.history()
-    if store.journal.skipped:
-        print(f"drawerfit: warning: {store.journal.skipped} line(s) of {store.journal.path} are not journal "
-              "entries (torn or edited by hand); left out", file=sys.stderr)
+    _damage_warnings(store)
     if args.last is not None:
         entries = entries[-args.last:]
     if args.json:

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import json
+import re
 import sys
 from dataclasses import fields
 
@@ -10,7 +11,9 @@ from inventory import values
 from inventory.drawer import Drawer
 from inventory.parts import KINDS, Part
 
-from .cmd_common import InputError, load_drawer
+from inventory.problems import printable
+
+from .cmd_common import InputError, load_drawer, refusal
 from .widgets.part_text import COLUMNS, row_cells
 
 
@@ -33,19 +36,22 @@ def _bound(text: str | None, flag: str, kind: str | None) -> tuple[float | None,
     if kind == "transistor":
         raise InputError(f"--{flag} applies to resistors and capacitors, not transistors")
     tries = [k for k in ("resistor", "capacitor") if kind in (None, k)]
-    first_error = None
+    first = None
     for k in tries:
+        parse = values.parse_resistance if k == "resistor" else values.parse_capacitance
         try:
-            parse = values.parse_resistance if k == "resistor" else values.parse_capacitance
             return parse(text), k
         except values.ValueFormatError as exc:
-            first_error = first_error or exc
-    raise InputError(f"--{flag}: {first_error}")
+            first = first or (parse, exc)
+    raise InputError(f"--{flag}: {refusal(text, *first)}")  # "-1k": "is below 0", not "is not a resistance"
 
 
 def select(drawer: Drawer, args) -> list[Part]:
     lo, lo_kind = _bound(args.min, "min", args.kind)
     hi, hi_kind = _bound(args.max, "max", args.kind or lo_kind)
+    if lo is not None and hi is not None and lo > hi * (1 + 1e-9):
+        raise InputError(f"--min {args.min} is above --max {args.max}: no value lies between them "
+                         "(swap them, or leave one out)")
     kind = args.kind or lo_kind or hi_kind
     place = (args.location or "").lower()
     return [
@@ -80,12 +86,22 @@ def run_list(args, path) -> int:
             out.write(json.dumps(part_json(p), ensure_ascii=False) + (",\n" if i < last else "\n"))
         out.write("]\n")
     else:
-        # The app's spelling of a row (tui/widgets/part_text.py), plus the notes.
-        _table([c.lower() for c in COLUMNS] + ["notes"], [[*row_cells(p), p.notes] for p in parts])
+        # The app's spelling of a row (tui/widgets/part_text.py), plus the notes; each cell on one line.
+        _table([c.lower() for c in COLUMNS] + ["notes"], [[one_line(c) for c in (*row_cells(p), p.notes)]
+                                                         for p in parts])
         print(f"{len(parts)} of {len(drawer.parts)} lines in {drawer.path}"
               + (f" ({len(drawer.errors)} with errors: drawerfit check)" if drawer.errors else ""),
               file=sys.stderr)
     return 0
+
+
+def one_line(text: str) -> str:
+    """A cell as one line of the table: line breaks shown as " / ", other control characters (tabs,
+    text-direction controls) escaped as the checks print them (\\t, \\u202e).  The file keeps its text."""
+    return text if text.isprintable() else printable(_BREAKS.sub(" / ", text))  # the common case stays fast
+
+
+_BREAKS = re.compile(r"\r\n|[\r\n\v\f\x1c-\x1e\x85\u2028\u2029]")
 
 
 def _table(head: list[str], rows: list[list[str]]) -> None:

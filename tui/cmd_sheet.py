@@ -30,19 +30,14 @@ def register(sub) -> None:
 
 
 def render(doc: dict, pick: int, fmt: str, source: str) -> str:
-    """The text of one format (the app calls this too)."""
+    """The text of one format (the app calls this too); text-direction controls shown (export/visible.py)."""
     from .export import bench_cir, content, html_sheet, md_sheet, pick_csv, schematic_svg
+    from .export.visible import visible
 
     sheet = content.build_sheet(doc, pick, source)  # one stage or a two-stage chain: every format covers both
-    if fmt == "html":
-        return html_sheet.render(sheet)
-    if fmt == "svg":
-        return schematic_svg.schematic_svg(sheet)
-    if fmt == "md":
-        return md_sheet.render(sheet)
-    if fmt == "csv":
-        return pick_csv.render(sheet)
-    return bench_cir.render(sheet)
+    writer = {"html": html_sheet.render, "svg": schematic_svg.schematic_svg, "md": md_sheet.render,
+              "csv": pick_csv.render, "cir": bench_cir.render}[fmt]
+    return visible(writer(sheet))
 
 
 def run_sheet(args) -> int:
@@ -54,8 +49,9 @@ def run_sheet(args) -> int:
     except SheetInputError as exc:
         print(f"drawerfit: {exc}", file=sys.stderr)
         return 2
-    except (KeyError, TypeError, ValueError, IndexError, AttributeError) as exc:  # a hand-edited figure
-        print(f"drawerfit: {args.file}: design {args.pick} cannot be drawn ({exc!r})", file=sys.stderr)
+    except (KeyError, TypeError, ValueError, IndexError, AttributeError) as exc:  # a figure the shape check let by
+        why = f"missing {exc}" if isinstance(exc, KeyError) else str(exc)
+        print(f"drawerfit: {args.file}: design {args.pick} cannot be drawn ({why})", file=sys.stderr)
         return 2
     if not args.output:
         sys.stdout.write(text)

@@ -9,6 +9,8 @@ from __future__ import annotations
 import json
 from pathlib import Path
 
+from .saved_shape import shape_problem
+
 
 class SavedFileError(Exception):
     """A saved design file that cannot be opened; the message names the file."""
@@ -40,6 +42,9 @@ def load_saved(path: str | Path) -> dict:
             raise SavedFileError(f"{path}: \"{key}\" is not a list")
     if not isinstance(doc.get("spec", {}), dict):
         raise SavedFileError(f"{path}: \"spec\" is not a map")
+    problem = shape_problem(doc)
+    if problem:
+        raise SavedFileError(f"{path}: {problem}")
     return doc
 
 

@@ -30,6 +30,7 @@ BRACKET_SLACK = 0.01  # widen [IC_lo, IC_hi] by 1 % each way: rounding, reverse-
 NEWTON_STEPS = 60
 CONTRACTIONS = 3  # bound pairs from the resistor map; each shrinks a bracket by (Vt / resistor drop)²
 BRACKET_WIDTH = 1e-4  # relative width the IBE bracket is closed to (BRACKET_SLACK dwarfs it)
+MAP_ROUNDING = 8 * np.finfo(float).eps  # relative rounding error of VTH − Vt·ln(1 + x/IS), generously
 REVERSE_DIODE_V = 0.25  # IS·exp(0.25/Vt) is ~1e-10 of a milliamp collector current
 
 
@@ -47,11 +48,22 @@ def ibe_bracket(vth, rth, re, bf, k, is_a, vt, steps=CONTRACTIONS, close=True):
     hi = np.minimum(vth / a, is_a * np.expm1(np.minimum(vth / vt, 700.0)))  # each term alone reaches VTH
     lo = np.zeros_like(hi)
     for _ in range(steps):
-        lo = np.maximum(lo, (vth - vt * np.log1p(hi / is_a)) / a)
-        hi = np.minimum(hi, (vth - vt * np.log1p(lo / is_a)) / a)
+        lo = np.maximum(lo, _resistor_map(hi, vth, a, is_a, vt, -1.0))
+        hi = np.minimum(hi, _resistor_map(lo, vth, a, is_a, vt, +1.0))
     if close:
         _newton_from_above(lo, hi, a, vth, is_a, vt)
     return lo, hi
+
+
+def _resistor_map(x, vth, a, is_a, vt, side):
+    """T(x) = (VTH − Vt·ln(1 + x/IS))/a (A), moved by its rounding error toward `side` (−1 down, +1 up).
+
+    VTH and the diode term nearly cancel when a is tiny (a huge hFE with no emitter resistor makes
+    a ≈ RTH/BF): the difference is then rounding noise / a, which could pass the other bound, cross
+    the bracket and turn the next log1p into NaN.  Moved by the noise, T stays a true bound.
+    """
+    drop = vt * np.log1p(x / is_a)
+    return (vth - drop + side * MAP_ROUNDING * (np.abs(vth) + drop)) / a
 
 
 def _newton_from_above(lo, hi, a, vth, is_a, vt):
@@ -73,7 +85,8 @@ def _newton_from_above(lo, hi, a, vth, is_a, vt):
         if np.all(np.abs(step) < 1e-12):
             break
     by_t = av * (is_a + x) >= vt
-    low = np.where(by_t, (v - vt * np.log1p(x / is_a)) / av, is_a * np.expm1(np.minimum((v - av * x) / vt, 700.0)))
+    low = np.where(by_t, _resistor_map(x, v, av, is_a, vt, -1.0),
+                   is_a * np.expm1(np.minimum((v - av * x) / vt, 700.0)))
     hi.ravel()[live] = np.minimum(hi.ravel()[live], x)
     lo.ravel()[live] = np.maximum(lo.ravel()[live], low)
 

@@ -18,6 +18,8 @@ from optimizer.physics.deck import netlist_of, stage_of_design
 from optimizer.physics.meter import meter_checks
 from optimizer.physics.stage import Stage
 
+from ..saved_shape import shape_problem
+
 ORDER = ("R1", "R2", "RB", "RC", "RE", "RE1", "RE2", "CIN", "COUT", "CE", "Q1")
 # A chain's second stage: its positions with the suffix _B (CIN_B the interstage capacitor), Q2.
 ORDER = ORDER + tuple(p + "_B" for p in ORDER[:-1]) + ("Q2",)
@@ -96,6 +98,9 @@ def load(path: str, pick_text: str | int = 1) -> tuple[dict, int]:
         raise SheetInputError(f"{path}: holds no design (the search found none)")
     if not 1 <= pick <= len(designs):
         raise SheetInputError(f"--pick: {pick}; {path} holds {len(designs)} design(s)")
+    problem = shape_problem(doc, pick)
+    if problem:
+        raise SheetInputError(f"{path}: {problem}")
     return doc, pick
 
 

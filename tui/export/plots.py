@@ -85,7 +85,7 @@ def histogram_svg(design: dict, spec: dict) -> str | None:
         ax.hist(gains, bins=30, color=INK, alpha=0.85)
         target, tol = spec.get("gain"), spec.get("gain_tol")
         if target and tol is not None:
-            sign = -1.0 if (design.get("predicted") or {}).get("gain", 1.0) < 0 else 1.0
+            sign = -1.0 if ((design.get("predicted") or {}).get("gain") or 1.0) < 0 else 1.0  # null: not known
             for edge in (target * (1 - tol), target * (1 + tol)):
                 ax.axvline(sign * edge, color=ACCENT, lw=1, ls="--")
         ax.yaxis.set_major_locator(MaxNLocator(integer=True))

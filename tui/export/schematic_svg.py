@@ -14,6 +14,7 @@ import schemdraw.elements as elm
 from optimizer import kinds
 
 from .content import Sheet
+from .visible import visible
 
 LEAF = 2.2  # drawing units along a vertical branch per part
 LEAF_H = 3.4  # along a horizontal branch (its labels sit in line: "RB_2 100k")
@@ -116,8 +117,9 @@ class Drawer:
 def _plain(text: object) -> str:
     """A label from the drawer file (a transistor's part cell) as schemdraw draws it literally: schemdraw
     parses label text as SVG markup with $…$ math, so a bare & is refused and $ starts math.  & is escaped
-    (schemdraw escapes < and > itself), $ becomes the fullwidth ＄, control characters are left out."""
-    shown = "".join(c for c in str(text) if c.isprintable())
+    (schemdraw escapes < and > itself), $ becomes the fullwidth ＄, text-direction controls are shown
+    (export/visible.py) and other control characters left out."""
+    shown = "".join(c for c in visible(str(text)) if c.isprintable())
     return shown.replace("&", "&amp;").replace("$", "\uff04")
 
 

@@ -104,7 +104,12 @@ class HistoryScreen(Screen):
             table.move_cursor(row=table.get_row_index(str(keep)))
         n = len(self.entries)
         title = f"{n} change{'s' * (n != 1)} to {self.app.inventory_path.name}; enter undoes the highlighted one"
-        self.query_one("#history-title", Label).update(title if self.entries else "No changes journaled yet.")
+        title = title if self.entries else "No changes journaled yet."
+        damaged = self.app.store.journal.damaged
+        if damaged:  # named, so the user can look at them; the other entries are all listed
+            where = ", ".join(f"{self.app.store.journal.path.name}:{n}" for n in damaged[:5])
+            title += f" (damaged journal line{'s' * (len(damaged) > 1)} left out: {where}{' …' * (len(damaged) > 5)})"
+        self.query_one("#history-title", Label).update(title)
 
     def chosen_id(self) -> int | None:
         table = self.query_one("#journal", DataTable)
