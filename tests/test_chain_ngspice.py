@@ -17,6 +17,7 @@ from optimizer.physics.crosscheck import with_bf
 from optimizer.physics.distortion import thd_of
 from tests import spice
 from tests.chain_designs import KINDS, chain
+from tests.helpers.report import report_lines
 
 pytestmark = pytest.mark.ngspice
 DEVIATIONS: dict[str, float] = {}
@@ -35,15 +36,7 @@ def summary(request):
     yield
     lines = [f"chain ngspice comparison in {time.perf_counter() - started:.1f} s; largest deviations:"]
     lines += [f"  {k}: {v:.4g}" for k, v in sorted(DEVIATIONS.items())]
-    reporter = request.config.pluginmanager.get_plugin("terminalreporter")
-    capture = request.config.pluginmanager.getplugin("capturemanager")
-    if reporter is None or capture is None:
-        print("\n".join(lines))
-        return
-    with capture.global_and_fixture_disabled():
-        reporter.write_line("")
-        for line in lines:
-            reporter.write_line(line)
+    report_lines(request, lines)
 
 
 def _crossing(freq, mag, target):

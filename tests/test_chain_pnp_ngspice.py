@@ -24,6 +24,7 @@ from tests import spice
 from tests.chain_designs import KINDS, chain
 from tests.test_chain_ngspice import simulate
 from tests.test_chain_pnp import pnp_twin
+from tests.helpers.report import report_lines
 
 pytestmark = pytest.mark.ngspice
 VCC = 12.0
@@ -46,15 +47,7 @@ def summary(request):
     yield
     lines = [f"PNP chain ngspice comparison in {time.perf_counter() - started:.1f} s; largest deviations:"]
     lines += [f"  {k}: {v:.4g}" for k, v in sorted(DEVIATIONS.items())]
-    reporter = request.config.pluginmanager.get_plugin("terminalreporter")
-    capture = request.config.pluginmanager.getplugin("capturemanager")
-    if reporter is None or capture is None:
-        print("\n".join(lines))
-        return
-    with capture.global_and_fixture_disabled():
-        reporter.write_line("")
-        for line in lines:
-            reporter.write_line(line)
+    report_lines(request, lines)
 
 
 def _named_apart(ch):

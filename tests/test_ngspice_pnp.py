@@ -28,6 +28,7 @@ from optimizer.physics.netlist import to_netlist
 from optimizer.physics.stage import COLLECTOR_FEEDBACK, COMMON_EMITTER, EMITTER_FOLLOWER, Stage
 from tests import spice
 from tests.test_ngspice_stages import generate_stage
+from tests.helpers.report import report_lines
 
 pytestmark = pytest.mark.ngspice
 
@@ -136,15 +137,7 @@ def summary(request):
     lines = [f"ngspice, real PNP circuits ({len(STAGES)} stages and the demo PNP designs) in "
              f"{time.perf_counter() - started:.1f} s; largest deviations:"]
     lines += [f"  {k}: {v:.4g}" for k, v in sorted(DEVIATIONS.items())]
-    reporter = request.config.pluginmanager.get_plugin("terminalreporter")
-    capture = request.config.pluginmanager.getplugin("capturemanager")
-    if reporter is None or capture is None:
-        print("\n".join(lines))
-        return
-    with capture.global_and_fixture_disabled():
-        reporter.write_line("")
-        for line in lines:
-            reporter.write_line(line)
+    report_lines(request, lines)
 
 
 @pytest.mark.parametrize("topology,k,stage", STAGES, ids=[f"pnp-{t}-{k}" for t, k, _ in STAGES])

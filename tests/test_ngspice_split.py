@@ -21,6 +21,7 @@ from optimizer.physics.screen import screen
 from optimizer.physics.stage import Stage
 from optimizer.physics.transistor import Transistor, is_from_vbe
 from tests.test_ngspice_stages import simulate
+from tests.helpers.report import report_lines
 
 pytestmark = pytest.mark.ngspice
 
@@ -100,15 +101,7 @@ def summary(request):
     yield
     lines = [f"ngspice, split supplies: {len(STAGES)} stages in {time.perf_counter() - started:.1f} s; "
              "largest deviations:"] + [f"  {k}: {v:.4g}" for k, v in sorted(DEVIATIONS.items())]
-    reporter = request.config.pluginmanager.get_plugin("terminalreporter")
-    capture = request.config.pluginmanager.getplugin("capturemanager")
-    if reporter is None or capture is None:
-        print("\n".join(lines))
-        return
-    with capture.global_and_fixture_disabled():
-        reporter.write_line("")
-        for line in lines:
-            reporter.write_line(line)
+    report_lines(request, lines)
 
 
 @pytest.mark.parametrize("kind,k,stage", STAGES, ids=[f"{t}-{k}" for t, k, _ in STAGES])

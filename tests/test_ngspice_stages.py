@@ -22,6 +22,7 @@ from optimizer.physics.netlist import node_names, to_netlist
 from optimizer.physics.stage import COLLECTOR_FEEDBACK, COMMON_EMITTER, EMITTER_FOLLOWER, Stage
 from optimizer.physics.transistor import Transistor, is_from_vbe
 from tests import spice
+from tests.helpers.report import report_lines
 
 pytestmark = pytest.mark.ngspice
 
@@ -162,18 +163,9 @@ def simulate(stage: Stage, f_low: float, corners: list[float], amplitudes: list[
 def summary(request):
     started = time.perf_counter()
     yield
-    reporter = request.config.pluginmanager.get_plugin("terminalreporter")
     lines = [f"ngspice comparison: {len(STAGES)} stages in {time.perf_counter() - started:.1f} s; largest deviations:"]
     lines += [f"  {k}: {v:.4g}" for k, v in sorted(DEVIATIONS.items())]
-    text = "\n".join(lines)
-    capture = request.config.pluginmanager.getplugin("capturemanager")
-    if reporter is None or capture is None:
-        print(text)
-        return
-    with capture.global_and_fixture_disabled():
-        reporter.write_line("")
-        for line in lines:
-            reporter.write_line(line)
+    report_lines(request, lines)
 
 
 SWING_FRACTIONS = (0.4, 0.9)  # of the clip-free swing: comfortably clean, and near the limit
