@@ -196,8 +196,7 @@ def search(rstock, cstock, qlines, spec, *, top=3, depth=3, progress=None, cance
         models.setdefault(q.transistor, []).append(qi)
     front = _Front(positions, sol, lambda r: _add_caps(topology, r, spec, options, cap_qty, positions, sol),
                    lambda r: _add_cap_parts(topology, r, spec, options, cap_qty, positions, sol),
-                   keep_dominated=accept is not None, spare=spare_parts, patience=patience, t0=t0, prefer=prefer,
-                   top=top)
+                   keep_dominated=accept is not None, spare=spare_parts, patience=patience, t0=t0, prefer=prefer)
     if empty_deadline is not None and deadline is not None and empty_deadline > deadline:
         front.deadline, deadline = deadline, empty_deadline  # the front enforces the earlier one once it has a design
     budget = n_min
@@ -335,7 +334,7 @@ class _Front:
     so it is dropped, which keeps memory to the front's size."""
 
     def __init__(self, positions, sol, add_caps, add_cap_parts=None, keep_dominated=False, spare=SPARE_PARTS,
-                 patience=None, t0=None, prefer=DEFAULT_PREFER, top=DEFAULT_TOP):
+                 patience=None, t0=None, prefer=DEFAULT_PREFER):
         self.positions = positions
         self.spare = spare
         self.sol = sol
@@ -353,7 +352,7 @@ class _Front:
         self.t0 = time.perf_counter() if t0 is None else t0
         self.signature = frozenset()
         self.preferred = None
-        self.prefer, self.top = prefer, top
+        self.prefer = prefer
         self.last_change_s = None
         self.quiet_until = None
         self.busy = False
